@@ -1,0 +1,170 @@
+/*
+ * mesh.h - public interface of the mesh module (prefixes mesh_, and eddy_ for
+ * the project-wide status in eddy_status.h).
+ *
+ * The mesh module is the first stage of the pipeline:
+ *
+ *     case file --(mesh_case_load)--> mesh_case --(mesh_grid_build)--> mesh_grid
+ *
+ * It reads and validates a case file (JSON), resolves materials from the
+ * case and from the built-in material library, converts every length to
+ * metres, and builds the graded tensor-product grid with constant material
+ * data per cell.  Nothing here knows about the solver or post-processing.
+ *
+ * Units: SI everywhere (m, S/m, T, A/m^2, m/s).  The case file's
+ * "length_unit" is applied on reading and kept only for display.
+ */
+#ifndef EDDY_MESH_H
+#define EDDY_MESH_H
+
+#include <stddef.h>
+
+#include "mesh/eddy_status.h"
+
+#define EDDY_VERSION "0.1.0"
+
+/* mu0 in H/m.  The exact pre-2019 value; the 2019 SI value differs by < 1e-9. */
+#define EDDY_MU0 (4.0e-7 * 3.14159265358979323846)
+
+/* ------------------------------------------------------------------------ */
+/* Materials                                                                 */
+/* ------------------------------------------------------------------------ */
+
+typedef struct {
+    char name[64];
+    double sigma;   /* electrical conductivity, S/m (>= 0) */
+    double mu_r;    /* relative permeability (> 0); for magnets the recoil value */
+    double br;      /* remanence magnitude, T (>= 0); direction from the region */
+    const char *source; /* where the values come from (static text), NULL for user data */
+} mesh_material;
+
+/* Number of entries in the built-in material library. */
+int mesh_library_count(void);
+
+/* Entry k (0 <= k < mesh_library_count()) of the built-in library, or NULL. */
+const mesh_material *mesh_library_entry(int k);
+
+/* Library entry by exact name, or NULL if there is none. */
+const mesh_material *mesh_library_find(const char *name);
+
+/* ------------------------------------------------------------------------ */
+/* Case                                                                      */
+/* ------------------------------------------------------------------------ */
+
+typedef struct {
+    char name[64];
+    int material;        /* index into mesh_case.materials, or -1 for air */
+    double box[4];       /* x0, y0, x1, y1 in m */
+    int moving;          /* 1: moves at +v along x (must span the domain in x) */
+    double mag_angle;    /* magnetisation direction, radians from +x (magnets) */
+    double jz;           /* source current density along +z, A/m^2 */
+} mesh_region;
+
+typedef struct {
+    double max_size;     /* m; 0 = automatic */
+    double min_size;     /* m; 0 = automatic */
+    double growth;       /* ratio of neighbouring cell sizes; 0 = default 1.2 */
+    int refine;          /* split every cell of the generated grid into refine x
+                          * refine equal cells (refinement studies); 0 or 1 = off */
+} mesh_params;
+
+typedef struct {
+    char name[64];           /* safe for a directory name: [A-Za-z0-9._-] */
+    char description[512];
+    char length_unit[8];     /* "m" or "mm": for display */
+    double length_scale;     /* metres per case-file length unit */
+    double x0, x1, y0, y1;   /* domain, m */
+    int x_periodic;          /* 1: periodic on the x sides, 0: A = 0 */
+    int nmat;
+    mesh_material *materials;
+    int nreg;
+    mesh_region *regions;
+    int nspeed;
+    double *speeds;          /* m/s */
+    mesh_params mesh;
+    int nwarn;
+    char (*warnings)[256];   /* non-fatal remarks found while reading */
+    char path[512];          /* the file it came from */
+} mesh_case;
+
+/*
+ * Read, parse and validate a case file.
+ *   path: file name (UTF-8 JSON).
+ *   out:  receives a new case, owned by the caller (free with mesh_case_free).
+ *         Set to NULL on error.
+ *   err:  optional; on error receives a message naming the file and the JSON
+ *         path of the offending value, e.g.
+ *         "case.json: regions[1].box: x1 must be greater than x0".
+ * Returns EDDY_OK, EDDY_ERR_IO (cannot read), EDDY_ERR_INPUT (invalid),
+ * EDDY_ERR_NOMEM.  Unknown keys are recorded in out->warnings.
+ */
+eddy_status mesh_case_load(const char *path, mesh_case **out, eddy_error *err);
+
+/* As mesh_case_load, from a NUL-terminated text; fname is used in messages. */
+eddy_status mesh_case_parse(const char *text, const char *fname, mesh_case **out,
+                            eddy_error *err);
+
+/* Free a case; accepts NULL. */
+void mesh_case_free(mesh_case *c);
+
+/* ------------------------------------------------------------------------ */
+/* Grid                                                                      */
+/* ------------------------------------------------------------------------ */
+
+/*
+ * Graded tensor-product grid with per-cell material data.
+ * Nodes (x[i], y[j]), 0 <= i < nx, 0 <= j < ny.  Cell (i, j) spans
+ * [x[i], x[i+1]] x [y[j], y[j+1]]; cell arrays have ncx * ncy entries,
+ * index i + ncx * j, with ncx = nx - 1, ncy = ny - 1.
+ */
+typedef struct {
+    int nx, ny, ncx, ncy;
+    double *x, *y;           /* node coordinates, m, strictly increasing */
+    double *nu;              /* reluctivity 1/(mu0 mu_r), m/H */
+    double *sigma;           /* conductivity, S/m (0 outside conductors) */
+    double *brx, *bry;       /* remanence components, T */
+    double *jz;              /* source current density, A/m^2 */
+    unsigned char *moving;   /* 1 in cells of moving regions */
+    short *region;           /* region index owning the cell, -1 for air */
+    int x_periodic;          /* copied from the case */
+    /* The moving band: rows jm0 <= j < jm1 hold every moving cell (0, 0 if
+     * the case has no moving region). */
+    int jm0, jm1;
+    /* Dominant spatial wavenumber of the sources used for the skin-depth
+     * rule, 1/m, and the resulting finest y-size in the conductor, m. */
+    double k_dominant, h_skin;
+} mesh_grid;
+
+/* Size of the problem before anything large is allocated. */
+typedef struct {
+    int nx, ny;
+    long nodes;
+    long unknowns;
+    double memory_bytes;     /* estimate of the peak memory of one solve */
+    double memory_limit;     /* what the machine allows (physical memory / 2) */
+} mesh_estimate;
+
+/*
+ * Build the graded grid and cell data for a case.
+ *   c:   a validated case (from mesh_case_load/parse); not modified.
+ *   out: receives the grid, owned by the caller (mesh_grid_free); NULL on error.
+ *   est: optional; receives the size estimate (also filled when the estimate
+ *        exceeds the memory limit).
+ * Returns EDDY_OK, EDDY_ERR_TOO_LARGE (the estimate exceeds the memory limit;
+ * the message gives both figures), EDDY_ERR_INPUT, EDDY_ERR_NOMEM.
+ */
+eddy_status mesh_grid_build(const mesh_case *c, mesh_grid **out, mesh_estimate *est,
+                            eddy_error *err);
+
+/* Free a grid; accepts NULL. */
+void mesh_grid_free(mesh_grid *g);
+
+/* Build only the grid axes (cheap) and report the size estimate; no cell data.
+ * Returns as mesh_grid_build. */
+eddy_status mesh_grid_estimate(const mesh_case *c, mesh_estimate *est, eddy_error *err);
+
+/* Override the memory limit used by the size check (bytes; <= 0 restores the
+ * default, half the physical memory).  For tests and batch runners. */
+void mesh_set_memory_limit(double bytes);
+
+#endif

@@ -1,0 +1,202 @@
+/*
+ * post_report.c - result.json and forces.csv, written atomically.
+ */
+#include "post/post.h"
+
+#include <cJSON.h>
+#include <errno.h>
+#include <fcntl.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+const char *post_safety_notice(void)
+{
+    return "Engineering estimate for design studies (2D, steady state, per metre of depth, "
+           "linear materials). Brakes and dampers that carry or stop people must be designed "
+           "and verified to the applicable local codes and standards by qualified, licensed "
+           "engineers. Strong permanent magnets can pinch and crush and harm pacemakers and "
+           "other implants; conductors heated by eddy currents can burn.";
+}
+
+eddy_status post_make_dir(const char *dir, eddy_error *err)
+{
+    char path[4096];
+    size_t len = strlen(dir);
+    if (len == 0 || len >= sizeof path)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "bad directory name");
+    memcpy(path, dir, len + 1);
+    for (size_t k = 1; k <= len; k++) {
+        if (path[k] != '/' && path[k] != '\0')
+            continue;
+        char keep = path[k];
+        path[k] = '\0';
+        if (mkdir(path, 0777) != 0 && errno != EEXIST)
+            return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot create directory: %s", path,
+                              strerror(errno));
+        path[k] = keep;
+    }
+    struct stat st;
+    if (stat(dir, &st) != 0 || !S_ISDIR(st.st_mode))
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: not a directory", dir);
+    return EDDY_OK;
+}
+
+eddy_status post_write_atomic(const char *path, const char *data, size_t size, eddy_error *err)
+{
+    char tmp[4200];
+    int n = snprintf(tmp, sizeof tmp, "%s.tmp.%ld", path, (long)getpid());
+    if (n < 0 || (size_t)n >= sizeof tmp)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: path too long", path);
+    int fd = open(tmp, O_WRONLY | O_CREAT | O_TRUNC, 0666);
+    if (fd < 0)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot create: %s", tmp, strerror(errno));
+    size_t done = 0;
+    while (done < size) {
+        ssize_t w = write(fd, data + done, size - done);
+        if (w < 0 && errno == EINTR)
+            continue;
+        if (w <= 0) {
+            int e = errno;
+            close(fd);
+            unlink(tmp);
+            return EDDY_RAISE(err, EDDY_ERR_IO, "%s: write failed: %s", tmp, strerror(e));
+        }
+        done += (size_t)w;
+    }
+    if (fsync(fd) != 0 || close(fd) != 0) {
+        int e = errno;
+        unlink(tmp);
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot flush: %s", tmp, strerror(e));
+    }
+    if (rename(tmp, path) != 0) {
+        int e = errno;
+        unlink(tmp);
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot rename into place: %s", path,
+                          strerror(e));
+    }
+    return EDDY_OK;
+}
+
+/* Add a number, or null where it is not finite. */
+static void add_num(cJSON *o, const char *key, double v)
+{
+    if (isfinite(v))
+        cJSON_AddNumberToObject(o, key, v);
+    else
+        cJSON_AddNullToObject(o, key);
+}
+
+static cJSON *build_json(const post_report *r)
+{
+    const mesh_case *c = r->c;
+    const mesh_grid *g = r->g;
+    cJSON *root = cJSON_CreateObject();
+    if (root == NULL)
+        return NULL;
+    cJSON_AddStringToObject(root, "name", c->name);
+    cJSON_AddStringToObject(root, "description", c->description);
+    cJSON_AddStringToObject(root, "case_file", c->path);
+    cJSON_AddStringToObject(root, "tool", "eddy2d " EDDY_VERSION);
+    cJSON *units = cJSON_AddObjectToObject(root, "units");
+    cJSON_AddStringToObject(units, "speed", "m/s");
+    cJSON_AddStringToObject(units, "force", "N/m (per metre of depth; per period for a periodic domain)");
+    cJSON_AddStringToObject(units, "loss", "W/m");
+    cJSON_AddStringToObject(units, "current_density", "A/m^2");
+    cJSON *mesh = cJSON_AddObjectToObject(root, "mesh");
+    cJSON_AddNumberToObject(mesh, "nodes_x", g->nx);
+    cJSON_AddNumberToObject(mesh, "nodes_y", g->ny);
+    cJSON_AddNumberToObject(mesh, "unknowns", (double)r->unknowns);
+    double hmin_x = INFINITY, hmin_y = INFINITY;
+    for (int i = 0; i + 1 < g->nx; i++)
+        hmin_x = fmin(hmin_x, g->x[i + 1] - g->x[i]);
+    for (int j = 0; j + 1 < g->ny; j++)
+        hmin_y = fmin(hmin_y, g->y[j + 1] - g->y[j]);
+    add_num(mesh, "min_cell_x", hmin_x);
+    add_num(mesh, "min_cell_y", hmin_y);
+    add_num(mesh, "skin_cell_size", g->h_skin);
+    add_num(mesh, "dominant_wavenumber", g->k_dominant);
+    cJSON_AddStringToObject(mesh, "x_boundary", g->x_periodic ? "periodic" : "zero");
+    cJSON *solver = cJSON_AddObjectToObject(root, "solver");
+    cJSON_AddStringToObject(solver, "scheme",
+                            "box integration, exponentially fitted convection (Scharfetter-Gummel)");
+    cJSON_AddStringToObject(solver, "linear_solver", "UMFPACK (symbolic once, numeric per speed)");
+    add_num(solver, "mesh_seconds", r->t_mesh);
+    add_num(solver, "analyse_seconds", r->t_analyse);
+    cJSON *pts = cJSON_AddArrayToObject(root, "points");
+    for (int k = 0; k < r->npoint; k++) {
+        const post_forces *f = &r->f[k];
+        const post_point_info *in = &r->info[k];
+        cJSON *p = cJSON_CreateObject();
+        if (p == NULL)
+            break;
+        cJSON_AddItemToArray(pts, p);
+        add_num(p, "speed", f->speed);
+        add_num(p, "drag_force", f->drag);
+        add_num(p, "force_x", f->force_x);
+        add_num(p, "force_y", f->force_y);
+        add_num(p, "drag_force_stress", f->drag_stress);
+        add_num(p, "force_y_stress", f->stress_y);
+        add_num(p, "loss", f->loss);
+        add_num(p, "low_speed_drag", f->low_speed_drag);
+        add_num(p, "magnetic_reynolds", f->magnetic_reynolds);
+        add_num(p, "peak_current_density", f->j_peak);
+        add_num(p, "solve_seconds", in->t_assemble + in->t_factor + in->t_solve + in->t_post);
+        cJSON *si = cJSON_AddObjectToObject(p, "solver_info");
+        add_num(si, "assemble_seconds", in->t_assemble);
+        add_num(si, "factor_seconds", in->t_factor);
+        add_num(si, "solve_seconds", in->t_solve);
+        add_num(si, "post_seconds", in->t_post);
+        add_num(si, "lu_entries", in->lnz + in->unz);
+        add_num(si, "flops", in->flops);
+    }
+    cJSON *w = cJSON_AddArrayToObject(root, "warnings");
+    for (int k = 0; k < c->nwarn; k++)
+        cJSON_AddItemToArray(w, cJSON_CreateString(c->warnings[k]));
+    cJSON_AddStringToObject(root, "notice", post_safety_notice());
+    return root;
+}
+
+static eddy_status write_csv(const char *dir, const post_report *r, eddy_error *err)
+{
+    size_t cap = 512 + (size_t)r->npoint * 256, len = 0;
+    char *buf = malloc(cap);
+    if (buf == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    len += (size_t)snprintf(buf + len, cap - len,
+                            "speed_m_per_s,drag_force_N_per_m,force_x_N_per_m,force_y_N_per_m,"
+                            "drag_force_stress_N_per_m,loss_W_per_m,low_speed_drag_N_per_m,"
+                            "magnetic_reynolds\n");
+    for (int k = 0; k < r->npoint; k++) {
+        const post_forces *f = &r->f[k];
+        len += (size_t)snprintf(buf + len, cap - len, "%.10g,%.10g,%.10g,%.10g,%.10g,%.10g,%.10g,%.6g\n",
+                                f->speed, f->drag, f->force_x, f->force_y, f->drag_stress, f->loss,
+                                f->low_speed_drag, f->magnetic_reynolds);
+    }
+    char path[4096];
+    snprintf(path, sizeof path, "%s/forces.csv", dir);
+    eddy_status s = post_write_atomic(path, buf, len, err);
+    free(buf);
+    return s;
+}
+
+eddy_status post_write_results(const char *dir, const post_report *r, eddy_error *err)
+{
+    cJSON *root = build_json(r);
+    char *text = root != NULL ? cJSON_Print(root) : NULL;
+    cJSON_Delete(root);
+    if (text == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing result.json");
+    char path[4096];
+    snprintf(path, sizeof path, "%s/result.json", dir);
+    size_t len = strlen(text);
+    text[len] = '\0';
+    eddy_status s = post_write_atomic(path, text, len, err);
+    cJSON_free(text);
+    if (s != EDDY_OK)
+        return s;
+    return write_csv(dir, r, err);
+}

@@ -1,0 +1,33 @@
+#!/bin/sh
+# Run the test programs, show their PASS/FAIL lines, and end with
+# "N passed, N failed".  A program that dies without its "#counts" line
+# counts as one failure.  $VALGRIND, if set, prefixes every C test program.
+# usage: tests/run.sh BUILD_DIR test_prog... script.sh...
+B=$1
+shift
+passed=0
+failed=0
+for t in "$@"; do
+    echo "== $t"
+    case $t in
+    *.sh) out=$(sh "tests/$t" "$B" 2>&1); rc=$? ;;
+    *) out=$(${VALGRIND:-} "$B/tests/$t" 2>&1); rc=$? ;;
+    esac
+    printf '%s\n' "$out" | grep -v '^#counts'
+    counts=$(printf '%s\n' "$out" | grep '^#counts' | tail -n 1)
+    if [ -z "$counts" ]; then
+        echo "FAIL $t: ended without a summary (exit status $rc)"
+        failed=$((failed + 1))
+        continue
+    fi
+    p=$(echo "$counts" | cut -d' ' -f2)
+    f=$(echo "$counts" | cut -d' ' -f3)
+    passed=$((passed + p))
+    failed=$((failed + f))
+    if [ "$f" -eq 0 ] && [ "$rc" -ne 0 ]; then
+        echo "FAIL $t: exit status $rc"
+        failed=$((failed + 1))
+    fi
+done
+echo "$passed passed, $failed failed"
+[ "$failed" -eq 0 ]

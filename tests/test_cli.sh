@@ -1,0 +1,93 @@
+#!/bin/sh
+# test_cli.sh - the command line: exit statuses, messages, outputs written
+# atomically and only on success.  Prints PASS/FAIL lines and "#counts".
+# usage: tests/test_cli.sh BUILD_DIR
+B=${1:-build}
+E="$B/eddy2d"
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT
+pass=0
+fail=0
+ok() { echo "PASS $1"; pass=$((pass + 1)); }
+ko() { echo "FAIL $1: $2"; fail=$((fail + 1)); }
+
+# bad input: exit 2, a message naming the file and JSON path, nothing written
+bad() { # name, case text, expected message fragment
+    printf '%s' "$2" > "$T/bad.json"
+    rm -rf "$T/out"
+    msg=$($E solve "$T/bad.json" -o "$T/out" 2>&1 >/dev/null)
+    rc=$?
+    if [ $rc -eq 2 ] && [ ! -e "$T/out" ] && echo "$msg" | grep -qF -- "$3" &&
+        echo "$msg" | grep -qF "bad.json"; then
+        ok "solve rejects $1 (exit 2, nothing written)"
+    else
+        ko "solve rejects $1" "exit $rc, out exists: $([ -e "$T/out" ] && echo yes || echo no), message: $msg"
+    fi
+}
+DOM='"domain":{"x":[0,10],"y":[-5,5]}'
+PLATE='{"material":"copper_annealed","box":[0,-2,10,0],"moving":true}'
+bad "truncated JSON" '{"name":"x","domain":{"x":[0,1' "not valid JSON"
+bad "wrong type" "{$DOM,\"regions\":[$PLATE],\"speeds\":\"fast\"}" "speeds: must be an array"
+bad "unknown material" "{$DOM,\"regions\":[$PLATE,{\"material\":\"nope\",\"box\":[1,1,2,2]}],\"speeds\":[1]}" "regions[1].material"
+bad "non-positive permeability" "{$DOM,\"materials\":{\"m\":{\"relative_permeability\":-2}},\"regions\":[$PLATE],\"speeds\":[1]}" "relative_permeability"
+bad "negative conductivity" "{$DOM,\"materials\":{\"m\":{\"conductivity\":-2}},\"regions\":[$PLATE],\"speeds\":[1]}" "conductivity"
+bad "zero-area box" "{$DOM,\"regions\":[$PLATE,{\"box\":[3,1,3,2]}],\"speeds\":[1]}" "regions[1].box: x1 must be greater than x0"
+bad "box outside the domain" "{$DOM,\"regions\":[$PLATE,{\"box\":[3,1,4,99]}],\"speeds\":[1]}" "outside the domain"
+bad "infinite number" "{$DOM,\"regions\":[$PLATE],\"speeds\":[-1e999]}" "finite"
+bad "empty speed list" "{$DOM,\"regions\":[$PLATE],\"speeds\":[]}" "speeds: must not be empty"
+bad "unknown boundary" "{\"domain\":{\"x\":[0,10],\"y\":[-5,5],\"x_boundary\":\"open\"},\"regions\":[$PLATE],\"speeds\":[1]}" "x_boundary"
+bad "unknown unit" "{\"length_unit\":\"furlong\",$DOM,\"regions\":[$PLATE],\"speeds\":[1]}" "length_unit"
+bad "moving region not spanning x" "{$DOM,\"regions\":[{\"material\":\"copper_annealed\",\"box\":[1,-2,9,0],\"moving\":true}],\"speeds\":[1]}" "span the whole x-extent"
+bad "mesh too large for memory" "{$DOM,\"regions\":[$PLATE],\"speeds\":[1],\"mesh\":{\"max_size\":0.002,\"growth\":1.01}}" "GiB"
+bad "stationary region over a moving one" "{$DOM,\"regions\":[$PLATE,{\"box\":[2,-1,3,1]}],\"speeds\":[1]}" "overlaps moving region"
+
+printf '{}' > "$T/empty.json"
+$E check "$T/empty.json" >/dev/null 2>&1
+[ $? -eq 2 ] && ok "check rejects an empty object (exit 2)" || ko "check rejects an empty object" "exit $?"
+$E solve "$T/does-not-exist.json" >/dev/null 2>&1
+rc=$?
+[ $rc -eq 2 ] && ok "a missing case file is an input error (exit 2)" || ko "a missing case file exits 2" "exit $rc"
+$E frobnicate >/dev/null 2>&1
+[ $? -eq 2 ] && ok "an unknown command exits 2" || ko "an unknown command exits 2" "exit $?"
+$E --help | grep -q "eddy2d solve CASE.json" && ok "--help shows the usage" || ko "--help" "no usage"
+$E --version | grep -Eq '^eddy2d [0-9]+\.[0-9]+\.[0-9]+$' && ok "--version" || ko "--version" "$($E --version)"
+
+# a valid solve writes result.json and forces.csv, and nothing half-written
+cat > "$T/ok.json" <<JSON
+{"name":"cli_ok","length_unit":"mm","domain":{"x":[0,40],"y":[-60,60],"x_boundary":"periodic"},
+ "regions":[{"material":"copper_annealed","box":[0,-4,40,0],"moving":true},
+            {"material":"ndfeb_35","box":[1,3,19,9],"magnetization_angle":90},
+            {"material":"ndfeb_35","box":[21,3,39,9],"magnetization_angle":-90}],
+ "speeds":[1,5,25]}
+JSON
+out=$($E solve "$T/ok.json" -o "$T/res" 2>"$T/err")
+rc=$?
+if [ $rc -eq 0 ] && [ -s "$T/res/result.json" ] && [ -s "$T/res/forces.csv" ]; then
+    ok "solve writes result.json and forces.csv (exit 0)"
+else
+    ko "solve writes its outputs" "exit $rc: $(cat "$T/err")"
+fi
+left=$(find "$T/res" -name '*.tmp.*' | wc -l)
+[ "$left" -eq 0 ] && ok "no temporary files left behind" || ko "no temporary files left" "$left found"
+n=$(grep -c '"drag_force":' "$T/res/result.json")
+[ "$n" -eq 3 ] && ok "result.json has one point per speed" || ko "result.json points" "$n"
+for key in '"nodes_x"' '"unknowns"' '"force_x"' '"force_y"' '"drag_force_stress"' '"loss"' \
+    '"low_speed_drag"' '"magnetic_reynolds"' '"solve_seconds"' '"notice"'; do
+    grep -q "$key" "$T/res/result.json" || { ko "result.json has $key" "missing"; continue; }
+    ok "result.json has $key"
+done
+rows=$(wc -l < "$T/res/forces.csv")
+head -n 1 "$T/res/forces.csv" | grep -q '^speed_m_per_s,drag_force_N_per_m' && [ "$rows" -eq 4 ] &&
+    ok "forces.csv has a header with units and one row per speed" || ko "forces.csv" "$rows rows"
+echo "$out" | grep -q "licensed engineers" && ok "the report shows the safety notice" ||
+    ko "safety notice" "not on stdout"
+# check prints the mesh summary and solves nothing
+out=$($E check "$T/ok.json")
+echo "$out" | grep -q "unknowns" && echo "$out" | grep -q "memory" &&
+    ok "check prints nodes, unknowns and memory" || ko "check summary" "$out"
+# default output folder results/<name>
+(cd "$T" && "$OLDPWD/$E" solve ok.json -q) && [ -s "$T/results/cli_ok/result.json" ] &&
+    ok "default output folder results/<name>/" || ko "default output folder" "missing"
+
+echo "#counts $pass $fail"
+[ $fail -eq 0 ]

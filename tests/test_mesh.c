@@ -1,0 +1,206 @@
+/*
+ * test_mesh.c - case reading and validation, the material library, and the
+ * properties the mesher promises (grid lines on region edges, smooth
+ * grading, cells across regions, skin-depth resolution).
+ */
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "mesh/mesh.h"
+#include "tests/check.h"
+
+#define PI 3.14159265358979323846
+/* Default growth ratio 1.2; rounding the cell count of an interval up to a
+ * whole number may make a neighbouring pair slightly steeper. */
+#define MAX_RATIO 1.2
+#define RATIO_SLACK 0.05
+
+static const char *good_case =
+    "{\"name\":\"fin-1\",\"description\":\"test\",\"length_unit\":\"mm\","
+    "\"domain\":{\"x\":[0,60],\"y\":[-120,120],\"x_boundary\":\"periodic\",\"y_boundary\":\"zero\"},"
+    "\"materials\":{\"fin\":{\"conductivity\":2.46e7,\"relative_permeability\":1.0}},"
+    "\"regions\":[{\"name\":\"fin\",\"material\":\"fin\",\"box\":[0,-5,60,5],\"moving\":true},"
+    "{\"material\":\"soft_iron_linear\",\"box\":[0,17,60,27]},"
+    "{\"material\":\"ndfeb_42\",\"box\":[2.5,7,27.5,17],\"magnetization_angle\":-90},"
+    "{\"material\":\"ndfeb_42\",\"box\":[32.5,7,57.5,17],\"magnetization_angle\":90}],"
+    "\"speeds\":[1,10,100]}";
+
+static void test_good_case(void)
+{
+    eddy_error err = {0};
+    mesh_case *c = NULL;
+    eddy_status s = mesh_case_parse(good_case, "good.json", &c, &err);
+    check(s == EDDY_OK, "a valid case parses", "%s", err.msg);
+    if (s != EDDY_OK)
+        return;
+    check_close("lengths converted from mm to m", c->regions[2].box[2], 0.0275, 1e-15, 0);
+    check(c->x_periodic == 1 && c->nspeed == 3 && c->nreg == 4, "domain, speeds and regions read",
+          "periodic %d, %d speeds, %d regions", c->x_periodic, c->nspeed, c->nreg);
+    const mesh_material *cu = mesh_library_find("copper_annealed");
+    /* IEC 60028 (1925): annealed copper 58.0 MS/m at 20 C */
+    check(cu != NULL && cu->sigma == 58.0e6 && strstr(cu->source, "IEC 60028") != NULL,
+          "library: annealed copper 58.0 MS/m, IEC 60028", "%g S/m", cu ? cu->sigma : 0.0);
+    int sourced = 1;
+    for (int k = 0; k < mesh_library_count(); k++)
+        if (mesh_library_entry(k)->source == NULL || mesh_library_entry(k)->source[0] == '\0')
+            sourced = 0;
+    check(sourced, "every library entry names its source", "%d entries", mesh_library_count());
+    int mi = c->regions[2].material;
+    check(mi >= 0 && strcmp(c->materials[mi].name, "ndfeb_42") == 0 &&
+              fabs(sin(c->regions[2].mag_angle) + 1.0) < 1e-15,
+          "library magnet resolved, angle in radians", "angle %g rad", c->regions[2].mag_angle);
+
+    mesh_grid *g = NULL;
+    mesh_estimate est;
+    s = mesh_grid_build(c, &g, &est, &err);
+    check(s == EDDY_OK, "the case meshes", "%s", err.msg);
+    if (s != EDDY_OK) {
+        mesh_case_free(c);
+        return;
+    }
+    /* every region edge is a grid line */
+    int on_lines = 1;
+    for (int r = 0; r < c->nreg; r++)
+        for (int t = 0; t < 4; t++) {
+            const double *v = (t % 2 == 0) ? g->x : g->y;
+            int n = (t % 2 == 0) ? g->nx : g->ny, hit = 0;
+            for (int k = 0; k < n; k++)
+                if (fabs(v[k] - c->regions[r].box[t]) < 1e-12)
+                    hit = 1;
+            on_lines &= hit;
+        }
+    check(on_lines, "grid lines at every region edge", "%d regions", c->nreg);
+    /* smooth grading */
+    double worst = 1.0;
+    for (int ax = 0; ax < 2; ax++) {
+        const double *v = ax == 0 ? g->x : g->y;
+        int n = ax == 0 ? g->nx : g->ny;
+        for (int k = 1; k + 1 < n; k++) {
+            double a = v[k] - v[k - 1], b = v[k + 1] - v[k];
+            double q = a > b ? a / b : b / a;
+            if (q > worst)
+                worst = q;
+        }
+    }
+    check(worst <= MAX_RATIO + RATIO_SLACK, "neighbouring cells differ by at most the growth ratio",
+          "largest ratio %.4f (growth %.2f)", worst, MAX_RATIO);
+    /* at least 4 cells across every region */
+    int fewest = 1 << 30;
+    for (int r = 0; r < c->nreg; r++) {
+        int nxr = 0, nyr = 0;
+        for (int i = 0; i + 1 < g->nx; i++)
+            if (g->x[i] >= c->regions[r].box[0] - 1e-12 && g->x[i + 1] <= c->regions[r].box[2] + 1e-12)
+                nxr++;
+        for (int j = 0; j + 1 < g->ny; j++)
+            if (g->y[j] >= c->regions[r].box[1] - 1e-12 && g->y[j + 1] <= c->regions[r].box[3] + 1e-12)
+                nyr++;
+        if (nxr < fewest)
+            fewest = nxr;
+        if (nyr < fewest)
+            fewest = nyr;
+    }
+    check(fewest >= 4, "at least 4 cells across every region", "fewest %d", fewest);
+    /* skin depth of the dominant harmonic at the highest speed (100 m/s):
+     * delta = sqrt(2 / (omega mu0 sigma)), omega = k v (common formula);
+     * the cells at the fin surfaces must be at most delta / 4 */
+    double delta = sqrt(2.0 / (g->k_dominant * 100.0 * EDDY_MU0 * 2.46e7));
+    double hs = 0.0;
+    for (int j = 0; j + 1 < g->ny; j++)
+        if (fabs(g->y[j] - 0.005) < 1e-12 || fabs(g->y[j + 1] - 0.005) < 1e-12 ||
+            fabs(g->y[j] + 0.005) < 1e-12 || fabs(g->y[j + 1] + 0.005) < 1e-12)
+            hs = fmax(hs, g->y[j + 1] - g->y[j]);
+    check(hs <= delta / 4.0 * (1 + 1e-9), "cells at the conductor surfaces resolve the skin depth",
+          "largest surface cell %.3g mm, skin depth %.3g mm", hs * 1e3, delta * 1e3);
+    check(g->jm1 > g->jm0 && g->moving[(size_t)g->ncx * (size_t)g->jm0] == 1 &&
+              g->moving[(size_t)g->ncx * (size_t)(g->jm1 - 1)] == 1, "moving band recorded", "rows %d..%d", g->jm0,
+          g->jm1);
+    check(est.unknowns == (long)(g->nx - 1) * (g->ny - 2), "unknown count for a periodic grid",
+          "%ld", est.unknowns);
+    mesh_grid_free(g);
+
+    /* the size check refuses before allocating */
+    mesh_set_memory_limit(1e5);
+    s = mesh_grid_estimate(c, &est, &err);
+    check(s == EDDY_ERR_TOO_LARGE && strstr(err.msg, "GiB") != NULL,
+          "a mesh too large for memory is refused with the estimate", "%s", err.msg);
+    mesh_set_memory_limit(0);
+    mesh_case_free(c);
+}
+
+/* Each bad input: the JSON, and a fragment the message must contain (the
+ * JSON path and the reason). */
+typedef struct {
+    const char *what;
+    const char *json;
+    const char *expect;
+} bad_case;
+
+#define DOM "\"domain\":{\"x\":[0,10],\"y\":[-5,5]}"
+#define PLATE "{\"material\":\"copper_annealed\",\"box\":[0,-2,10,0],\"moving\":true}"
+#define MAG "{\"material\":\"ndfeb_42\",\"box\":[2,1,8,2],\"magnetization_angle\":90}"
+
+static const bad_case bad_cases[] = {
+    {"truncated JSON", "{\"name\":\"x\",\"domain\":{\"x\":[0,1", "not valid JSON"},
+    {"malformed JSON", "{\"name\":\"x\",,}", "line 1, column"},
+    {"not an object", "[1,2,3]", "must be a JSON object"},
+    {"missing domain", "{\"regions\":[" PLATE "],\"speeds\":[1]}", "domain: missing"},
+    {"wrong type", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":\"fast\"}", "speeds: must be an array"},
+    {"wrong element type", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1,\"2\"]}", "speeds[1]: must be a number"},
+    {"empty speeds", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[]}", "speeds: must not be empty"},
+    {"infinite number", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1e999]}", "speeds[0]: must be a finite number"},
+    {"infinite in box", "{" DOM ",\"regions\":[{\"box\":[0,0,1e999,1]}],\"speeds\":[1]}", "regions[0].box: element 2 must be a finite number"},
+    {"unknown material", "{" DOM ",\"regions\":[" PLATE ",{\"material\":\"unobtainium\",\"box\":[1,1,2,2]}],\"speeds\":[1]}", "regions[1].material: unknown material \"unobtainium\""},
+    {"non-positive permeability", "{" DOM ",\"materials\":{\"m\":{\"relative_permeability\":0}},\"regions\":[" PLATE "],\"speeds\":[1]}", "materials.m.relative_permeability: must be positive"},
+    {"negative conductivity", "{" DOM ",\"materials\":{\"m\":{\"conductivity\":-1}},\"regions\":[" PLATE "],\"speeds\":[1]}", "materials.m.conductivity: must not be negative"},
+    {"zero-area box", "{" DOM ",\"regions\":[" PLATE ",{\"box\":[3,1,3,2]}],\"speeds\":[1]}", "regions[1].box: x1 must be greater than x0"},
+    {"inverted box", "{" DOM ",\"regions\":[" PLATE ",{\"box\":[3,2,4,1]}],\"speeds\":[1]}", "regions[1].box: y1 must be greater than y0"},
+    {"box outside the domain", "{" DOM ",\"regions\":[" PLATE ",{\"box\":[3,1,4,9]}],\"speeds\":[1]}", "regions[1].box: lies (partly) outside the domain"},
+    {"box with three numbers", "{" DOM ",\"regions\":[{\"box\":[3,1,4]}],\"speeds\":[1]}", "regions[0].box: must have exactly 4 numbers"},
+    {"unknown boundary", "{\"domain\":{\"x\":[0,10],\"y\":[-5,5],\"x_boundary\":\"open\"},\"regions\":[" PLATE "],\"speeds\":[1]}", "domain.x_boundary: unknown boundary \"open\""},
+    {"unknown y boundary", "{\"domain\":{\"x\":[0,10],\"y\":[-5,5],\"y_boundary\":\"periodic\"},\"regions\":[" PLATE "],\"speeds\":[1]}", "domain.y_boundary: unknown boundary"},
+    {"unknown unit", "{\"length_unit\":\"inch\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "length_unit: unknown unit \"inch\""},
+    {"empty domain", "{\"domain\":{\"x\":[1,1],\"y\":[-5,5]},\"regions\":[" PLATE "],\"speeds\":[1]}", "domain.x: x1 must be greater than x0"},
+    {"moving region not spanning x", "{" DOM ",\"regions\":[{\"material\":\"copper_annealed\",\"box\":[1,-2,9,0],\"moving\":true}],\"speeds\":[1]}", "must span the whole x-extent"},
+    {"stationary overlapping moving", "{" DOM ",\"regions\":[" PLATE ",{\"material\":\"ndfeb_42\",\"box\":[2,-1,8,2],\"magnetization_angle\":90}],\"speeds\":[1]}", "regions[1]: overlaps moving region"},
+    {"magnet without direction", "{" DOM ",\"regions\":[" PLATE ",{\"material\":\"ndfeb_42\",\"box\":[2,1,8,2]}],\"speeds\":[1]}", "regions[1].magnetization_angle: missing"},
+    {"duplicate key", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"speeds\":[2]}", "key \"speeds\" appears more than once"},
+    {"current and current density", "{" DOM ",\"regions\":[" PLATE ",{\"box\":[2,1,3,2],\"current\":1,\"current_density\":1}],\"speeds\":[1]}", "regions[1]: give either"},
+    {"moving must be boolean", "{" DOM ",\"regions\":[{\"material\":\"copper_annealed\",\"box\":[0,-2,10,0],\"moving\":1}],\"speeds\":[1]}", "regions[0].moving: must be true or false"},
+    {"growth out of range", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"mesh\":{\"growth\":3}}", "mesh.growth: must lie in (1, 2]"},
+    {"unsafe name", "{\"name\":\"../x\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "name: may hold only"},
+    {"no regions", "{" DOM ",\"regions\":[],\"speeds\":[1]}", "regions: must not be empty"},
+};
+
+static void test_bad_inputs(void)
+{
+    for (size_t k = 0; k < sizeof bad_cases / sizeof bad_cases[0]; k++) {
+        eddy_error err = {0};
+        mesh_case *c = NULL;
+        eddy_status s = mesh_case_parse(bad_cases[k].json, "bad.json", &c, &err);
+        char name[128];
+        snprintf(name, sizeof name, "rejects %s", bad_cases[k].what);
+        check(s == EDDY_ERR_INPUT && c == NULL && strstr(err.msg, bad_cases[k].expect) != NULL &&
+                  strncmp(err.msg, "bad.json", 8) == 0,
+              name, "message: %s", err.msg);
+        mesh_case_free(c);
+    }
+    /* an unknown key is a warning, not an error */
+    eddy_error err = {0};
+    mesh_case *c = NULL;
+    eddy_status s = mesh_case_parse("{" DOM ",\"regions\":[" PLATE "," MAG "],\"speeds\":[1],"
+                                    "\"colour\":\"red\"}",
+                                    "warn.json", &c, &err);
+    check(s == EDDY_OK && c->nwarn == 1 && strstr(c->warnings[0], "colour") != NULL,
+          "an unknown key gives a warning", "%s", c != NULL && c->nwarn ? c->warnings[0] : err.msg);
+    mesh_case_free(c);
+    s = mesh_case_load("/nonexistent/case.json", &c, &err);
+    check(s == EDDY_ERR_IO && c == NULL, "a missing file is an I/O error", "%s", err.msg);
+}
+
+int main(void)
+{
+    test_good_case();
+    test_bad_inputs();
+    return check_summary();
+}
