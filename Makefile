@@ -3,9 +3,9 @@ CC      ?= gcc
 CSTD     = -std=c11
 WARN     = -Wall -Wextra -Wshadow -Wstrict-prototypes -Werror
 OPT     ?= -O2 -g
-PKGS     = libcjson libpng
+PKGS     = libcjson libpng cairo
 PKG_CFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null | sed 's/-I/-isystem /g')
-PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null || echo -lcjson -lpng16)
+PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null || echo -lcjson -lpng16 -lcairo)
 CPPFLAGS = -D_POSIX_C_SOURCE=200809L -I. -isystem /usr/include/suitesparse $(PKG_CFLAGS)
 CFLAGS  += $(CSTD) $(WARN) $(OPT) $(SAN)
 LDLIBS   = -lumfpack -lamd -lsuitesparseconfig $(PKG_LIBS) -lm
@@ -14,12 +14,12 @@ LDFLAGS += $(SAN)
 B = build
 
 MESH_SRC   = mesh/eddy_status.c mesh/mesh_lib.c mesh/mesh_case.c mesh/mesh_grid.c
-SOLVER_SRC = solver/sol.c
-POST_SRC   = post/post_forces.c post/post_report.c
+SOLVER_SRC = solver/sol.c solver/sol_ref.c
+POST_SRC   = post/post_forces.c post/post_report.c post/post_img.c
 LIB_SRC    = $(MESH_SRC) $(SOLVER_SRC) $(POST_SRC)
 LIB_OBJ    = $(LIB_SRC:%.c=$(B)/%.o)
 
-TESTS = test_mesh test_solver
+TESTS = test_mesh test_solver test_ref test_post_img
 TEST_BIN = $(TESTS:%=$(B)/tests/%)
 
 .PHONY: all test demo deps clean asan valgrind
@@ -56,7 +56,7 @@ asan:
 	$(MAKE) B=build/asan SAN="-fsanitize=address,undefined -fno-omit-frame-pointer" OPT="-O1 -g" test
 
 valgrind: $(B)/eddy2d $(TEST_BIN)
-	@VALGRIND="valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite" \
+	@VALGRIND="valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite --suppressions=tests/valgrind.supp" \
 	  sh tests/run.sh $(B) $(TESTS) test_cli.sh
 
 clean:

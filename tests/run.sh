@@ -4,6 +4,7 @@
 # counts as one failure.  $VALGRIND, if set, prefixes every C test program.
 # usage: tests/run.sh BUILD_DIR test_prog... script.sh...
 B=$1
+export LSAN_OPTIONS="suppressions=$(pwd)/tests/lsan.supp${LSAN_OPTIONS:+:$LSAN_OPTIONS}"
 shift
 passed=0
 failed=0
