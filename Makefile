@@ -14,12 +14,13 @@ LDFLAGS += $(SAN)
 B = build
 
 MESH_SRC   = mesh/eddy_status.c mesh/mesh_lib.c mesh/mesh_case.c mesh/mesh_grid.c
-SOLVER_SRC = solver/sol.c solver/sol_ref.c
-POST_SRC   = post/post_forces.c post/post_report.c post/post_img.c
+SOLVER_SRC = solver/sol.c solver/sol_ref.c solver/sol_ref_case.c
+POST_SRC   = post/post_forces.c post/post_report.c post/post_img.c post/post_run.c \
+             post/post_fields.c post/post_brake.c
 LIB_SRC    = $(MESH_SRC) $(SOLVER_SRC) $(POST_SRC)
 LIB_OBJ    = $(LIB_SRC:%.c=$(B)/%.o)
 
-TESTS = test_mesh test_solver test_ref test_post_img
+TESTS = test_mesh test_solver test_ref test_validation test_post_img test_post_fields test_brake
 TEST_BIN = $(TESTS:%=$(B)/tests/%)
 
 .PHONY: all test demo deps clean asan valgrind
@@ -28,7 +29,8 @@ all: $(B)/eddy2d
 
 $(B)/%.o: %.c $(wildcard */*.h)
 	@mkdir -p $(dir $@)
-	$(CC) $(CPPFLAGS) $(CFLAGS) -c $< -o $@
+	@echo "  CC  $<"
+	@$(CC) $(CPPFLAGS) $(CFLAGS) -c $< -o $@
 
 $(B)/libeddy2d.a: $(LIB_OBJ)
 	ar rcs $@ $^

@@ -11,19 +11,12 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <time.h>
 #include <unistd.h>
 
 #include "mesh/mesh.h"
 #include "post/post.h"
 #include "solver/sol.h"
 
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
 
 static void usage(FILE *out)
 {
@@ -34,14 +27,20 @@ static void usage(FILE *out)
             "  eddy2d solve CASE.json [-o DIR] [-q]   solve every speed; write DIR/result.json\n"
             "                                         and DIR/forces.csv (default DIR:\n"
             "                                         results/<case name>)\n"
+            "  eddy2d reference CASE.json [-o DIR]    the same results from the layered Fourier\n"
+            "                                         reference, for a case that fits it (one\n"
+            "                                         moving non-magnetic plate, sources above it,\n"
+            "                                         optional permeable yoke above the sources)\n"
             "  eddy2d check CASE.json                 validate the case and print the mesh\n"
             "                                         summary without solving\n"
             "  eddy2d materials                       list the built-in material library\n"
             "  eddy2d --help | --version\n"
             "\n"
             "options:\n"
-            "  -o DIR   output directory\n"
-            "  -q       quiet: no table on stdout, no progress on stderr\n"
+            "  -o DIR          output directory\n"
+            "  -q              quiet: no table on stdout, no progress on stderr\n"
+            "  --no-images     do not write the pictures\n"
+            "  --no-reference  do not evaluate the layered reference beside the grid solve\n"
             "\n"
             "exit status: 0 success, 2 invalid input, 1 failure during computation\n",
             EDDY_VERSION);
@@ -109,92 +108,58 @@ static int cmd_check(const char *path)
     return 0;
 }
 
-static int cmd_solve(const char *path, const char *outdir, int quiet)
+static void progress_line(void *ctx, int k, int n, const post_forces *f)
+{
+    (void)ctx;
+    fprintf(stderr, "\r  [%d/%d] %10.4g m/s   drag %12.5g N/m   ", k + 1, n, f->speed, f->drag);
+    if (k + 1 == n)
+        fprintf(stderr, "\n");
+}
+
+static void print_table(const post_report *r)
+{
+    int ref = r->ref_drag != NULL && r->g != NULL;
+    printf("%12s %14s %14s %14s %14s %10s%s\n", "speed m/s", "drag N/m", "normal N/m", "loss W/m",
+           r->g != NULL ? "stress drag" : "drag (ref)", "Rm", ref ? "    reference drag" : "");
+    for (int k = 0; k < r->npoint; k++) {
+        const post_forces *f = &r->f[k];
+        printf("%12.5g %14.6g %14.6g %14.6g %14.6g %10.4g", f->speed, f->drag, f->force_y, f->loss,
+               f->drag_stress, f->magnetic_reynolds);
+        if (ref)
+            printf(" %18.6g", r->ref_drag[k]);
+        printf("\n");
+    }
+}
+
+static int cmd_solve(const char *path, int reference_only, const post_run_opts *o, int quiet)
 {
     eddy_error err = {0};
-    mesh_case *c = NULL;
-    mesh_grid *g = NULL;
-    sol_system *sys = NULL;
-    double *a = NULL;
-    post_forces *forces = NULL;
-    post_point_info *pinfo = NULL;
-    int progress = !quiet && isatty(2);
-
-    double t0 = now();
-    eddy_status s = mesh_case_load(path, &c, &err);
-    if (s != EDDY_OK)
-        return fail_load(s, &err);
-    print_warnings(c);
-    mesh_estimate est;
-    s = mesh_grid_build(c, &g, &est, &err);
-    double t_mesh = now() - t0;
-    if (s == EDDY_OK)
-        s = sol_system_alloc(g, &sys, &err);
-    size_t nn = g != NULL ? (size_t)g->nx * (size_t)g->ny : 0;
-    if (s == EDDY_OK) {
-        a = malloc(nn * sizeof *a);
-        forces = calloc((size_t)c->nspeed, sizeof *forces);
-        pinfo = calloc((size_t)c->nspeed, sizeof *pinfo);
-        if (a == NULL || forces == NULL || pinfo == NULL)
-            s = EDDY_RAISE(&err, EDDY_ERR_NOMEM, "out of memory");
+    post_report *r = NULL;
+    eddy_status s = reference_only ? post_run_reference(path, o, &r, &err)
+                                   : post_run_solve(path, o, &r, &err);
+    if (r != NULL && r->c != NULL)
+        print_warnings(r->c);
+    if (s != EDDY_OK) {
+        /* a case that cannot be read is the user's input problem */
+        int code = (r == NULL || r->c == NULL || s == EDDY_ERR_NOT_APPLICABLE) ? 2 : 0;
+        post_report_free(r);
+        int rc = fail(s, &err);
+        return code ? code : rc;
     }
-    sol_info info = {0};
-    if (s == EDDY_OK)
-        s = sol_analyse(sys, &info, &err);
-    double slope = 0.0;
-    if (s == EDDY_OK) { /* the static field, for the low-speed limit */
-        s = sol_solve(sys, 0.0, a, &info, &err);
-        if (s == EDDY_OK)
-            slope = post_lowspeed_slope(g, a);
+    if (!quiet) {
+        print_table(r);
+        if (r->ref_state == POST_REF_NOT_APPLICABLE && !reference_only)
+            printf("reference: the layered Fourier reference does not fit this case (%s)\n",
+                   r->ref_note);
+        else if (r->ref_state == POST_REF_APPROXIMATE || r->ref_state == POST_REF_OK ||
+                 r->ref_state == POST_REF_FAILED)
+            printf("reference: %s\n", r->ref_note);
+        printf("results in %s/ (result.json, forces.csv%s)\n", r->outdir,
+               o->images ? ", forces.png" : "");
+        printf("note: %s\n", post_safety_notice());
     }
-    if (s == EDDY_OK && !quiet)
-        fprintf(stderr, "eddy2d: %s: %d x %d nodes, %ld unknowns, %d speeds\n", c->name, g->nx,
-                g->ny, sol_unknowns(sys), c->nspeed);
-    for (int k = 0; s == EDDY_OK && k < c->nspeed; k++) {
-        double v = c->speeds[k];
-        s = sol_solve(sys, v, a, &info, &err);
-        if (s != EDDY_OK)
-            break;
-        double tp = now();
-        s = post_forces_compute(g, a, v, slope, &forces[k], &err);
-        pinfo[k] = (post_point_info){info.t_assemble, info.t_factor, info.t_solve, now() - tp,
-                                     info.lnz, info.unz, info.flops};
-        if (progress)
-            fprintf(stderr, "\r  [%d/%d] %10.4g m/s   drag %12.5g N/m   ", k + 1, c->nspeed, v,
-                    forces[k].drag);
-    }
-    if (progress)
-        fprintf(stderr, "\n");
-    if (s == EDDY_OK) {
-        char dir[4096];
-        if (outdir != NULL)
-            snprintf(dir, sizeof dir, "%s", outdir);
-        else
-            snprintf(dir, sizeof dir, "results/%s", c->name);
-        post_report rep = {c, g, sol_unknowns(sys), t_mesh, info.t_analyse, c->nspeed, forces,
-                           pinfo};
-        s = post_make_dir(dir, &err);
-        if (s == EDDY_OK)
-            s = post_write_results(dir, &rep, &err);
-        if (s == EDDY_OK && !quiet) {
-            printf("%12s %14s %14s %14s %14s %10s\n", "speed m/s", "drag N/m", "normal N/m",
-                   "loss W/m", "stress drag", "Rm");
-            for (int k = 0; k < c->nspeed; k++) {
-                const post_forces *f = &forces[k];
-                printf("%12.5g %14.6g %14.6g %14.6g %14.6g %10.4g\n", f->speed, f->drag,
-                       f->force_y, f->loss, f->drag_stress, f->magnetic_reynolds);
-            }
-            printf("results in %s/ (result.json, forces.csv)\n", dir);
-            printf("note: %s\n", post_safety_notice());
-        }
-    }
-    free(a);
-    free(forces);
-    free(pinfo);
-    sol_system_free(sys);
-    mesh_grid_free(g);
-    mesh_case_free(c);
-    return s == EDDY_OK ? 0 : fail(s, &err);
+    post_report_free(r);
+    return 0;
 }
 
 int main(int argc, char **argv)
@@ -214,15 +179,22 @@ int main(int argc, char **argv)
     }
     if (strcmp(cmd, "materials") == 0)
         return cmd_materials();
-    if (strcmp(cmd, "solve") != 0 && strcmp(cmd, "check") != 0) {
+    if (strcmp(cmd, "solve") != 0 && strcmp(cmd, "check") != 0 &&
+        strcmp(cmd, "reference") != 0) {
         fprintf(stderr, "eddy2d: error: unknown command \"%s\" (try eddy2d --help)\n", cmd);
         return 2;
     }
-    const char *casefile = NULL, *outdir = NULL;
+    const char *casefile = NULL;
     int quiet = 0;
+    post_run_opts opts;
+    post_run_opts_defaults(&opts);
     for (int k = 2; k < argc; k++) {
-        if (strcmp(argv[k], "-o") == 0 && k + 1 < argc && strcmp(cmd, "solve") == 0) {
-            outdir = argv[++k];
+        if (strcmp(argv[k], "-o") == 0 && k + 1 < argc && strcmp(cmd, "check") != 0) {
+            opts.outdir = argv[++k];
+        } else if (strcmp(argv[k], "--no-images") == 0) {
+            opts.images = 0;
+        } else if (strcmp(argv[k], "--no-reference") == 0) {
+            opts.reference = 0;
         } else if (strcmp(argv[k], "-q") == 0) {
             quiet = 1;
         } else if (strcmp(argv[k], "--help") == 0) {
@@ -244,5 +216,8 @@ int main(int argc, char **argv)
     }
     if (strcmp(cmd, "check") == 0)
         return cmd_check(casefile);
-    return cmd_solve(casefile, outdir, quiet);
+    if (!quiet && isatty(2)) {
+        opts.progress = progress_line;
+    }
+    return cmd_solve(casefile, strcmp(cmd, "reference") == 0, &opts, quiet);
 }

@@ -12,9 +12,11 @@
 #ifndef EDDY_POST_H
 #define EDDY_POST_H
 
+#include <stddef.h>
 #include <stdio.h>
 
 #include "mesh/mesh.h"
+#include "solver/sol.h"
 
 /* Forces and losses at one speed. */
 typedef struct {
@@ -56,6 +58,18 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
                                 double lowspeed_slope, post_forces *f, eddy_error *err);
 
 /*
+ * Induced current density J_z at the nodes (A/m^2), consistent with the
+ * solver's fitted fluxes (the current used for the forces): the current of
+ * the part of each node's dual cell inside moving conductors divided by that
+ * part's area; 0 at nodes not touching a moving conductor.  At a conductor
+ * surface the value is the mean over the conductor side only.
+ *   jz: output, nx*ny, caller-owned.
+ * Returns EDDY_OK or EDDY_ERR_NOMEM.
+ */
+eddy_status post_current_density(const mesh_grid *g, const double *a, double v, double *jz,
+                                 eddy_error *err);
+
+/*
  * Flux density at a point (m): the derivative of the bilinear interpolant
  * of A in the cell holding (x, y).  Returns EDDY_ERR_INPUT outside the grid.
  */
@@ -72,16 +86,73 @@ typedef struct {
     double lnz, unz, flops;
 } post_point_info;
 
-/* Everything the reports of one solve need.  All arrays have npoint entries. */
+/* Whether the layered Fourier reference applies to a case. */
+typedef enum {
+    POST_REF_NONE = 0,          /* not asked for */
+    POST_REF_NOT_APPLICABLE,    /* the case does not fit; ref_note says why */
+    POST_REF_OK,                /* fits exactly */
+    POST_REF_APPROXIMATE,       /* fits with magnets' recoil mu_r taken as 1 */
+    POST_REF_FAILED             /* fits, but the quadrature failed; ref_note says why */
+} post_ref_state;
+
+/* The result of one run (a solve, or a reference evaluation): everything
+ * the reports need.  Owns all its members; free with post_report_free.
+ * Arrays have npoint entries. */
 typedef struct {
-    const mesh_case *c;
-    const mesh_grid *g;
-    long unknowns;
-    double t_mesh, t_analyse;  /* s */
+    mesh_case *c;
+    mesh_grid *g;               /* NULL for a reference-only run */
+    const char *method;         /* static text: how the forces were computed */
+    long unknowns;              /* 0 for a reference-only run */
+    double t_mesh, t_analyse;   /* s */
     int npoint;
-    const post_forces *f;
-    const post_point_info *info;
+    post_forces *f;
+    post_point_info *info;
+    post_ref_state ref_state;
+    char ref_note[512];
+    double *ref_drag, *ref_force_y; /* N/m from the reference, NULL unless it applies */
+    char outdir[4096];          /* where the outputs went */
 } post_report;
+
+/* Free a report and everything it owns; accepts NULL. */
+void post_report_free(post_report *r);
+
+/* Options of a run. */
+typedef struct {
+    const char *outdir;         /* output folder; NULL: results/<case name> */
+    int images;                 /* 1: write the PNG pictures */
+    int reference;              /* 1: add the layered reference where it fits */
+    /* optional progress callback after each speed k (0-based) of n */
+    void (*progress)(void *ctx, int k, int n, const post_forces *f);
+    void *progress_ctx;
+} post_run_opts;
+
+/* Defaults: outdir NULL, images 1, reference 1, no progress callback. */
+void post_run_opts_defaults(post_run_opts *o);
+
+/*
+ * The whole job for one case file: read and validate it, mesh, solve the
+ * static field and every speed (one symbolic analysis, one numeric
+ * factorisation per speed), compute forces and losses, evaluate the layered
+ * reference where the case fits, and write result.json, forces.csv and the
+ * pictures into the output folder (created only after the case and the mesh
+ * are valid, so bad input writes nothing).
+ *   out: receives the report (caller frees with post_report_free); it is
+ *        also returned on a failure after the case was read, so the caller
+ *        can name the case; NULL otherwise.
+ * Returns EDDY_OK or the first error (EDDY_ERR_INPUT / EDDY_ERR_TOO_LARGE /
+ * EDDY_ERR_IO for the input; others during computation).
+ */
+eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_report **out,
+                           eddy_error *err);
+
+/*
+ * The layered Fourier reference alone for a case that fits it: the same
+ * result.json fields (drag_force, force_x, force_y, loss, low_speed_drag,
+ * magnetic_reynolds) from the reference solver.  Returns
+ * EDDY_ERR_NOT_APPLICABLE with the reason when the case does not fit.
+ */
+eddy_status post_run_reference(const char *case_path, const post_run_opts *o,
+                               post_report **out, eddy_error *err);
 
 /*
  * Write DIR/result.json and DIR/forces.csv.  Each file is written to a
@@ -271,6 +342,493 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
                                  double low_speed_slope, int ref_n, const double *ref_speed,
                                  const double *ref_drag, const double *ref_normal,
                                  const post_plot_opts *o, eddy_error *err);
+
+
+
+
+/* ------------------------------------------------------------------------ */
+/* Node fields (post_fields.c)                                               */
+/* ------------------------------------------------------------------------ */
+
+/*
+ * Field quantities of one solution on the grid.  Node arrays have nx*ny
+ * entries, index i + nx*j; cell arrays ncx*ncy entries, index i + ncx*j.
+ * Allocated by post_fields_alloc for one grid; filled by post_fields_compute.
+ */
+typedef struct {
+    int nx, ny, ncx, ncy;  /* the grid's sizes, fixed at allocation          */
+    double speed;          /* m/s of the last post_fields_compute            */
+    double *bx, *by;       /* flux density at the nodes, T                   */
+    double *bmag;          /* |B| = hypot(bx, by), T                         */
+    double *jz;            /* induced current density J_z, A/m^2 (as
+                              post_current_density; 0 away from moving
+                              conductors)                                     */
+    double *loss;          /* Joule loss density J_z^2 / sigma, W/m^3;
+                              0 at nodes touching no moving conductor         */
+    int *region;           /* per cell: region index owning it, -1 for air  */
+} post_fields;
+
+/*
+ * Allocate the arrays of a post_fields for grid g (zero-filled).
+ *   out: receives the new struct, owned by the caller (post_fields_free);
+ *        NULL on error.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (g NULL or smaller than 2 x 2 nodes),
+ * EDDY_ERR_NOMEM.
+ */
+eddy_status post_fields_alloc(const mesh_grid *g, post_fields **out, eddy_error *err);
+
+/* Free a post_fields and its arrays; accepts NULL. */
+void post_fields_free(post_fields *f);
+
+/*
+ * Fill f from the solution a (nx*ny node values of A_z, Wb/m) at speed v (m/s).
+ *
+ * B = (dA/dy, -dA/dx) at a node is the weighted mean of the corner values of
+ * the derivative of the bilinear interpolant of A in the (up to four) cells
+ * around the node.  Those corner values are the one-sided differences along
+ * the grid edges through the node; they are weighted by the size of the cell
+ * on the other side (h_- D_+ + h_+ D_-) / (h_- + h_+), which is exact for a
+ * quadratic A and so second-order at interior nodes of a smooth field, also on
+ * the graded grid.  On a zero (Dirichlet) boundary only the inner side exists
+ * and the value is first-order; on periodic x sides the cells across the side
+ * are used and the copy node i = nx-1 gets the values of node 0.
+ * Material interfaces get no special treatment: the normal component of B is
+ * continuous and its node value is unaffected, but where the permeability
+ * jumps the tangential component is discontinuous and the node value is the
+ * weighted mean of the two one-sided values (for the value on one side, use
+ * post_field_at at a point inside a cell of that side).
+ *
+ * J_z is post_current_density (consistent with the forces).  The loss density
+ * is J_z^2 times the mean resistivity 1/sigma of the moving conductor cells
+ * touching the node, weighted by the quarter-cell areas at the node (the same
+ * part of the dual cell over which the node's J_z is the mean); 0 at nodes
+ * touching no moving conductor.  Its trapezoid integral over the moving cells
+ * (cell area x mean of the four corners) equals post_forces.loss to rounding
+ * where the moving cells at each node share one sigma and nu (measured
+ * 1e-15 on the test cases); elsewhere it is an approximation of it.
+ *   g:   the grid of the solution.
+ *   a:   nx*ny, Wb/m, not modified.
+ *   v:   speed, m/s (recorded in f->speed).
+ *   f:   from post_fields_alloc for a grid of the same size.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (NULL argument, or f allocated for another
+ * grid size), EDDY_ERR_NOMEM, EDDY_ERR_NUMERIC (a non-finite value).
+ */
+eddy_status post_fields_compute(const mesh_grid *g, const double *a, double v, post_fields *f,
+                                eddy_error *err);
+
+/*
+ * Write one solution as a VTK XML RectilinearGrid file (.vtr, ASCII data),
+ * following the "XML File Formats" section of the VTK file-format
+ * documentation: VTKFile type="RectilinearGrid" > RectilinearGrid
+ * WholeExtent="0 nx-1 0 ny-1 0 0" > FieldData, then one Piece with the same
+ * Extent > PointData, CellData, Coordinates (three DataArrays x, y, z; z is
+ * the single value 0).  Point order is x fastest (index i + nx*j), as the
+ * grid's own arrays.  Array names carry their SI units:
+ *   FieldData: speed_m_per_s (1 value); metres_per_case_length_unit (1 value,
+ *              only when length_unit_label is "m", "cm", "mm" or "um": divide
+ *              coordinates by it to show case units).
+ *   PointData: A_Wb_per_m, B_T (3 components, z = 0; the Vectors attribute),
+ *              B_magnitude_T (the Scalars attribute), Jz_A_per_m2,
+ *              loss_density_W_per_m3.
+ *   CellData:  region_id (Int32: region index, -1 for air).
+ *   Coordinates: x_m, y_m, z_m (metres).
+ * Doubles are written with 9 significant digits (coordinates with 15).  The
+ * file is written to a temporary name in the same directory and renamed when
+ * complete (post_write_atomic); the directory must exist.
+ *   path:  output file name (conventionally ending in .vtr).
+ *   g, a:  the grid and the solution (nx*ny, Wb/m).
+ *   f:     fields of a, from post_fields_compute (same grid size).
+ *   speed: m/s, written to FieldData.
+ *   length_unit_label: the case's display length unit (e.g. "mm"), written
+ *          in an XML comment (characters outside [A-Za-z0-9._/ ] replaced by
+ *          '_'); NULL: omitted.  Coordinates stay in metres.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (NULL argument or size mismatch),
+ * EDDY_ERR_NUMERIC (a non-finite value), EDDY_ERR_NOMEM, EDDY_ERR_IO.
+ */
+eddy_status post_write_vtr(const char *path, const mesh_grid *g, const double *a,
+                           const post_fields *f, double speed, const char *length_unit_label,
+                           eddy_error *err);
+
+/*
+ * Sample B_x, B_y and J_z at npts equally spaced points along the segment
+ * p0 -> p1 (metres, both ends included), which must be horizontal or vertical
+ * and lie inside the grid.
+ *   B: post_field_at (derivative of the bilinear interpolant of A in the
+ *      cell holding the point; on a grid line, the cell above / to the right,
+ *      except on the top / right edge of the grid).  Exact per cell, so it
+ *      keeps the jump of tangential B at a permeability interface, but only
+ *      first-order accurate away from cell centres (B_y is constant across a
+ *      cell in x, B_x in y).
+ *   J: J_z is discontinuous at a conductor surface, so it is interpolated
+ *      bilinearly from the node values of post_current_density within one
+ *      moving conductor cell that holds the point (on a cell edge, a moving
+ *      conductor cell is preferred to a stationary neighbour); 0 when no cell
+ *      holding the point is a moving conductor.  Within conductors J is
+ *      continuous from cell to cell, as the node values are shared.
+ *   npts: 2 .. 10000000.
+ *   csv:  receives a malloc'ed NUL-terminated text (caller frees): the header
+ *         line "s_m,x_m,y_m,Bx_T,By_T,Jz_A_per_m2" then one line per point,
+ *         s = distance from p0 in m; values with 9 significant digits.
+ *   len:  optional, receives strlen(*csv).
+ * Returns EDDY_OK, EDDY_ERR_INPUT (NULL argument, npts out of range,
+ * non-finite or zero-length segment, a segment neither horizontal nor
+ * vertical, an end outside the grid), EDDY_ERR_NOMEM.  *csv is NULL on error.
+ */
+eddy_status post_line_profile(const mesh_grid *g, const double *a, double v, const double p0[2],
+                              const double p1[2], int npts, char **csv, size_t *len,
+                              eddy_error *err);
+
+
+/* ------------------------------------------------------------------------ */
+/* Brake design (post_brake.c)                                               */
+/* ------------------------------------------------------------------------ */
+/*
+ * Brake-design answers from a force-speed curve (prefix post_).
+ *
+ * Pure numerical functions: no grid, no files, no printing.  Input is a table
+ * of braking force against speed, already scaled by the caller to the whole
+ * brake (the 2D solver's N per metre of depth times the depth and the number
+ * of repeats), so forces here are in N, not N/m, unless a function says so.
+ * SI units throughout; temperatures in degrees Celsius where named temp_c.
+ *
+ * Contents
+ *   1. Monotone piecewise cubic Hermite interpolation (Fritsch and Carlson).
+ *   2. A braking-force curve F(v): the interpolant plus its low-speed limit.
+ *   3. Stopping: distance, time, peak deceleration, energy, trajectory.
+ *   4. Heating and conductivity at temperature.
+ *   5. Finite plate width: the end-effect factor.
+ *   6. Disc brakes: rpm, torque, power.
+ */
+
+/* Standard acceleration of gravity, m/s^2 (3rd CGPM 1901; ISO 80000-3). */
+#define POST_STANDARD_GRAVITY 9.80665
+
+/* Temperature coefficient of resistance at 20 C, 1/K.
+ * Annealed copper: 0.00393 (IEC 60028, the International Annealed Copper
+ * Standard).  Hard-drawn aluminium: 0.00403 (IEC 60889; from memory).  Alloys
+ * have much smaller coefficients: use the supplier's value. */
+#define POST_ALPHA_COPPER 0.00393
+#define POST_ALPHA_ALUMINIUM 0.00403
+
+/* ------------------------------------------------------------------------ */
+/* 1. Monotone piecewise cubic Hermite interpolation                         */
+/* ------------------------------------------------------------------------ */
+
+/*
+ * Node derivatives of the monotone piecewise cubic Hermite interpolant of
+ * F. N. Fritsch and R. E. Carlson, "Monotone piecewise cubic interpolation",
+ * SIAM J. Numer. Anal. 17 (1980) 238-246:
+ *   1. initial derivatives from the parabola through three neighbouring
+ *      points (centred inside, one-sided at the two ends);
+ *   2. zero derivative where the neighbouring secant slopes differ in sign
+ *      or one of them is zero, and at an end whose one-sided estimate has
+ *      the wrong sign;
+ *   3. on each interval with secant slope delta, alpha = d_k/delta and
+ *      beta = d_{k+1}/delta are scaled back into the circle
+ *      alpha^2 + beta^2 <= 9, the sufficient condition for monotonicity of
+ *      the paper.
+ * The interpolant is C1, passes through the data, is monotone on every
+ * interval (so it never leaves [min(y_k, y_k+1), max(y_k, y_k+1)] there:
+ * no overshoot), and reproduces linear data exactly, and quadratic data
+ * too where they are monotone and step 3 stays inactive (e.g. y = c x^2
+ * for x > 0): the three-point derivatives are exact for both.
+ *   n     number of points, >= 2.
+ *   x[n]  abscissae, finite, strictly increasing.
+ *   y[n]  ordinates, finite.
+ *   d[n]  output: dy/dx at the nodes, caller-owned.
+ * Returns EDDY_OK or EDDY_ERR_INPUT (n < 2, NULL array, non-finite value,
+ * x not strictly increasing).
+ */
+eddy_status post_pchip_slopes(int n, const double *x, const double *y, double *d,
+                              eddy_error *err);
+
+/*
+ * Value of the interpolant at xq, given the n >= 2 nodes x, y and the
+ * derivatives d from post_pchip_slopes (not re-validated).  Outside
+ * [x[0], x[n-1]] the cubic of the first or last interval is continued
+ * (extrapolation: no shape guarantee).  Interval found by bisection.
+ * For data that are better behaved against log x (log-spaced speeds), pass
+ * ln x to post_pchip_slopes and ln xq here.
+ */
+double post_pchip_eval(int n, const double *x, const double *y, const double *d, double xq);
+
+/* Derivative dy/dx of the interpolant at xq (same arguments and conventions
+ * as post_pchip_eval). */
+double post_pchip_deriv(int n, const double *x, const double *y, const double *d, double xq);
+
+/* ------------------------------------------------------------------------ */
+/* 2. Braking-force curve                                                    */
+/* ------------------------------------------------------------------------ */
+
+/* What the monotone cubic interpolates (section 1).  Every choice keeps the
+ * interpolant monotone on each table interval (the maps v -> ln v and
+ * ln F -> F are monotone), so it never overshoots the table. */
+typedef enum {
+    POST_INTERP_LIN = 0, /* F against v: exact for F = a + b v                */
+    POST_INTERP_LOGV,    /* F against ln v                                     */
+    POST_INTERP_LOGLOG   /* ln F against ln v: exact for any power law c v^p,
+                            so for the linear low-speed and the falling
+                            high-speed branches of a drag curve; needs F > 0 */
+} post_interp;
+
+/*
+ * A braking force F(v) >= 0 (N) tabulated at speeds v[0] < ... < v[n-1]
+ * (m/s, v[0] > 0), and its interpolant:
+ *   v >= v[0]: monotone cubic (post_pchip_*) as chosen by post_interp;
+ *              above v[n-1] the last cubic is continued (callers stay inside);
+ *   0 < v < v[0]: F = F(v[0]) v / v[0], the linear law that every eddy-
+ *              current drag follows at low speed (induced current
+ *              proportional to v while the reaction field is negligible);
+ *   v <= 0:    0.
+ * All arrays are owned by the curve (copies of the caller's table).
+ */
+typedef struct {
+    int n;
+    post_interp interp;
+    double *speed; /* n, m/s                                         */
+    double *force; /* n, N                                           */
+    double *knot;  /* n, abscissae of the interpolant (v or ln v)    */
+    double *value; /* n, ordinates of the interpolant (F or ln F)    */
+    double *slope; /* n, d(value)/d(knot) at the nodes               */
+} post_force_curve;
+
+/*
+ * Build a force curve from a table (copied).  n >= 2; speeds finite,
+ * positive, strictly increasing; forces finite and >= 0 (> 0 for
+ * POST_INTERP_LOGLOG).
+ *   interp: see post_interp.
+ *   out: receives the curve; free it with post_force_curve_free.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (the message names the bad entry) or
+ * EDDY_ERR_NOMEM.  On error *out is NULL.
+ */
+eddy_status post_force_curve_build(int n, const double *speed, const double *force,
+                                   post_interp interp, post_force_curve **out,
+                                   eddy_error *err);
+
+/* Free a curve; NULL is allowed. */
+void post_force_curve_free(post_force_curve *c);
+
+/* F(v) in N as described above. */
+double post_force_curve_eval(const post_force_curve *c, double v);
+
+/* ------------------------------------------------------------------------ */
+/* 3. Stopping                                                               */
+/* ------------------------------------------------------------------------ */
+
+/* What to stop and how far. */
+typedef struct {
+    double mass;        /* kg, > 0: the moving mass                           */
+    double extra_force; /* N, >= 0: constant retarding force added to the
+                           brake (friction, a slope's weight component);
+                           its work is not dissipated in the conductor       */
+    double from_speed;  /* m/s, v0: 0 < v0 <= highest tabulated speed         */
+    double to_speed;    /* m/s, v1: 0 < v1 < v0; v1 = 0 only if extra_force > 0 */
+    double rel_tol;     /* relative accuracy of the quadrature; 0: 1e-9;
+                           otherwise in [1e-13, 1e-3]                          */
+    post_interp interp; /* how the table is interpolated; POST_INTERP_LOGLOG is
+                           the most accurate for log-spaced speed lists (see
+                           post_stop_compute)                                  */
+    int n_samples;      /* trajectory points: 0 (none) or >= 2, <= 10^7       */
+} post_stop_input;
+
+/* Fill *in with: mass 1 kg, extra_force 0, from_speed and to_speed 0 (the
+ * caller must set them), rel_tol 0 (1e-9), interp POST_INTERP_LIN, n_samples 0. */
+void post_stop_defaults(post_stop_input *in);
+
+/* Results of one stop.  The sampled trajectory is owned by the result
+ * (one allocation); release it with post_stop_result_free. */
+typedef struct {
+    double distance;        /* m, x = integral_{v1}^{v0} m v / F_tot(v) dv      */
+    double time;            /* s, t = integral_{v1}^{v0} m / F_tot(v) dv        */
+    double peak_decel;      /* m/s^2, max of F_tot(v) / m over [v1, v0]          */
+    double peak_decel_g;    /* peak_decel / POST_STANDARD_GRAVITY                */
+    double speed_at_peak;   /* m/s, where the peak occurs                         */
+    double kinetic_energy;  /* J, m (v0^2 - v1^2) / 2                            */
+    double brake_energy;    /* J, dissipated in the conductor: integral F dx,
+                               computed as integral m v F / F_tot dv            */
+    double extra_work;      /* J, extra_force * distance                          */
+    int n_samples;          /* length of the arrays below (0: none)               */
+    double *s_speed;        /* m/s, v0 down to v1, equal steps in speed           */
+    double *s_distance;     /* m, travelled since v0                              */
+    double *s_time;         /* s, since v0                                        */
+    double *s_decel;        /* m/s^2, F_tot(v) / m                                */
+} post_stop_result;
+
+/*
+ * Stop a mass m from v0 to v1 under m dv/dt = -(F(v) + F_extra), with F the
+ * force curve of the table (section 2: monotone cubic as in->interp says,
+ * linear below the lowest tabulated speed).  With dx = v dt:
+ *   x = integral m v dv / F_tot,  t = integral m dv / F_tot,
+ *   E_brake = integral F dx = integral m v F / F_tot dv,
+ * integrated over v between the trajectory samples, each piece split at the
+ * table speeds and at v[0] (where the integrands are smooth), by adaptive
+ * bisection with 10-point Gauss-Legendre rules until, on every piece, two
+ * halves and the whole agree to rel_tol relative for all three integrals.
+ * The integrands are positive, so the totals meet rel_tol too.  Energy
+ * check for the caller: brake_energy + extra_work = kinetic_energy.
+ * Peak deceleration: the interpolant is monotone on every interval, so its
+ * maximum lies at a table speed or at v0 or v1; those are compared.
+ *
+ * Accuracy of the interpolation (thin-sheet drag F0 v w/(v^2 + w^2) from
+ * 10 log-spaced points over w/10 .. 10 w, stop from 10 w to w/10; error of
+ * the distance): F(v) 3.5 %, F(ln v) 0.17 %, ln F(ln v) 0.09 %.  For the
+ * usual log-spaced speed lists choose POST_INTERP_LOGLOG (exact for the
+ * linear low-speed branch and for power-law high-speed branches).
+ *
+ * Why v1 > 0 without an extra force: the drag falls to zero with speed
+ * (linearly), so with nothing else acting the load never comes to rest: the
+ * time to v1 grows like ln(1/v1) (the distance stays finite).  With
+ * extra_force > 0 the net force stays positive and v1 = 0 is allowed.
+ * Without an extra force every tabulated force must be > 0 (a zero force
+ * would make the time and distance infinite).
+ *
+ *   n, speed[n], force[n]  the table (N, m/s; see post_force_curve_build).
+ *   in                     the stop (see post_stop_input).
+ *   res                    output; on error it holds no allocation.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (message names the problem), EDDY_ERR_NOMEM
+ * or EDDY_ERR_NUMERIC (non-finite result, or the quadrature did not reach
+ * rel_tol within 60 bisections).
+ */
+eddy_status post_stop_compute(int n, const double *speed, const double *force,
+                              const post_stop_input *in, post_stop_result *res,
+                              eddy_error *err);
+
+/* Free the trajectory of a result and zero its array fields; NULL allowed. */
+void post_stop_result_free(post_stop_result *res);
+
+/*
+ * Is the force table fine enough?  Computes the stop (in->n_samples is
+ * ignored) from the full table and from its two halves: the points
+ * 0, 2, 4, ... and the points 0, 1, 3, 5, ... (each half keeps the first and
+ * the last point, so both cover the same speeds), and returns the larger
+ * relative change of each quantity:
+ *   rel_change_distance = (x_half - x_full) / x_full,
+ *   rel_change_time     = (t_half - t_full) / t_full   (either may be NULL).
+ * How a caller uses it: halving the points raises the interpolation error
+ * by 2^p (p >= 1), so the error of the full table is about |change| /
+ * (2^p - 1) <= |change|; accept the table when |rel_change_distance| <
+ * 0.005 (0.5 %), else add speed points where the curve bends most (around
+ * the peak of the drag).  It is an estimate, not a bound: measured on the
+ * thin-sheet drag curve (7 to 25 log-spaced points, all three
+ * interpolations) the true distance error was at most 0.43 of the change.
+ * Using both halves guards against one half's errors cancelling by chance.
+ * n >= 3.  Returns as post_stop_compute.
+ */
+eddy_status post_stop_table_change(int n, const double *speed, const double *force,
+                                   const post_stop_input *in, double *rel_change_distance,
+                                   double *rel_change_time, eddy_error *err);
+
+/* ------------------------------------------------------------------------ */
+/* 4. Heating                                                                */
+/* ------------------------------------------------------------------------ */
+
+/*
+ * Adiabatic heating rate of the conductor in the 2D section, dT/dt in K/s:
+ *   dT/dt = P / (rho c_p A)
+ *   loss           P, W per metre of depth (post_forces.loss at one speed);
+ *   area           A, m^2: cross-section of the conductor that shares the
+ *                  heat, in the plane of the 2D model; per metre of depth
+ *                  it is a volume of A m^3, so P/A is in W/m^3;
+ *   density        rho, kg/m^3;  heat_capacity  c_p, J/(kg K).
+ * Meaning: the heat spreads instantly over A and none leaves (no
+ * conduction, convection or radiation): an upper bound for a rotor or disc
+ * whose whole conducting ring passes the magnets again and again.  A long
+ * rail or fin that passes the magnets once: see post_heating_per_pass.
+ * loss >= 0, the others > 0, all finite; else EDDY_ERR_INPUT.
+ */
+eddy_status post_heating_rate(double loss, double area, double density, double heat_capacity,
+                              double *dtemp_dt, eddy_error *err);
+
+/*
+ * Temperature rise, in K, of conductor material that passes the magnets
+ * once at speed v (a fin or rail moving through the field, adiabatic):
+ *   dT = P / (rho c_p t v)
+ *   loss       P, W per metre of depth, at speed v;
+ *   thickness  t, m: conductor thickness across the gap (the band whose
+ *              material flows through the field at rho t v kg/s per metre);
+ *   speed      v, m/s, > 0.
+ * Arguments as post_heating_rate; EDDY_ERR_INPUT if not finite or out of range.
+ */
+eddy_status post_heating_per_pass(double loss, double thickness, double speed, double density,
+                                  double heat_capacity, double *dtemp, eddy_error *err);
+
+/*
+ * Temperature rise, in K, of a conductor of mass M (kg) that absorbs the
+ * energy E (J) of one stop (post_stop_result.brake_energy) adiabatically:
+ *   dT = E / (M c_p).
+ * c_p is taken constant (its rise with temperature, some percent per 100 K
+ * for copper and aluminium, is ignored); so is the fall of conductivity
+ * during the stop, which lowers the drag at low Rm (use
+ * post_sigma_at_temperature and solve again at the hot conductivity for a
+ * bound).  energy >= 0, mass and heat_capacity > 0; else EDDY_ERR_INPUT.
+ */
+eddy_status post_stop_temperature_rise(double energy, double mass, double heat_capacity,
+                                       double *dtemp, eddy_error *err);
+
+/*
+ * Conductivity at temperature, linear resistivity model:
+ *   sigma(T) = sigma_20 / (1 + alpha (T - 20 C)).
+ *   sigma_20  S/m at 20 C, > 0;  alpha  1/K at 20 C (POST_ALPHA_*), finite;
+ *   temp_c    degrees C, >= -200 (the linear model is poor at cryogenic
+ *             temperatures, where resistivity levels off at its residual value).
+ * Returns EDDY_ERR_INPUT for bad arguments or 1 + alpha (T - 20) <= 0.
+ */
+eddy_status post_sigma_at_temperature(double sigma_20, double alpha, double temp_c,
+                                      double *sigma, eddy_error *err);
+
+/* ------------------------------------------------------------------------ */
+/* 5. Finite plate width                                                     */
+/* ------------------------------------------------------------------------ */
+
+/*
+ * End-effect factor for a conducting plate of finite width under a magnet
+ * array of finite width (the Russell-Norsworthy factor: R. L. Russell and
+ * K. H. Norsworthy, "Eddy currents and wall losses in screened-rotor
+ * induction motors", Proc. IEE 105A (1958); the attribution is from memory
+ * and could not be checked against the paper, so the form below is derived
+ * afresh in post_brake.c and tested against a numerical solution):
+ *
+ *   k = 1 - tanh(p) / ( p [1 + tanh(p) tanh(q)] ),
+ *   p = pi w_a / (2 tau),   q = pi (w_p - w_a) / (2 tau),
+ *
+ *   active_width  w_a, m: width of the magnets (the field region) across the
+ *                 motion, i.e. along the 2D model's depth;
+ *   plate_width   w_p, m: plate width, >= w_a, the plate centred on the
+ *                 magnets, so it overhangs by (w_p - w_a)/2 on each side;
+ *   pole_pitch    tau, m: distance between neighbouring opposite poles along
+ *                 the motion (the field repeats every 2 tau).
+ *
+ * Use: force of the real brake ~= k * (2D force per metre) * w_a.
+ * Assumptions: low magnetic Reynolds number (the induced currents do not
+ * alter the field), a thin plate, a field uniform across w_a and zero
+ * outside it, fundamental spatial harmonic only.  The factor stands for the
+ * extra resistance of the return paths of the current at the plate edges;
+ * it multiplies the conductivity (sigma_eff = k sigma), which at low Rm
+ * is the same as multiplying the force; at higher speed solving again
+ * with sigma_eff is the usual practice (from memory).
+ * Limits: 0 < k < 1; k rises with the overhang; k -> 1 as w_a / tau -> inf;
+ * no overhang: k = 1 - tanh(p)/p; endless overhang: 1 - tanh(p)/(p (1 + tanh p)).
+ * Returns EDDY_ERR_INPUT for non-finite or non-positive widths or pitch, or
+ * plate_width < active_width.
+ */
+eddy_status post_end_effect_factor(double active_width, double plate_width, double pole_pitch,
+                                   double *factor, eddy_error *err);
+
+/* ------------------------------------------------------------------------ */
+/* 6. Disc brakes                                                            */
+/* ------------------------------------------------------------------------ */
+
+/* Speed in m/s of the mean radius r (m) of a disc turning at rpm rev/min:
+ * v = 2 pi r rpm / 60. */
+double post_disc_speed(double radius, double rpm);
+
+/* Braking torque in N m from the tangential force F (N) at mean radius r (m):
+ * T = F r. */
+double post_disc_torque(double force, double radius);
+
+/* Braking power in W: P = F v (force in N, speed in m/s).  In steady state it
+ * equals the loss in the conductor. */
+double post_brake_power(double force, double speed);
 
 
 #endif

@@ -34,6 +34,7 @@
 
 #include <math.h>
 #include <stddef.h>
+#include <stdlib.h>
 
 #define GAUSS_LO (0.5 - 0.5 / 1.7320508075688772)
 #define GAUSS_HI (0.5 + 0.5 / 1.7320508075688772)
@@ -172,7 +173,7 @@ typedef struct {
  * fluxes (fitted = 1) or from central face values (fitted = 0, the v -> 0
  * limit used for the low-speed slope). */
 static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitted,
-                         nodal_sums *out)
+                         nodal_sums *out, double *node_current, double *node_area)
 {
     size_t nx = (size_t)g->nx;
     int ncx = g->ncx, i_end = g->x_periodic ? ncx : ncx + 1;
@@ -191,7 +192,7 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
                     continue;
                 double sigma = g->sigma[kr], c = sigma * v, nu = g->nu[kr];
                 double hl = g->x[il + 1] - g->x[il], hr = g->x[ir + 1] - g->x[ir];
-                size_t row = nx * (size_t)jn, orow = nx * (size_t)(jn == j ? j + 1 : j);
+                size_t row = nx * (size_t)jn;
                 double ai = a[(size_t)i + row];
                 double aw = a[(size_t)il + row], ae = a[(size_t)ir + 1 + row];
                 double pr = fitted ? c * hr / nu : 0.0, pl = fitted ? c * hl / nu : 0.0;
@@ -199,11 +200,15 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
                 double w = 0.5 * hy, area = w * 0.5 * (hl + hr);
                 double cur = -c * w * (afr - afl); /* A per metre of depth */
                 double dadx = (ae - aw) / (hl + hr);
-                /* mean dA/dy of the bilinear field over the two quarter cells */
-                double sgn = jn == j ? 1.0 : -1.0;
-                double dyr = 0.75 * (a[(size_t)i + orow] - ai) + 0.25 * (a[(size_t)ir + 1 + orow] - ae);
-                double dyl = 0.75 * (a[(size_t)i + orow] - ai) + 0.25 * (a[(size_t)il + orow] - aw);
-                double dady = sgn * (hr * dyr + hl * dyl) / ((hl + hr) * hy);
+                /* central difference across the node in y, the pairing that
+                 * matches the scheme's y-fluxes (one-sided on the outer box) */
+                int jlo = jn > 0 ? jn - 1 : jn, jhi = jn + 1 < g->ny ? jn + 1 : jn;
+                double dady = (a[(size_t)i + nx * (size_t)jhi] - a[(size_t)i + nx * (size_t)jlo]) /
+                              (g->y[jhi] - g->y[jlo]);
+                if (node_current != NULL) {
+                    node_current[(size_t)i + row] += cur;
+                    node_area[(size_t)i + row] += area;
+                }
                 fx += cur * dadx;
                 fy += cur * dady;
                 loss += cur * cur / (sigma * area);
@@ -221,7 +226,7 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
 double post_lowspeed_slope(const mesh_grid *g, const double *a_static)
 {
     nodal_sums n;
-    nodal_forces(g, a_static, 1.0, 0, &n);
+    nodal_forces(g, a_static, 1.0, 0, &n, NULL, NULL);
     return -n.fx;
 }
 
@@ -229,7 +234,7 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
                                 double lowspeed_slope, post_forces *f, eddy_error *err)
 {
     nodal_sums n;
-    nodal_forces(g, a, v, 1, &n);
+    nodal_forces(g, a, v, 1, &n, NULL, NULL);
     double sig_t = 0.0; /* integral of sigma over the band thickness, column 0 */
     for (int j = g->jm0; j < g->jm1; j++) {
         size_t k0 = (size_t)g->ncx * (size_t)j;
@@ -251,6 +256,31 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
         f->stress_x = f->stress_y = NAN;
     if (!isfinite(n.fx) || !isfinite(n.fy) || !isfinite(n.loss))
         return EDDY_RAISE(err, EDDY_ERR_NUMERIC, "non-finite force or loss at %g m/s", v);
+    return EDDY_OK;
+}
+
+eddy_status post_current_density(const mesh_grid *g, const double *a, double v, double *jz,
+                                 eddy_error *err)
+{
+    size_t nn = (size_t)g->nx * (size_t)g->ny;
+    double *area = calloc(nn, sizeof *area);
+    if (area == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    for (size_t k = 0; k < nn; k++)
+        jz[k] = 0.0;
+    nodal_sums n;
+    nodal_forces(g, a, v, 1, &n, jz, area);
+    for (int j = 0; j < g->ny; j++) {
+        size_t row = (size_t)g->nx * (size_t)j;
+        if (g->x_periodic) { /* the copy node i = nx-1 is node 0 */
+            jz[row + (size_t)g->nx - 1] = jz[row];
+            area[row + (size_t)g->nx - 1] = area[row];
+        }
+        for (int i = 0; i < g->nx; i++)
+            if (area[row + (size_t)i] > 0.0)
+                jz[row + (size_t)i] /= area[row + (size_t)i];
+    }
+    free(area);
     return EDDY_OK;
 }
 

@@ -90,6 +90,25 @@ static void add_num(cJSON *o, const char *key, double v)
         cJSON_AddNullToObject(o, key);
 }
 
+static void add_mesh(cJSON *root, const post_report *r);
+
+static void add_reference(cJSON *root, const post_report *r)
+{
+    cJSON *ref = cJSON_AddObjectToObject(root, "reference");
+    const char *state = "not evaluated";
+    switch (r->ref_state) {
+    case POST_REF_NONE: state = "not evaluated"; break;
+    case POST_REF_NOT_APPLICABLE: state = "does not fit this case"; break;
+    case POST_REF_OK: state = "fits"; break;
+    case POST_REF_APPROXIMATE: state = "fits approximately"; break;
+    case POST_REF_FAILED: state = "failed"; break;
+    }
+    cJSON_AddBoolToObject(ref, "applicable",
+                          r->ref_state == POST_REF_OK || r->ref_state == POST_REF_APPROXIMATE);
+    cJSON_AddStringToObject(ref, "state", state);
+    cJSON_AddStringToObject(ref, "note", r->ref_note);
+}
+
 static cJSON *build_json(const post_report *r)
 {
     const mesh_case *c = r->c;
@@ -106,6 +125,53 @@ static cJSON *build_json(const post_report *r)
     cJSON_AddStringToObject(units, "force", "N/m (per metre of depth; per period for a periodic domain)");
     cJSON_AddStringToObject(units, "loss", "W/m");
     cJSON_AddStringToObject(units, "current_density", "A/m^2");
+    cJSON_AddStringToObject(root, "method", r->method != NULL ? r->method : "");
+    if (g != NULL)
+        add_mesh(root, r);
+    add_reference(root, r);
+    cJSON *pts = cJSON_AddArrayToObject(root, "points");
+    for (int k = 0; k < r->npoint; k++) {
+        const post_forces *f = &r->f[k];
+        const post_point_info *in = &r->info[k];
+        cJSON *p = cJSON_CreateObject();
+        if (p == NULL)
+            break;
+        cJSON_AddItemToArray(pts, p);
+        add_num(p, "speed", f->speed);
+        add_num(p, "drag_force", f->drag);
+        add_num(p, "force_x", f->force_x);
+        add_num(p, "force_y", f->force_y);
+        add_num(p, "drag_force_stress", f->drag_stress);
+        add_num(p, "force_y_stress", f->stress_y);
+        add_num(p, "loss", f->loss);
+        add_num(p, "low_speed_drag", f->low_speed_drag);
+        add_num(p, "magnetic_reynolds", f->magnetic_reynolds);
+        add_num(p, "peak_current_density", f->j_peak);
+        if (r->ref_drag != NULL && g != NULL) {
+            add_num(p, "reference_drag", r->ref_drag[k]);
+            add_num(p, "reference_force_y", r->ref_force_y[k]);
+        }
+        add_num(p, "solve_seconds", in->t_assemble + in->t_factor + in->t_solve + in->t_post);
+        if (g == NULL)
+            continue;
+        cJSON *si = cJSON_AddObjectToObject(p, "solver_info");
+        add_num(si, "assemble_seconds", in->t_assemble);
+        add_num(si, "factor_seconds", in->t_factor);
+        add_num(si, "solve_seconds", in->t_solve);
+        add_num(si, "post_seconds", in->t_post);
+        add_num(si, "lu_entries", in->lnz + in->unz);
+        add_num(si, "flops", in->flops);
+    }
+    cJSON *w = cJSON_AddArrayToObject(root, "warnings");
+    for (int k = 0; k < c->nwarn; k++)
+        cJSON_AddItemToArray(w, cJSON_CreateString(c->warnings[k]));
+    cJSON_AddStringToObject(root, "notice", post_safety_notice());
+    return root;
+}
+
+static void add_mesh(cJSON *root, const post_report *r)
+{
+    const mesh_grid *g = r->g;
     cJSON *mesh = cJSON_AddObjectToObject(root, "mesh");
     cJSON_AddNumberToObject(mesh, "nodes_x", g->nx);
     cJSON_AddNumberToObject(mesh, "nodes_y", g->ny);
@@ -126,39 +192,8 @@ static cJSON *build_json(const post_report *r)
     cJSON_AddStringToObject(solver, "linear_solver", "UMFPACK (symbolic once, numeric per speed)");
     add_num(solver, "mesh_seconds", r->t_mesh);
     add_num(solver, "analyse_seconds", r->t_analyse);
-    cJSON *pts = cJSON_AddArrayToObject(root, "points");
-    for (int k = 0; k < r->npoint; k++) {
-        const post_forces *f = &r->f[k];
-        const post_point_info *in = &r->info[k];
-        cJSON *p = cJSON_CreateObject();
-        if (p == NULL)
-            break;
-        cJSON_AddItemToArray(pts, p);
-        add_num(p, "speed", f->speed);
-        add_num(p, "drag_force", f->drag);
-        add_num(p, "force_x", f->force_x);
-        add_num(p, "force_y", f->force_y);
-        add_num(p, "drag_force_stress", f->drag_stress);
-        add_num(p, "force_y_stress", f->stress_y);
-        add_num(p, "loss", f->loss);
-        add_num(p, "low_speed_drag", f->low_speed_drag);
-        add_num(p, "magnetic_reynolds", f->magnetic_reynolds);
-        add_num(p, "peak_current_density", f->j_peak);
-        add_num(p, "solve_seconds", in->t_assemble + in->t_factor + in->t_solve + in->t_post);
-        cJSON *si = cJSON_AddObjectToObject(p, "solver_info");
-        add_num(si, "assemble_seconds", in->t_assemble);
-        add_num(si, "factor_seconds", in->t_factor);
-        add_num(si, "solve_seconds", in->t_solve);
-        add_num(si, "post_seconds", in->t_post);
-        add_num(si, "lu_entries", in->lnz + in->unz);
-        add_num(si, "flops", in->flops);
-    }
-    cJSON *w = cJSON_AddArrayToObject(root, "warnings");
-    for (int k = 0; k < c->nwarn; k++)
-        cJSON_AddItemToArray(w, cJSON_CreateString(c->warnings[k]));
-    cJSON_AddStringToObject(root, "notice", post_safety_notice());
-    return root;
 }
+
 
 static eddy_status write_csv(const char *dir, const post_report *r, eddy_error *err)
 {

@@ -168,4 +168,22 @@ eddy_status sol_ref_solve(const sol_ref_problem *p, const sol_ref_source *src, i
                           double v, sol_ref_result *out, eddy_error *err);
 
 
+/*
+ * Does a case fit the layered reference geometry, and with what problem?
+ * See sol_ref_case.c for the rules (one moving non-magnetic plate spanning
+ * the domain, sources along +-y or coils above it, an optional permeable
+ * yoke above the sources, nothing else but air).
+ *   c:           a validated case.
+ *   p:           receives the problem (rel_tol 1e-7).
+ *   src, nsrc:   receive a malloc'ed array of sources (caller frees; NULL
+ *                unless EDDY_OK).
+ *   approximate: set to 1 if a magnet's recoil mu_r (not 1) is taken as 1.
+ *   why:         receives the reason when the case does not fit (may be NULL).
+ * Returns EDDY_OK (fits), EDDY_ERR_NOT_APPLICABLE (does not fit; why says
+ * why), EDDY_ERR_NOMEM.
+ */
+eddy_status sol_ref_from_case(const mesh_case *c, sol_ref_problem *p, sol_ref_source **src,
+                              int *nsrc, int *approximate, char *why, size_t why_len,
+                              eddy_error *err);
+
 #endif

@@ -1,0 +1,293 @@
+/*
+ * post_run.c - one case from file to reports: mesh -> solver -> post.
+ *
+ * This is the pipeline the command line and the batch runner call.  It
+ * prints nothing; progress goes through an optional callback.
+ */
+#include "post/post.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+static double now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+void post_run_opts_defaults(post_run_opts *o)
+{
+    memset(o, 0, sizeof *o);
+    o->images = 1;
+    o->reference = 1;
+}
+
+void post_report_free(post_report *r)
+{
+    if (r == NULL)
+        return;
+    mesh_case_free(r->c);
+    mesh_grid_free(r->g);
+    free(r->f);
+    free(r->info);
+    free(r->ref_drag);
+    free(r->ref_force_y);
+    free(r);
+}
+
+/* Thickness-weighted conductivity of the moving regions, S (sigma * t). */
+static double sigma_thickness(const mesh_case *c)
+{
+    double st = 0.0;
+    for (int k = 0; k < c->nreg; k++) {
+        const mesh_region *r = &c->regions[k];
+        if (r->moving && r->material >= 0)
+            st += c->materials[r->material].sigma * (r->box[3] - r->box[1]);
+    }
+    return st;
+}
+
+/* Evaluate the layered reference at every speed of r (where it fits). */
+static eddy_status add_reference(post_report *r, int fill_forces, eddy_error *err)
+{
+    sol_ref_problem p;
+    sol_ref_source *src = NULL;
+    int nsrc = 0, approx = 0;
+    eddy_status s = sol_ref_from_case(r->c, &p, &src, &nsrc, &approx, r->ref_note,
+                                      sizeof r->ref_note, err);
+    if (s == EDDY_ERR_NOT_APPLICABLE) {
+        r->ref_state = POST_REF_NOT_APPLICABLE;
+        return fill_forces ? EDDY_RAISE(err, s, "%s: the layered reference does not fit this "
+                                                "case: %s", r->c->path, r->ref_note)
+                           : EDDY_OK;
+    }
+    if (s != EDDY_OK)
+        return s;
+    r->ref_drag = malloc((size_t)r->npoint * sizeof *r->ref_drag);
+    r->ref_force_y = malloc((size_t)r->npoint * sizeof *r->ref_force_y);
+    if (r->ref_drag == NULL || r->ref_force_y == NULL) {
+        free(src);
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    }
+    r->ref_state = approx ? POST_REF_APPROXIMATE : POST_REF_OK;
+    snprintf(r->ref_note, sizeof r->ref_note, "%s",
+             approx ? "layered Fourier reference; magnets' recoil permeability taken as 1"
+                    : "layered Fourier reference; exact for this geometry in free space");
+    /* low-speed slope of the reference from a speed at Rm = 1e-4 */
+    double st = sigma_thickness(r->c);
+    double v_small = st > 0 ? 1e-4 / (EDDY_MU0 * st) : 1e-6;
+    double slope = 0.0;
+    if (fill_forces) {
+        sol_ref_result q;
+        s = sol_ref_solve(&p, src, nsrc, v_small, &q, err);
+        if (s != EDDY_OK) {
+            free(src);
+            return s;
+        }
+        slope = -q.force_x / v_small;
+    }
+    for (int k = 0; k < r->npoint; k++) {
+        double v = r->c->speeds[k], sgn = v > 0 ? 1.0 : (v < 0 ? -1.0 : 0.0);
+        sol_ref_result q;
+        double t0 = now();
+        s = sol_ref_solve(&p, src, nsrc, v, &q, err);
+        if (s != EDDY_OK) {
+            r->ref_state = POST_REF_FAILED;
+            snprintf(r->ref_note, sizeof r->ref_note, "layered reference failed at %g m/s: %.400s",
+                     v, err != NULL ? err->msg : eddy_strerror(s));
+            free(r->ref_drag);
+            free(r->ref_force_y);
+            r->ref_drag = r->ref_force_y = NULL;
+            free(src);
+            return fill_forces ? s : EDDY_OK;
+        }
+        r->ref_drag[k] = -q.force_x * sgn;
+        r->ref_force_y[k] = q.force_y;
+        if (fill_forces) {
+            post_forces *f = &r->f[k];
+            f->speed = v;
+            f->force_x = q.force_x;
+            f->force_y = q.force_y;
+            f->drag = -q.force_x * sgn;
+            f->stress_ok = 1;
+            f->stress_x = q.force_x;
+            f->stress_y = q.force_y;
+            f->drag_stress = f->drag;
+            f->loss = q.loss;
+            f->low_speed_drag = slope * fabs(v);
+            f->magnetic_reynolds = EDDY_MU0 * st * fabs(v);
+            f->j_peak = NAN;
+            r->info[k].t_post = now() - t0;
+        }
+    }
+    free(src);
+    return EDDY_OK;
+}
+
+static eddy_status prepare(const char *case_path, const post_run_opts *o, post_report **out,
+                           eddy_error *err)
+{
+    post_report *r = calloc(1, sizeof *r);
+    if (r == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    *out = r;
+    eddy_status s = mesh_case_load(case_path, &r->c, err);
+    if (s != EDDY_OK)
+        return s;
+    r->npoint = r->c->nspeed;
+    r->f = calloc((size_t)r->npoint, sizeof *r->f);
+    r->info = calloc((size_t)r->npoint, sizeof *r->info);
+    if (r->f == NULL || r->info == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    if (o->outdir != NULL)
+        snprintf(r->outdir, sizeof r->outdir, "%s", o->outdir);
+    else
+        snprintf(r->outdir, sizeof r->outdir, "results/%s", r->c->name);
+    return EDDY_OK;
+}
+
+static eddy_status write_pictures(post_report *r, int k, const double *a, eddy_error *err);
+
+eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_report **out,
+                           eddy_error *err)
+{
+    post_run_opts defaults;
+    if (o == NULL) {
+        post_run_opts_defaults(&defaults);
+        o = &defaults;
+    }
+    *out = NULL;
+    double t0 = now();
+    eddy_status s = prepare(case_path, o, out, err);
+    post_report *r = *out;
+    if (s != EDDY_OK) {
+        if (r->c == NULL) {
+            post_report_free(r);
+            *out = NULL;
+        }
+        return s;
+    }
+    r->method = "grid: box integration with exponentially fitted convection";
+    s = mesh_grid_build(r->c, &r->g, NULL, err);
+    r->t_mesh = now() - t0;
+    if (s != EDDY_OK)
+        return s;
+    sol_system *sys = NULL;
+    double *a = NULL;
+    s = sol_system_alloc(r->g, &sys, err);
+    if (s == EDDY_OK) {
+        r->unknowns = sol_unknowns(sys);
+        a = malloc((size_t)r->g->nx * (size_t)r->g->ny * sizeof *a);
+        if (a == NULL)
+            s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the field");
+    }
+    sol_info info = {0};
+    if (s == EDDY_OK)
+        s = sol_analyse(sys, &info, err);
+    r->t_analyse = info.t_analyse;
+    if (s == EDDY_OK)
+        s = post_make_dir(r->outdir, err);
+    double slope = 0.0;
+    if (s == EDDY_OK) { /* the static field, for the low-speed limit */
+        s = sol_solve(sys, 0.0, a, &info, err);
+        if (s == EDDY_OK)
+            slope = post_lowspeed_slope(r->g, a);
+    }
+    for (int k = 0; s == EDDY_OK && k < r->npoint; k++) {
+        double v = r->c->speeds[k];
+        s = sol_solve(sys, v, a, &info, err);
+        if (s != EDDY_OK)
+            break;
+        double tp = now();
+        s = post_forces_compute(r->g, a, v, slope, &r->f[k], err);
+        if (s == EDDY_OK && o->images)
+            s = write_pictures(r, k, a, err);
+        r->info[k] = (post_point_info){info.t_assemble, info.t_factor, info.t_solve, now() - tp,
+                                       info.lnz, info.unz, info.flops};
+        if (s == EDDY_OK && o->progress != NULL)
+            o->progress(o->progress_ctx, k, r->npoint, &r->f[k]);
+    }
+    free(a);
+    sol_system_free(sys);
+    if (s == EDDY_OK && o->reference)
+        s = add_reference(r, 0, err);
+    if (s == EDDY_OK && o->images)
+        s = write_pictures(r, -1, NULL, err);
+    if (s == EDDY_OK)
+        s = post_write_results(r->outdir, r, err);
+    return s;
+}
+
+eddy_status post_run_reference(const char *case_path, const post_run_opts *o,
+                               post_report **out, eddy_error *err)
+{
+    post_run_opts defaults;
+    if (o == NULL) {
+        post_run_opts_defaults(&defaults);
+        o = &defaults;
+    }
+    *out = NULL;
+    eddy_status s = prepare(case_path, o, out, err);
+    post_report *r = *out;
+    if (s != EDDY_OK) {
+        if (r->c == NULL) {
+            post_report_free(r);
+            *out = NULL;
+        }
+        return s;
+    }
+    r->method = "layered Fourier reference (independent of the grid)";
+    s = add_reference(r, 1, err);
+    if (s == EDDY_OK)
+        s = post_make_dir(r->outdir, err);
+    if (s == EDDY_OK && o->images)
+        s = write_pictures(r, -1, NULL, err);
+    if (s == EDDY_OK)
+        s = post_write_results(r->outdir, r, err);
+    return s;
+}
+
+/* Pictures: the force-speed plot after the sweep (k < 0). */
+static eddy_status write_pictures(post_report *r, int k, const double *a, eddy_error *err)
+{
+    (void)a;
+    if (k >= 0)
+        return EDDY_OK;
+    int n = r->npoint;
+    double *sp = malloc((size_t)n * 3 * sizeof *sp);
+    if (sp == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    double *dr = sp + n, *fy = sp + 2 * n;
+    double slope = NAN;
+    for (int q = 0; q < n; q++) {
+        sp[q] = r->f[q].speed;
+        dr[q] = r->f[q].drag;
+        fy[q] = r->f[q].force_y;
+        if (r->f[q].speed != 0.0 && isnan(slope))
+            slope = r->f[q].low_speed_drag / fabs(r->f[q].speed);
+    }
+    post_plot_opts po;
+    post_plot_opts_defaults(&po);
+    char title[160];
+    snprintf(title, sizeof title, "%s: drag and normal force", r->c->name);
+    po.title = title;
+    po.case_name = r->c->name;
+    po.version = "eddy2d " EDDY_VERSION;
+    char path[4200];
+    snprintf(path, sizeof path, "%s/forces.png.tmp", r->outdir);
+    int nref = r->ref_drag != NULL && r->g != NULL ? n : 0;
+    eddy_status s = post_plot_forces_png(path, n, sp, dr, fy, slope, nref, sp, r->ref_drag,
+                                         r->ref_force_y, &po, err);
+    free(sp);
+    if (s != EDDY_OK)
+        return s;
+    char final[4200];
+    snprintf(final, sizeof final, "%s/forces.png", r->outdir);
+    if (rename(path, final) != 0)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot rename into place", final);
+    return EDDY_OK;
+}
