@@ -20,10 +20,10 @@ POST_SRC   = post/post_forces.c post/post_report.c post/post_img.c post/post_run
 LIB_SRC    = $(MESH_SRC) $(SOLVER_SRC) $(POST_SRC)
 LIB_OBJ    = $(LIB_SRC:%.c=$(B)/%.o)
 
-TESTS = test_mesh test_solver test_ref test_validation test_post_img test_post_fields test_brake
+TESTS = test_mesh test_solver test_ref test_validation test_post_img test_post_fields test_outputs test_brake
 TEST_BIN = $(TESTS:%=$(B)/tests/%)
 
-.PHONY: all test demo deps clean asan valgrind
+.PHONY: all test demo deps clean asan valgrind convergence
 .SECONDARY:
 all: $(B)/eddy2d
 
@@ -52,6 +52,10 @@ deps:
 
 demo: $(B)/eddy2d
 	$(B)/eddy2d solve cases/sled_fin.json -o results/sled_fin
+
+# Unknowns vs error against the layered reference, graded and uniform grids.
+convergence: $(B)/tests/conv_table
+	@$(B)/tests/conv_table
 
 # Sanitizer and valgrind runs of the whole test suite.
 asan:

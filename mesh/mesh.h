@@ -68,6 +68,13 @@ typedef struct {
                           * refine equal cells (refinement studies); 0 or 1 = off */
 } mesh_params;
 
+/* A line along which B and J are exported (a Hall-probe scan). */
+typedef struct {
+    char name[64];           /* safe for a file name */
+    double p0[2], p1[2];     /* end points, m; the line is horizontal or vertical */
+    int points;              /* samples, >= 2 */
+} mesh_profile;
+
 typedef struct {
     char name[64];           /* safe for a directory name: [A-Za-z0-9._-] */
     char description[512];
@@ -82,6 +89,8 @@ typedef struct {
     int nspeed;
     double *speeds;          /* m/s */
     mesh_params mesh;
+    int nprofile;
+    mesh_profile *profiles;
     int nwarn;
     char (*warnings)[256];   /* non-fatal remarks found while reading */
     char path[512];          /* the file it came from */

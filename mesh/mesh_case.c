@@ -458,10 +458,93 @@ static eddy_status read_mesh(reader *r, const cJSON *root)
     return EDDY_OK;
 }
 
+static int safe_name(const char *s)
+{
+    size_t len = strlen(s);
+    if (len == 0 || len >= 64 || s[0] == '.')
+        return 0;
+    for (size_t k = 0; k < len; k++) {
+        char ch = s[k];
+        if (!((ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') || (ch >= '0' && ch <= '9') ||
+              ch == '_' || ch == '-' || ch == '.'))
+            return 0;
+    }
+    return 1;
+}
+
+static eddy_status read_profiles(reader *r, const cJSON *root)
+{
+    static const char *const keys[] = {"name", "from", "to", "points", NULL};
+    mesh_case *c = r->c;
+    const cJSON *pr = cJSON_GetObjectItemCaseSensitive(root, "profiles");
+    if (pr == NULL)
+        return EDDY_OK;
+    if (!cJSON_IsArray(pr))
+        return bad(r, "profiles", "must be an array of line profiles");
+    int n = cJSON_GetArraySize(pr);
+    if (n > 100)
+        return bad(r, "profiles", "too many profiles (%d, at most 100)", n);
+    c->profiles = calloc((size_t)(n > 0 ? n : 1), sizeof *c->profiles);
+    if (c->profiles == NULL)
+        return EDDY_RAISE(r->err, EDDY_ERR_NOMEM, "out of memory");
+    int k = 0;
+    double tol = 1e-9 * fmax(c->x1 - c->x0, c->y1 - c->y0);
+    for (const cJSON *e = pr->child; e != NULL; e = e->next, k++) {
+        char p[64], q[96];
+        snprintf(p, sizeof p, "profiles[%d]", k);
+        if (!cJSON_IsObject(e))
+            return bad(r, p, "must be an object");
+        TRY(check_keys(r, e, p, keys));
+        mesh_profile *m = &c->profiles[k];
+        const char *s = NULL;
+        TRY(get_string(r, e, "name", p, 0, &s));
+        snprintf(q, sizeof q, "%s.name", p);
+        if (s != NULL && !safe_name(s))
+            return bad(r, q, "may hold only letters, digits, '_', '-' and '.' (it names a file)");
+        snprintf(m->name, sizeof m->name, "%s", s != NULL ? s : "profile");
+        if (s == NULL)
+            snprintf(m->name, sizeof m->name, "profile%d", k);
+        const cJSON *it = cJSON_GetObjectItemCaseSensitive(e, "from");
+        snprintf(q, sizeof q, "%s.from", p);
+        if (it == NULL)
+            return bad(r, q, "missing ([x, y] is required)");
+        TRY(get_numbers(r, it, q, 2, m->p0));
+        it = cJSON_GetObjectItemCaseSensitive(e, "to");
+        snprintf(q, sizeof q, "%s.to", p);
+        if (it == NULL)
+            return bad(r, q, "missing ([x, y] is required)");
+        TRY(get_numbers(r, it, q, 2, m->p1));
+        for (int t = 0; t < 2; t++) {
+            m->p0[t] *= c->length_scale;
+            m->p1[t] *= c->length_scale;
+        }
+        if (!(fabs(m->p0[0] - m->p1[0]) <= tol) == !(fabs(m->p0[1] - m->p1[1]) <= tol))
+            return bad(r, p, "the line must be horizontal or vertical and not a point");
+        for (int t = 0; t < 2; t++) {
+            const double *pt = t == 0 ? m->p0 : m->p1;
+            if (pt[0] < c->x0 - tol || pt[0] > c->x1 + tol || pt[1] < c->y0 - tol ||
+                pt[1] > c->y1 + tol) {
+                snprintf(q, sizeof q, "%s.%s", p, t == 0 ? "from" : "to");
+                return bad(r, q, "lies outside the domain");
+            }
+        }
+        double pts = 201;
+        int found = 0;
+        TRY(get_number(r, e, "points", p, 0, &pts, &found));
+        snprintf(q, sizeof q, "%s.points", p);
+        if (!(pts >= 2 && pts <= 1e6 && pts == floor(pts)))
+            return bad(r, q, "must be a whole number from 2 to 1000000");
+        m->points = (int)pts;
+    }
+    c->nprofile = n;
+    return EDDY_OK;
+}
+
 static eddy_status parse_root(reader *r, const cJSON *root)
 {
     static const char *const keys[] = {"name",    "description", "length_unit", "domain",
-                                       "materials", "regions",   "speeds",      "mesh", NULL};
+                                       "materials", "regions",   "speeds",      "mesh",
+                                       "profiles", NULL};
     mesh_case *c = r->c;
     if (!cJSON_IsObject(root))
         return bad(r, "(top level)", "must be a JSON object");
@@ -469,17 +552,9 @@ static eddy_status parse_root(reader *r, const cJSON *root)
     const char *s = NULL;
     TRY(get_string(r, root, "name", "", 0, &s));
     if (s != NULL) {
-        size_t len = strlen(s);
-        if (len == 0 || len >= sizeof c->name)
-            return bad(r, "name", "must have 1 to %d characters", (int)sizeof c->name - 1);
-        for (size_t k = 0; k < len; k++) {
-            char ch = s[k];
-            int ok = (ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') ||
-                     (ch >= '0' && ch <= '9') || ch == '_' || ch == '-' || ch == '.';
-            if (!ok || (k == 0 && ch == '.'))
-                return bad(r, "name", "may hold only letters, digits, '_', '-' and '.' (it "
-                                      "names the result folder), and not start with '.'");
-        }
+        if (!safe_name(s))
+            return bad(r, "name", "must have 1 to 63 characters, only letters, digits, '_', '-' "
+                                  "and '.' (it names the result folder), and not start with '.'");
         snprintf(c->name, sizeof c->name, "%s", s);
     }
     TRY(get_string(r, root, "description", "", 0, &s));
@@ -500,6 +575,7 @@ static eddy_status parse_root(reader *r, const cJSON *root)
     TRY(read_regions(r, root));
     TRY(read_speeds(r, root));
     TRY(read_mesh(r, root));
+    TRY(read_profiles(r, root));
     return EDDY_OK;
 }
 
@@ -616,5 +692,6 @@ void mesh_case_free(mesh_case *c)
     free(c->regions);
     free(c->speeds);
     free(c->warnings);
+    free(c->profiles);
     free(c);
 }

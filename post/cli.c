@@ -39,7 +39,10 @@ static void usage(FILE *out)
             "options:\n"
             "  -o DIR          output directory\n"
             "  -q              quiet: no table on stdout, no progress on stderr\n"
-            "  --no-images     do not write the pictures\n"
+            "  --no-images     do not write the pictures (PNG)\n"
+            "  --vtk           also write a VTK field file (.vtr) per speed\n"
+            "  --full-domain   pictures of the whole domain instead of the region of\n"
+            "                  interest (magnets, conductors and a margin)\n"
             "  --no-reference  do not evaluate the layered reference beside the grid solve\n"
             "\n"
             "exit status: 0 success, 2 invalid input, 1 failure during computation\n",
@@ -154,8 +157,8 @@ static int cmd_solve(const char *path, int reference_only, const post_run_opts *
         else if (r->ref_state == POST_REF_APPROXIMATE || r->ref_state == POST_REF_OK ||
                  r->ref_state == POST_REF_FAILED)
             printf("reference: %s\n", r->ref_note);
-        printf("results in %s/ (result.json, forces.csv%s)\n", r->outdir,
-               o->images ? ", forces.png" : "");
+        printf("results in %s/ (result.json, forces.csv%s%s)\n", r->outdir,
+               o->images ? ", pictures" : "", o->vtk && r->g != NULL ? ", .vtr fields" : "");
         printf("note: %s\n", post_safety_notice());
     }
     post_report_free(r);
@@ -193,6 +196,10 @@ int main(int argc, char **argv)
             opts.outdir = argv[++k];
         } else if (strcmp(argv[k], "--no-images") == 0) {
             opts.images = 0;
+        } else if (strcmp(argv[k], "--vtk") == 0) {
+            opts.vtk = 1;
+        } else if (strcmp(argv[k], "--full-domain") == 0) {
+            opts.full_domain = 1;
         } else if (strcmp(argv[k], "--no-reference") == 0) {
             opts.reference = 0;
         } else if (strcmp(argv[k], "-q") == 0) {

@@ -120,13 +120,16 @@ void post_report_free(post_report *r);
 typedef struct {
     const char *outdir;         /* output folder; NULL: results/<case name> */
     int images;                 /* 1: write the PNG pictures */
+    int vtk;                    /* 1: write a VTK .vtr field file per speed */
+    int full_domain;            /* 1: pictures of the whole domain, 0: cropped */
     int reference;              /* 1: add the layered reference where it fits */
     /* optional progress callback after each speed k (0-based) of n */
     void (*progress)(void *ctx, int k, int n, const post_forces *f);
     void *progress_ctx;
 } post_run_opts;
 
-/* Defaults: outdir NULL, images 1, reference 1, no progress callback. */
+/* Defaults: outdir NULL, images 1, vtk 0, full_domain 0, reference 1, no
+ * progress callback. */
 void post_run_opts_defaults(post_run_opts *o);
 
 /*
@@ -144,6 +147,14 @@ void post_run_opts_defaults(post_run_opts *o);
  */
 eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_report **out,
                            eddy_error *err);
+
+/*
+ * The window the field pictures show (m): every non-air region (moving
+ * conductors only over the x-range of the stationary parts; a periodic
+ * domain's full period), with a margin, clipped to the domain; the whole
+ * domain if full is non-zero.
+ */
+void post_view_window(const mesh_case *c, int full, double view[4]);
 
 /*
  * The layered Fourier reference alone for a case that fits it: the same

@@ -23,6 +23,7 @@ void post_run_opts_defaults(post_run_opts *o)
 {
     memset(o, 0, sizeof *o);
     o->images = 1;
+    o->vtk = 0;
     o->reference = 1;
 }
 
@@ -150,7 +151,9 @@ static eddy_status prepare(const char *case_path, const post_run_opts *o, post_r
     return EDDY_OK;
 }
 
-static eddy_status write_pictures(post_report *r, int k, const double *a, eddy_error *err);
+static eddy_status write_field_outputs(post_report *r, const post_run_opts *o, int k,
+                                       const double *a, post_fields *pf, eddy_error *err);
+static eddy_status write_force_plot(post_report *r, eddy_error *err);
 
 eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_report **out,
                            eddy_error *err)
@@ -178,7 +181,10 @@ eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_r
         return s;
     sol_system *sys = NULL;
     double *a = NULL;
+    post_fields *pf = NULL;
     s = sol_system_alloc(r->g, &sys, err);
+    if (s == EDDY_OK)
+        s = post_fields_alloc(r->g, &pf, err);
     if (s == EDDY_OK) {
         r->unknowns = sol_unknowns(sys);
         a = malloc((size_t)r->g->nx * (size_t)r->g->ny * sizeof *a);
@@ -204,19 +210,20 @@ eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_r
             break;
         double tp = now();
         s = post_forces_compute(r->g, a, v, slope, &r->f[k], err);
-        if (s == EDDY_OK && o->images)
-            s = write_pictures(r, k, a, err);
+        if (s == EDDY_OK && (o->images || o->vtk || r->c->nprofile > 0))
+            s = write_field_outputs(r, o, k, a, pf, err);
         r->info[k] = (post_point_info){info.t_assemble, info.t_factor, info.t_solve, now() - tp,
                                        info.lnz, info.unz, info.flops};
         if (s == EDDY_OK && o->progress != NULL)
             o->progress(o->progress_ctx, k, r->npoint, &r->f[k]);
     }
     free(a);
+    post_fields_free(pf);
     sol_system_free(sys);
     if (s == EDDY_OK && o->reference)
         s = add_reference(r, 0, err);
     if (s == EDDY_OK && o->images)
-        s = write_pictures(r, -1, NULL, err);
+        s = write_force_plot(r, err);
     if (s == EDDY_OK)
         s = post_write_results(r->outdir, r, err);
     return s;
@@ -245,18 +252,147 @@ eddy_status post_run_reference(const char *case_path, const post_run_opts *o,
     if (s == EDDY_OK)
         s = post_make_dir(r->outdir, err);
     if (s == EDDY_OK && o->images)
-        s = write_pictures(r, -1, NULL, err);
+        s = write_force_plot(r, err);
     if (s == EDDY_OK)
         s = post_write_results(r->outdir, r, err);
     return s;
 }
 
-/* Pictures: the force-speed plot after the sweep (k < 0). */
-static eddy_status write_pictures(post_report *r, int k, const double *a, eddy_error *err)
+/* The region of interest: every non-air region, moving conductors only
+ * over the sources' x-range, plus a margin; the whole domain on request. */
+void post_view_window(const mesh_case *c, int full, double view[4])
 {
-    (void)a;
-    if (k >= 0)
-        return EDDY_OK;
+    view[0] = c->x0;
+    view[1] = c->y0;
+    view[2] = c->x1;
+    view[3] = c->y1;
+    if (full)
+        return;
+    double x0 = INFINITY, x1 = -INFINITY, y0 = INFINITY, y1 = -INFINITY;
+    for (int k = 0; k < c->nreg; k++) {
+        const mesh_region *g = &c->regions[k];
+        if (g->material < 0 && g->jz == 0.0)
+            continue;
+        y0 = fmin(y0, g->box[1]);
+        y1 = fmax(y1, g->box[3]);
+        if (g->moving)
+            continue;
+        x0 = fmin(x0, g->box[0]);
+        x1 = fmax(x1, g->box[2]);
+    }
+    if (!(x1 > x0)) { /* nothing stationary: the whole width */
+        x0 = c->x0;
+        x1 = c->x1;
+    }
+    if (!(y1 > y0)) {
+        y0 = c->y0;
+        y1 = c->y1;
+    }
+    double m = 0.25 * fmax(x1 - x0, y1 - y0);
+    if (c->x_periodic) { /* one period is the natural picture */
+        x0 = c->x0;
+        x1 = c->x1;
+    } else {
+        x0 -= m;
+        x1 += m;
+    }
+    y0 -= 0.5 * m;
+    y1 += 0.5 * m;
+    view[0] = fmax(x0, c->x0);
+    view[1] = fmax(y0, c->y0);
+    view[2] = fmin(x1, c->x1);
+    view[3] = fmin(y1, c->y1);
+}
+
+static eddy_status write_field_outputs(post_report *r, const post_run_opts *o, int k,
+                                       const double *a, post_fields *pf, eddy_error *err)
+{
+    const mesh_case *c = r->c;
+    const mesh_grid *g = r->g;
+    double v = c->speeds[k];
+    eddy_status s = post_fields_compute(g, a, v, pf, err);
+    if (s != EDDY_OK)
+        return s;
+    char path[4400], stem[64];
+    snprintf(stem, sizeof stem, "%02d_%.6gmps", k, v);
+    if (o->images) {
+        size_t nc = (size_t)g->ncx * (size_t)g->ncy;
+        unsigned char *mask = malloc(nc);
+        double *boxes = malloc((size_t)(c->nreg > 0 ? c->nreg : 1) * 4 * sizeof *boxes);
+        if (mask == NULL || boxes == NULL) {
+            free(mask);
+            free(boxes);
+            return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+        }
+        for (size_t q = 0; q < nc; q++)
+            mask[q] = g->moving[q] && g->sigma[q] > 0.0;
+        int nb = 0;
+        for (int q = 0; q < c->nreg; q++) {
+            if (c->regions[q].material < 0 && c->regions[q].jz == 0.0)
+                continue;
+            memcpy(&boxes[4 * nb++], c->regions[q].box, 4 * sizeof *boxes);
+        }
+        post_map_opts mo;
+        post_map_opts_defaults(&mo);
+        char title[200];
+        mo.title = title;
+        mo.length_unit = c->length_unit;
+        mo.length_scale = 1.0 / c->length_scale;
+        post_view_window(c, o->full_domain, mo.view);
+        mo.n_flux_lines = 24;
+        mo.outlines = boxes;
+        mo.n_outlines = nb;
+        mo.case_name = c->name;
+        mo.speed = v;
+        mo.version = "eddy2d " EDDY_VERSION;
+        /* induced current density, diverging map symmetric about zero */
+        snprintf(title, sizeof title, "%s: induced current density at %.4g m/s", c->name, v);
+        mo.quantity = "J_z";
+        mo.unit_label = "MA/m^2";
+        mo.value_scale = 1e-6;
+        mo.diverging = 1;
+        snprintf(path, sizeof path, "%s/jz_%s.png", r->outdir, stem);
+        s = post_map_png(path, g->nx, g->ny, g->x, g->y, pf->jz, mask, a, &mo, err);
+        /* flux density magnitude, sequential map */
+        if (s == EDDY_OK) {
+            snprintf(title, sizeof title, "%s: flux density at %.4g m/s", c->name, v);
+            mo.quantity = "|B|";
+            mo.unit_label = "T";
+            mo.value_scale = 1.0;
+            mo.diverging = 0;
+            snprintf(path, sizeof path, "%s/b_%s.png", r->outdir, stem);
+            s = post_map_png(path, g->nx, g->ny, g->x, g->y, pf->bmag, NULL, a, &mo, err);
+        }
+        free(mask);
+        free(boxes);
+        if (s != EDDY_OK)
+            return s;
+    }
+    if (o->vtk) {
+        snprintf(path, sizeof path, "%s/field_%s.vtr", r->outdir, stem);
+        s = post_write_vtr(path, g, a, pf, v, c->length_unit, err);
+        if (s != EDDY_OK)
+            return s;
+    }
+    for (int q = 0; q < c->nprofile; q++) {
+        const mesh_profile *pr = &c->profiles[q];
+        char *csv = NULL;
+        size_t len = 0;
+        s = post_line_profile(g, a, v, pr->p0, pr->p1, pr->points, &csv, &len, err);
+        if (s != EDDY_OK)
+            return s;
+        snprintf(path, sizeof path, "%s/profile_%s_%s.csv", r->outdir, pr->name, stem);
+        s = post_write_atomic(path, csv, len, err);
+        free(csv);
+        if (s != EDDY_OK)
+            return s;
+    }
+    return EDDY_OK;
+}
+
+/* The force-speed plot after the sweep. */
+static eddy_status write_force_plot(post_report *r, eddy_error *err)
+{
     int n = r->npoint;
     double *sp = malloc((size_t)n * 3 * sizeof *sp);
     if (sp == NULL)

@@ -168,7 +168,7 @@ static const bad_case bad_cases[] = {
     {"current and current density", "{" DOM ",\"regions\":[" PLATE ",{\"box\":[2,1,3,2],\"current\":1,\"current_density\":1}],\"speeds\":[1]}", "regions[1]: give either"},
     {"moving must be boolean", "{" DOM ",\"regions\":[{\"material\":\"copper_annealed\",\"box\":[0,-2,10,0],\"moving\":1}],\"speeds\":[1]}", "regions[0].moving: must be true or false"},
     {"growth out of range", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"mesh\":{\"growth\":3}}", "mesh.growth: must lie in (1, 2]"},
-    {"unsafe name", "{\"name\":\"../x\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "name: may hold only"},
+    {"unsafe name", "{\"name\":\"../x\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "name: must have 1 to 63 characters, only letters"},
     {"no regions", "{" DOM ",\"regions\":[],\"speeds\":[1]}", "regions: must not be empty"},
 };
 
