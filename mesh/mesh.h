@@ -64,6 +64,8 @@ typedef struct {
     double max_size;     /* m; 0 = automatic */
     double min_size;     /* m; 0 = automatic */
     double growth;       /* ratio of neighbouring cell sizes; 0 = default 1.2 */
+    double design_speed; /* m/s; the mesher resolves speeds up to
+                          * max(|speeds|, design_speed); 0 = off */
     int refine;          /* split every cell of the generated grid into refine x
                           * refine equal cells (refinement studies); 0 or 1 = off */
 } mesh_params;

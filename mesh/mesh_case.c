@@ -425,7 +425,8 @@ static eddy_status read_speeds(reader *r, const cJSON *root)
 
 static eddy_status read_mesh(reader *r, const cJSON *root)
 {
-    static const char *const keys[] = {"max_size", "min_size", "growth", "refine", NULL};
+    static const char *const keys[] = {"max_size", "min_size", "growth", "refine", "design_speed",
+                                       NULL};
     mesh_case *c = r->c;
     const cJSON *m = cJSON_GetObjectItemCaseSensitive(root, "mesh");
     if (m == NULL)
@@ -452,6 +453,12 @@ static eddy_status read_mesh(reader *r, const cJSON *root)
     if (f4 && !(refine >= 1 && refine <= 64 && refine == floor(refine)))
         return bad(r, "mesh.refine", "must be a whole number from 1 to 64 (got %g)", refine);
     c->mesh.refine = (int)refine;
+    double ds = 0;
+    int f5 = 0;
+    TRY(get_number(r, m, "design_speed", "mesh", 0, &ds, &f5));
+    if (f5 && !(ds >= 0))
+        return bad(r, "mesh.design_speed", "must not be negative (m/s)");
+    c->mesh.design_speed = ds;
     c->mesh.max_size = mx * c->length_scale;
     c->mesh.min_size = mn * c->length_scale;
     c->mesh.growth = gr;
@@ -544,7 +551,7 @@ static eddy_status parse_root(reader *r, const cJSON *root)
 {
     static const char *const keys[] = {"name",    "description", "length_unit", "domain",
                                        "materials", "regions",   "speeds",      "mesh",
-                                       "profiles", NULL};
+                                       "profiles", "variants", NULL};
     mesh_case *c = r->c;
     if (!cJSON_IsObject(root))
         return bad(r, "(top level)", "must be a JSON object");
@@ -576,6 +583,9 @@ static eddy_status parse_root(reader *r, const cJSON *root)
     TRY(read_speeds(r, root));
     TRY(read_mesh(r, root));
     TRY(read_profiles(r, root));
+    if (cJSON_GetObjectItemCaseSensitive(root, "variants") != NULL)
+        TRY(warn(r, "%s: variants: ignored here; `eddy2d batch` expands them into cases",
+                 r->fname));
     return EDDY_OK;
 }
 

@@ -292,7 +292,7 @@ static int is_source(const mesh_case *c, const mesh_region *r)
 static int plan_build(const mesh_case *c, grid_plan *p)
 {
     memset(p, 0, sizeof *p);
-    double vmax = 0.0;
+    double vmax = c->mesh.design_speed;
     for (int k = 0; k < c->nspeed; k++)
         if (fabs(c->speeds[k]) > vmax)
             vmax = fabs(c->speeds[k]);

@@ -110,6 +110,9 @@ typedef struct {
     post_ref_state ref_state;
     char ref_note[512];
     double *ref_drag, *ref_force_y; /* N/m from the reference, NULL unless it applies */
+    const char *ordering;       /* fill-reducing ordering used (static text) */
+    double factor_bytes;        /* UMFPACK's estimated peak memory of one factorisation */
+    int threads;                /* speeds solved at once */
     char outdir[4096];          /* where the outputs went */
 } post_report;
 
@@ -123,6 +126,10 @@ typedef struct {
     int vtk;                    /* 1: write a VTK .vtr field file per speed */
     int full_domain;            /* 1: pictures of the whole domain, 0: cropped */
     int reference;              /* 1: add the layered reference where it fits */
+    int threads;                /* speeds solved at once (0: the machine's cores); fewer
+                                 * when their factorisations would not fit in memory */
+    double max_memory;          /* bytes allowed for one factorisation (0: no limit
+                                 * beyond the machine's) */
     /* optional progress callback after each speed k (0-based) of n */
     void (*progress)(void *ctx, int k, int n, const post_forces *f);
     void *progress_ctx;
@@ -841,5 +848,244 @@ double post_disc_torque(double force, double radius);
  * equals the loss in the conductor. */
 double post_brake_power(double force, double speed);
 
+
+/* ------------------------------------------------------------------------ */
+/* Batch runs (post_batch.c): case discovery, variant expansion, content     */
+/* hashes, resume decisions, per-case status files and the batch summary.    */
+/* The front end (post/cli_batch.c) runs each case in a child process.       */
+/* ------------------------------------------------------------------------ */
+/*
+ * A batch folder OUT holds OUT/batch.json (the plan), one folder per case
+ * OUT/<case>/ with case.json (the expanded case as solved), the outputs of
+ * post_run_solve, input.hash (the completion marker, written after
+ * result.json) or error.json (a failed case), and OUT/summary.csv,
+ * summary.json and summary.html.  Every file is written through
+ * post_write_atomic.  Nothing here prints, forks or exits.
+ *
+ * Variants: a case may hold "variants": {"PATH": [value, ...], ...}.  PATH
+ * is a dotted path into the case: segments separated by '.'; in an object a
+ * segment is a key, in an array a 0-based index or the "name" of an element
+ * object (an index wins if a name is all digits); keys holding a '.' cannot
+ * be addressed.  Each PATH must already exist in the case (a variant changes
+ * a value, it does not add one); "name" and "variants" cannot vary; no PATH
+ * may lie inside another.  The cartesian product of the value lists (the
+ * first key varying slowest) gives the cases.  A case is named
+ * <name>__<label>-<value>[__<label>-<value>...], label being the shortest
+ * trailing part of the path (whole segments) that tells the paths apart, a
+ * value shown as written (array elements joined with '_'), any character
+ * outside [A-Za-z0-9._-] as '_'; if any such name would be longer than 63
+ * characters, not unique, or show an object, every variant of the case is
+ * named <name>__v001, <name>__v002, ... instead.  The values of each case
+ * are recorded in batch.json and in the summary.  The expanded case text
+ * has "name" first and no "variants".
+ */
+#include <stdint.h>
+
+#define POST_BATCH_NAME_MAX 64       /* case names: 1..63 characters, as mesh_case.name */
+#define POST_BATCH_MAX_KEYS 32       /* variant paths per case file */
+#define POST_BATCH_MAX_VALUES 1000   /* values per variant path */
+#define POST_BATCH_MAX_VARIANTS 10000 /* combinations per case file */
+
+/* FNV-1a 64-bit hash (Fowler, Noll, Vo) of size bytes, continuing from h
+ * (start with POST_FNV1A64_BASIS).  For change detection, not security. */
+#define POST_FNV1A64_BASIS 0xcbf29ce484222325ULL
+uint64_t post_fnv1a64(const void *data, size_t size, uint64_t h);
+
+/* What a case folder holds for the case's current input. */
+typedef enum {
+    POST_CASE_NOT_RUN = 0, /* no complete result and no recorded failure   */
+    POST_CASE_OK,          /* result.json and a matching input.hash        */
+    POST_CASE_INVALID,     /* error.json: invalid input                    */
+    POST_CASE_FAILED,      /* error.json: failure during computation       */
+    POST_CASE_TIMEOUT,     /* error.json: exceeded the case time limit     */
+    POST_CASE_CRASHED      /* error.json: the case's process died          */
+} post_case_state;
+
+/* "not run", "ok", "invalid", "failed", "timeout", "crashed" (static). */
+const char *post_case_state_name(post_case_state s);
+
+/* One case of a batch (after variant expansion).  Owns its strings. */
+typedef struct {
+    char name[POST_BATCH_NAME_MAX]; /* folder under OUT and the case's "name"    */
+    char *source;        /* the case file it came from, as given               */
+    char *text;          /* expanded case (JSON text, ends in a newline); NULL
+                            when the source itself is invalid                   */
+    int nvalue;          /* variant values of this case (0: no variants)        */
+    char **paths;        /* nvalue dotted paths                                 */
+    char **values;       /* nvalue values as compact JSON text                  */
+    char hash[17];       /* 16 hex digits: FNV-1a 64 of the tool version, the
+                            output options and text (of the source for an
+                            invalid source)                                     */
+    int invalid;         /* 1: the case cannot be solved (error says why)      */
+    eddy_status error_status;
+    char error[1024];    /* names the file, the variant and the JSON path      */
+    char *warnings;      /* NULL, or the reader's warnings, one per line        */
+} post_batch_case;
+
+/*
+ * Expand one case text into its variants and check each with the case
+ * reader (mesh_case_parse).
+ *   text    NUL-terminated case file content; source names it in messages.
+ *   images  1 if pictures will be written (enters the hash).
+ *   cases   receives ncase cases (free with post_batch_cases_free); a case
+ *           the reader rejects has invalid = 1 and the message in error.
+ * Returns EDDY_OK; EDDY_ERR_INPUT when the text is not a JSON object, has a
+ * bad "name" or a bad "variants" object (the message names the source and
+ * the JSON path); EDDY_ERR_NOMEM.  On error *cases is NULL.
+ */
+eddy_status post_batch_expand(const char *text, const char *source, int images,
+                              post_batch_case **cases, int *ncase, eddy_error *err);
+
+/* Free n cases and the array; accepts NULL. */
+void post_batch_cases_free(post_batch_case *cases, int n);
+
+/*
+ * The case files named by the arguments: a file as given (in the order
+ * given); a folder: its *.json entries not starting with '.' (not its
+ * sub-folders' contents), sorted by name (strcmp).
+ *   files  receives nfiles malloc'ed paths in a malloc'ed array (the caller
+ *          frees each and the array).
+ * Returns EDDY_OK; EDDY_ERR_INPUT when nargs < 1, an argument does not
+ * exist, or a folder holds no *.json; EDDY_ERR_NOMEM.
+ */
+eddy_status post_batch_collect(int nargs, const char *const *args, char ***files, int *nfiles,
+                               eddy_error *err);
+
+/* Every case of a batch, in order: files as post_batch_collect lists them,
+ * each file's variants in expansion order. */
+typedef struct {
+    int ncase;
+    post_batch_case *cases;
+    int nkey;            /* distinct variant paths over all cases, in order of
+                            first appearance (the summary's columns)           */
+    char **keys;
+    int images;          /* 1: the cases write pictures                        */
+} post_batch_plan;
+
+/*
+ * Plan a batch: collect the case files, read and expand each.  A file that
+ * cannot be read or expanded becomes one invalid case (named after its
+ * "name" if it has a good one, else its file name's stem) - a bad case does
+ * not stop the batch.
+ *   out  receives the plan (free with post_batch_plan_free).
+ * Returns EDDY_OK; EDDY_ERR_INPUT for the errors of post_batch_collect, and
+ * when two cases have the same name or a case is named like a file of the
+ * batch folder (batch.json, summary.csv, ...): the message names both files;
+ * EDDY_ERR_NOMEM.
+ */
+eddy_status post_batch_plan_build(int nargs, const char *const *args, int images,
+                                  post_batch_plan **out, eddy_error *err);
+
+/* Free a plan; accepts NULL. */
+void post_batch_plan_free(post_batch_plan *p);
+
+/*
+ * Write the plan: create outdir, write OUT/<case>/case.json for every valid
+ * case whose file differs (first removing that case's input.hash, so a
+ * changed input is never taken as finished) and OUT/batch.json.  Files whose
+ * content is unchanged are not touched.
+ * Returns EDDY_OK, EDDY_ERR_IO, EDDY_ERR_NOMEM.
+ */
+eddy_status post_batch_plan_save(const post_batch_plan *p, const char *outdir, eddy_error *err);
+
+/*
+ * Read OUT/batch.json and every case.json it names (what a Slurm array task
+ * does).  Returns EDDY_OK; EDDY_ERR_INPUT when the plan is missing, damaged,
+ * written by another tool version, or a case.json no longer matches its
+ * hash; EDDY_ERR_NOMEM.  out receives a plan owned by the caller.
+ */
+eddy_status post_batch_plan_load(const char *outdir, post_batch_plan **out, eddy_error *err);
+
+/*
+ * The resume decision, from the files in OUT/<case>/: POST_CASE_OK when
+ * result.json exists and input.hash holds c->hash; else the status recorded
+ * in error.json if that names c->hash; else POST_CASE_NOT_RUN.  Never fails.
+ */
+post_case_state post_batch_case_state(const char *outdir, const post_batch_case *c);
+
+/*
+ * Make OUT/<case>/ ready for a run: create it, remove input.hash first, then
+ * every earlier output (result.json, forces.csv, *.png, *.vtr,
+ * profile_*.csv, error.json, temporaries), and write case.json if it
+ * differs.  Other files are left alone.  Returns EDDY_OK or EDDY_ERR_IO.
+ */
+eddy_status post_batch_case_prepare(const char *outdir, const post_batch_case *c,
+                                    eddy_error *err);
+
+/*
+ * Solve OUT/<case>/case.json into OUT/<case>/ with post_run_solve (pictures
+ * if images, threads as post_run_opts.threads).  Meant for a child process.
+ * Returns what post_run_solve returns (c->error_status for an invalid case).
+ */
+eddy_status post_batch_case_solve(const char *outdir, const post_batch_case *c, int images,
+                                  int threads, eddy_error *err);
+
+/*
+ * Record a finished case: check that result.json exists, remove error.json,
+ * and write input.hash ("fnv1a64 <hash>\nseconds <s>\n") atomically.
+ *   seconds  wall time of the run, s.
+ * Returns EDDY_OK or EDDY_ERR_IO (result.json missing, or a write failed).
+ */
+eddy_status post_batch_case_done(const char *outdir, const post_batch_case *c, double seconds,
+                                 eddy_error *err);
+
+/*
+ * Record a failed case: remove input.hash and write OUT/<case>/error.json
+ * {case, source, status, message, seconds, hash, tool} atomically (creating
+ * the folder).  state: POST_CASE_INVALID, _FAILED, _TIMEOUT or _CRASHED
+ * (others are recorded as "failed").  seconds may be NAN.
+ * Returns EDDY_OK, EDDY_ERR_IO or EDDY_ERR_NOMEM.
+ */
+eddy_status post_batch_case_failed(const char *outdir, const post_batch_case *c,
+                                   post_case_state state, const char *message, double seconds,
+                                   eddy_error *err);
+
+/* Counts over the cases of a summary. */
+typedef struct {
+    int cases, ok, failed, not_run;
+} post_batch_counts;
+
+/*
+ * Write OUT/summary.csv, summary.json and summary.html from the case folders
+ * (the state of each case as post_batch_case_state decides it).  One row per
+ * case and speed (one row with empty numbers for a case without result):
+ * case, source, one column per variant path, speed (m/s), drag and normal
+ * force (N/m), loss (W/m), the case's peak drag (N/m) and its speed (m/s)
+ * from post_force_peak, status, error, seconds.  The HTML page is
+ * self-contained apart from the plots, which it links relatively
+ * (<case>/forces.png): a table of the cases, the plots side by side, and a
+ * table of every speed; it needs no script.
+ *   counts  optional; receives the counts.
+ * Returns EDDY_OK, EDDY_ERR_IO or EDDY_ERR_NOMEM.
+ */
+eddy_status post_batch_write_summary(const char *outdir, const post_batch_plan *p,
+                                     post_batch_counts *counts, eddy_error *err);
+
+/* Options of the Slurm scripts. */
+typedef struct {
+    const char *exe;        /* absolute path of the eddy2d program           */
+    int ntask;              /* cases to run: increasing indices into the plan */
+    const int *tasks;
+    int cpus_per_task;      /* #SBATCH --cpus-per-task, and --threads per case */
+    double case_timeout;    /* s; > 0 adds --case-timeout and #SBATCH --time  */
+    int nextra;             /* extra "#SBATCH <option>" lines (each one line
+                               starting with '-', e.g. "--partition=short")   */
+    const char *const *extra;
+} post_batch_slurm_opts;
+
+/* Defaults: nothing set, cpus_per_task 1. */
+void post_batch_slurm_opts_defaults(post_batch_slurm_opts *o);
+
+/*
+ * Write the Slurm scripts for a planned batch (the plan must be saved in
+ * outdir, which must be absolute): OUT/batch.sbatch, a job array with one
+ * task per listed case running `eddy2d batch --run-one INDEX -o OUT`;
+ * OUT/summary.sbatch running `eddy2d batch --summary-only -o OUT`; and
+ * OUT/submit.sh, which submits the array and then the summary job with
+ * --dependency=afterany on it.  Task logs go to OUT/slurm/ (created).
+ * Returns EDDY_OK, EDDY_ERR_INPUT (bad options), EDDY_ERR_IO, EDDY_ERR_NOMEM.
+ */
+eddy_status post_batch_write_slurm(const char *outdir, const post_batch_plan *p,
+                                   const post_batch_slurm_opts *o, eddy_error *err);
 
 #endif

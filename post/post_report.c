@@ -192,6 +192,9 @@ static void add_mesh(cJSON *root, const post_report *r)
     cJSON_AddStringToObject(solver, "linear_solver", "UMFPACK (symbolic once, numeric per speed)");
     add_num(solver, "mesh_seconds", r->t_mesh);
     add_num(solver, "analyse_seconds", r->t_analyse);
+    cJSON_AddStringToObject(solver, "ordering", r->ordering != NULL ? r->ordering : "");
+    cJSON_AddNumberToObject(solver, "threads", r->threads);
+    add_num(solver, "factor_memory_estimate_bytes", r->factor_bytes);
 }
 
 

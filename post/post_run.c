@@ -10,7 +10,9 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <pthread.h>
 #include <time.h>
+#include <unistd.h>
 
 static double now(void)
 {
@@ -155,6 +157,86 @@ static eddy_status write_field_outputs(post_report *r, const post_run_opts *o, i
                                        const double *a, post_fields *pf, eddy_error *err);
 static eddy_status write_force_plot(post_report *r, eddy_error *err);
 
+/* The speed sweep, shared by the worker threads. */
+typedef struct {
+    post_report *r;
+    const post_run_opts *o;
+    const sol_system *sys;
+    double slope;
+    pthread_mutex_t lock;
+    int next;            /* next speed index to take */
+    int done;            /* speeds finished, for progress */
+    eddy_status status;  /* first error */
+    eddy_error err;
+} sweep;
+
+/* One worker: its own workspace, field buffer and node fields. */
+static void *sweep_worker(void *arg)
+{
+    sweep *sw = arg;
+    post_report *r = sw->r;
+    const mesh_grid *g = r->g;
+    sol_work *w = NULL;
+    post_fields *pf = NULL;
+    eddy_error err = {0};
+    double *a = malloc((size_t)g->nx * (size_t)g->ny * sizeof *a);
+    eddy_status s = a == NULL ? EDDY_RAISE(&err, EDDY_ERR_NOMEM, "out of memory for the field")
+                              : sol_work_alloc(sw->sys, &w, &err);
+    if (s == EDDY_OK)
+        s = post_fields_alloc(g, &pf, &err);
+    for (;;) {
+        pthread_mutex_lock(&sw->lock);
+        if (s != EDDY_OK && sw->status == EDDY_OK) {
+            sw->status = s;
+            sw->err = err;
+        }
+        int k = sw->status == EDDY_OK && sw->next < r->npoint ? sw->next++ : -1;
+        pthread_mutex_unlock(&sw->lock);
+        if (k < 0)
+            break;
+        double v = r->c->speeds[k];
+        sol_info info = {0};
+        s = sol_solve_work(sw->sys, w, v, a, &info, &err);
+        if (s != EDDY_OK)
+            continue;
+        double tp = now();
+        s = post_forces_compute(g, a, v, sw->slope, &r->f[k], &err);
+        if (s == EDDY_OK && (sw->o->images || sw->o->vtk || r->c->nprofile > 0))
+            s = write_field_outputs(r, sw->o, k, a, pf, &err);
+        r->info[k] = (post_point_info){info.t_assemble, info.t_factor, info.t_solve, now() - tp,
+                                       info.lnz, info.unz, info.flops};
+        if (s == EDDY_OK && sw->o->progress != NULL) {
+            pthread_mutex_lock(&sw->lock);
+            sw->o->progress(sw->o->progress_ctx, sw->done++, r->npoint, &r->f[k]);
+            pthread_mutex_unlock(&sw->lock);
+        }
+    }
+    free(a);
+    post_fields_free(pf);
+    sol_work_free(w);
+    return NULL;
+}
+
+/* How many speeds to solve at once: the request (0: the cores), at most the
+ * number of speeds, and only as many numeric factorisations as fit in half
+ * the physical memory by UMFPACK's estimate. */
+static int sweep_threads(const post_run_opts *o, int npoint, double factor_bytes,
+                         double field_bytes)
+{
+    long cores = sysconf(_SC_NPROCESSORS_ONLN);
+    int n = o->threads > 0 ? o->threads : (int)(cores > 0 ? cores : 1);
+    if (!sol_concurrency_safe())
+        return 1; /* a BLAS that is not safe for concurrent factorisations */
+    if (n > npoint)
+        n = npoint;
+    long pages = sysconf(_SC_PHYS_PAGES), page = sysconf(_SC_PAGE_SIZE);
+    double avail = pages > 0 && page > 0 ? 0.5 * (double)pages * (double)page : 4e9;
+    double per = factor_bytes + 12.0 * field_bytes;
+    if (per > 0 && n > 1 && n * per > avail)
+        n = (int)(avail / per);
+    return n < 1 ? 1 : n;
+}
+
 eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_report **out,
                            eddy_error *err)
 {
@@ -181,13 +263,16 @@ eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_r
         return s;
     sol_system *sys = NULL;
     double *a = NULL;
-    post_fields *pf = NULL;
+    size_t nn = (size_t)r->g->nx * (size_t)r->g->ny;
     s = sol_system_alloc(r->g, &sys, err);
-    if (s == EDDY_OK)
-        s = post_fields_alloc(r->g, &pf, err);
     if (s == EDDY_OK) {
         r->unknowns = sol_unknowns(sys);
-        a = malloc((size_t)r->g->nx * (size_t)r->g->ny * sizeof *a);
+        /* memory guard: one factorisation must fit in the memory available
+         * now, or in the user's limit */
+        long avp = sysconf(_SC_AVPHYS_PAGES), page = sysconf(_SC_PAGE_SIZE);
+        double avail = avp > 0 && page > 0 ? (double)avp * (double)page : 0.0;
+        sol_set_memory_limit(sys, o->max_memory > 0 ? o->max_memory : avail);
+        a = malloc(nn * sizeof *a);
         if (a == NULL)
             s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the field");
     }
@@ -195,30 +280,41 @@ eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_r
     if (s == EDDY_OK)
         s = sol_analyse(sys, &info, err);
     r->t_analyse = info.t_analyse;
+    r->ordering = info.ordering;
+    r->factor_bytes = sol_factor_bytes(sys);
     if (s == EDDY_OK)
         s = post_make_dir(r->outdir, err);
-    double slope = 0.0;
+    sweep sw = {.r = r, .o = o, .sys = sys, .status = EDDY_OK};
     if (s == EDDY_OK) { /* the static field, for the low-speed limit */
         s = sol_solve(sys, 0.0, a, &info, err);
         if (s == EDDY_OK)
-            slope = post_lowspeed_slope(r->g, a);
-    }
-    for (int k = 0; s == EDDY_OK && k < r->npoint; k++) {
-        double v = r->c->speeds[k];
-        s = sol_solve(sys, v, a, &info, err);
-        if (s != EDDY_OK)
-            break;
-        double tp = now();
-        s = post_forces_compute(r->g, a, v, slope, &r->f[k], err);
-        if (s == EDDY_OK && (o->images || o->vtk || r->c->nprofile > 0))
-            s = write_field_outputs(r, o, k, a, pf, err);
-        r->info[k] = (post_point_info){info.t_assemble, info.t_factor, info.t_solve, now() - tp,
-                                       info.lnz, info.unz, info.flops};
-        if (s == EDDY_OK && o->progress != NULL)
-            o->progress(o->progress_ctx, k, r->npoint, &r->f[k]);
+            sw.slope = post_lowspeed_slope(r->g, a);
     }
     free(a);
-    post_fields_free(pf);
+    if (s == EDDY_OK) {
+        int nt = sweep_threads(o, r->npoint, r->factor_bytes, (double)nn * sizeof(double));
+        r->threads = nt;
+        pthread_t tid[64];
+        if (nt > 64)
+            nt = 64;
+        pthread_mutex_init(&sw.lock, NULL);
+        if (nt > 1)
+            sol_blas_threads(1);
+        int started = 0;
+        for (int t = 1; t < nt; t++)
+            if (pthread_create(&tid[started], NULL, sweep_worker, &sw) == 0)
+                started++;
+        sweep_worker(&sw); /* the calling thread works too */
+        for (int t = 0; t < started; t++)
+            pthread_join(tid[t], NULL);
+        pthread_mutex_destroy(&sw.lock);
+        r->threads = started + 1;
+        if (sw.status != EDDY_OK) {
+            s = sw.status;
+            if (err != NULL)
+                *err = sw.err;
+        }
+    }
     sol_system_free(sys);
     if (s == EDDY_OK && o->reference)
         s = add_reference(r, 0, err);

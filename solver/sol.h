@@ -23,6 +23,17 @@
 #include "mesh/mesh.h"
 
 typedef struct sol_system sol_system;
+typedef struct sol_work sol_work;
+
+/* Fill-reducing orderings for the LU factorisation. */
+typedef enum {
+    SOL_ORDER_AMD = 0,   /* UMFPACK's AMD on A + A' */
+    SOL_ORDER_METIS,     /* METIS nested dissection (through UMFPACK) */
+    SOL_ORDER_GRID_ND    /* geometric nested dissection of the tensor grid (sol.c) */
+} sol_ordering;
+
+/* The default, chosen from the measurements of `make bench` (README). */
+#define SOL_ORDER_DEFAULT SOL_ORDER_GRID_ND
 
 /* Statistics of the last call (all times in seconds, wall clock). */
 typedef struct {
@@ -35,7 +46,9 @@ typedef struct {
     double t_assemble;   /* assembly of values and right-hand side */
     double t_factor;     /* numeric factorisation */
     double t_solve;      /* triangular solves with iterative refinement */
-    double peak_bytes;   /* UMFPACK's peak memory of the numeric phase */
+    double peak_bytes;   /* UMFPACK's peak memory of the numeric phase, bytes */
+    double est_peak_bytes; /* its estimate from the symbolic analysis, bytes */
+    const char *ordering;  /* name of the fill-reducing ordering (static) */
 } sol_info;
 
 /*
@@ -52,12 +65,59 @@ void sol_system_free(sol_system *s);
 /* Number of unknowns of a system. */
 long sol_unknowns(const sol_system *s);
 
+/* Choose the fill-reducing ordering (before sol_analyse; discards an earlier
+ * symbolic factorisation). */
+void sol_set_ordering(sol_system *s, sol_ordering o);
+
+/* Name of an ordering ("amd", "metis", "grid-nd"); static storage. */
+const char *sol_ordering_name(sol_ordering o);
+
+/* Refuse factorisations whose estimated peak memory exceeds bytes (checked by
+ * sol_analyse from UMFPACK's symbolic estimate); <= 0: no limit (default). */
+void sol_set_memory_limit(sol_system *s, double bytes);
+
 /*
  * Symbolic factorisation of the pattern (once per mesh).  Called by the
  * first sol_solve if not called before.  info may be NULL.
- * Returns EDDY_OK, EDDY_ERR_NOMEM, EDDY_ERR_SOLVER.
+ * Returns EDDY_OK, EDDY_ERR_NOMEM, EDDY_ERR_SOLVER, EDDY_ERR_TOO_LARGE (the
+ * estimated peak memory of one numeric factorisation exceeds the limit).
  */
 eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err);
+
+/* UMFPACK's estimate of the peak memory of one numeric factorisation, bytes
+ * (after sol_analyse; 0 before). */
+double sol_factor_bytes(const sol_system *s);
+
+/*
+ * Workspace of one concurrent solve (matrix values, right-hand side,
+ * solution, UMFPACK solve workspaces), sized for system s.  Several
+ * workspaces may solve different speeds on one analysed system at the same
+ * time, from different threads.  Free with sol_work_free (accepts NULL).
+ */
+eddy_status sol_work_alloc(const sol_system *s, sol_work **out, eddy_error *err);
+void sol_work_free(sol_work *w);
+
+/* 1 if several numeric factorisations may run at once in this process: the
+ * BLAS under UMFPACK is reentrant (not a sequential OpenBLAS build, which is
+ * detected at run time). */
+int sol_concurrency_safe(void);
+
+/* Ask a threaded OpenBLAS for n threads per call (no effect on other BLAS);
+ * used so that concurrent speeds do not oversubscribe the cores. */
+void sol_blas_threads(int n);
+
+/* As sol_solve, with the caller's workspace; s must be analysed already.
+ * Thread-safe for distinct workspaces. */
+eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a,
+                           sol_info *info, eddy_error *err);
+
+/*
+ * Write the system matrix and right-hand side at speed v in Matrix Market
+ * format (coordinate real general; array real general), so the solve can be
+ * checked with another library.  Returns EDDY_OK, EDDY_ERR_IO, EDDY_ERR_NOMEM.
+ */
+eddy_status sol_export(const sol_system *s, double v, const char *matrix_path,
+                       const char *rhs_path, eddy_error *err);
 
 /*
  * Solve at speed v (m/s; moving regions move at +v along x).
@@ -65,7 +125,8 @@ eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err);
  *         the boundary nodes (0 on zero boundaries; the periodic copy at
  *         i = nx-1 equals i = 0).  Caller-owned.
  *   info: optional statistics.
- * Not thread-safe on one system (it reuses the system's workspaces).
+ * Not thread-safe on one system (it uses the system's own workspace; see
+ * sol_work_alloc and sol_solve_work for concurrent speeds).
  * Returns EDDY_OK, EDDY_ERR_NOMEM, EDDY_ERR_SINGULAR, EDDY_ERR_SOLVER,
  * EDDY_ERR_NUMERIC.
  */
