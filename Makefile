@@ -8,22 +8,22 @@ PKG_CFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null | sed 's/-I/-isyst
 PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null || echo -lcjson -lpng16 -lcairo)
 CPPFLAGS = -D_POSIX_C_SOURCE=200809L -I. -isystem /usr/include/suitesparse $(PKG_CFLAGS)
 CFLAGS  += $(CSTD) $(WARN) $(OPT) $(SAN)
-LDLIBS   = -lumfpack -lamd -lsuitesparseconfig $(PKG_LIBS) -lm
+LDLIBS   = -lumfpack -lamd -lsuitesparseconfig $(PKG_LIBS) -lm -lpthread
 LDFLAGS += $(SAN)
 
 B = build
 
 MESH_SRC   = mesh/eddy_status.c mesh/mesh_lib.c mesh/mesh_case.c mesh/mesh_grid.c
-SOLVER_SRC = solver/sol.c solver/sol_ref.c solver/sol_ref_case.c
+SOLVER_SRC = solver/sol.c solver/sol_bh.c solver/sol_ref.c solver/sol_ref_case.c
 POST_SRC   = post/post_forces.c post/post_report.c post/post_img.c post/post_run.c \
-             post/post_fields.c post/post_brake.c
+             post/post_fields.c post/post_brake.c post/post_design.c post/post_batch.c
 LIB_SRC    = $(MESH_SRC) $(SOLVER_SRC) $(POST_SRC)
 LIB_OBJ    = $(LIB_SRC:%.c=$(B)/%.o)
 
-TESTS = test_mesh test_solver test_ref test_validation test_post_img test_post_fields test_outputs test_brake
+TESTS = test_mesh test_solver test_ref test_validation test_post_img test_post_fields test_outputs test_sweep test_design test_brake test_nonlinear test_batch test_batch_alloc test_fuzz_corpus
 TEST_BIN = $(TESTS:%=$(B)/tests/%)
 
-.PHONY: all test demo deps clean asan valgrind convergence
+.PHONY: all test demo deps clean asan sanitize fuzz valgrind valgrind-case slurm-test browser-test convergence bench
 .SECONDARY:
 all: $(B)/eddy2d
 
@@ -35,16 +35,30 @@ $(B)/%.o: %.c $(wildcard */*.h)
 $(B)/libeddy2d.a: $(LIB_OBJ)
 	ar rcs $@ $^
 
-$(B)/eddy2d: $(B)/post/cli.o $(B)/libeddy2d.a
+$(B)/eddy2d: $(B)/post/cli.o $(B)/post/cli_batch.o $(B)/libeddy2d.a
 	$(CC) $(LDFLAGS) -o $@ $^ $(LDLIBS)
 
 $(B)/tests/%: $(B)/tests/%.o $(B)/libeddy2d.a
 	$(CC) $(LDFLAGS) -o $@ $^ $(LDLIBS)
 
+# The allocation-failure test: every malloc, calloc, realloc and free made from
+# the project's objects goes through the test's counting wrappers.
+$(B)/tests/test_batch_alloc: $(B)/tests/test_batch_alloc.o $(B)/libeddy2d.a
+	$(CC) $(LDFLAGS) -Wl,--wrap=malloc,--wrap=calloc,--wrap=realloc,--wrap=free -o $@ $^ $(LDLIBS)
+
+# The fuzz harness with a main() that replays the saved inputs (no clang needed).
+$(B)/tests/fuzz_case_replay.o: tests/fuzz_case.c $(wildcard */*.h)
+	@mkdir -p $(dir $@)
+	@echo "  CC  $< (replay)"
+	@$(CC) $(CPPFLAGS) $(CFLAGS) -DEDDY_FUZZ_REPLAY -c $< -o $@
+
+$(B)/tests/test_fuzz_corpus: $(B)/tests/fuzz_case_replay.o $(B)/libeddy2d.a
+	$(CC) $(LDFLAGS) -o $@ $^ $(LDLIBS)
+
 # Every test program prints PASS/FAIL lines; tests/run.sh adds them up and
 # ends with "N passed, N failed".
 test: $(B)/eddy2d $(TEST_BIN)
-	@sh tests/run.sh $(B) $(TESTS) test_cli.sh
+	@sh tests/run.sh $(B) $(TESTS) test_cli.sh test_batch.sh
 
 # Installs the Debian packages listed in .ci/debian-packages (needs root).
 deps:
@@ -53,17 +67,62 @@ deps:
 demo: $(B)/eddy2d
 	$(B)/eddy2d solve cases/sled_fin.json -o results/sled_fin
 
+# Speed and memory on a ladder of grids (not part of make test).
+bench: $(B)/tests/bench $(B)/eddy2d
+	@$(B)/tests/bench $(B)/bench
+	@PY=$$( [ -x /usr/bin/python3 ] && echo /usr/bin/python3 || echo python3 ); \
+	  $$PY tests/bench_scipy.py $(B)/bench || echo "scipy comparison skipped"
+
 # Unknowns vs error against the layered reference, graded and uniform grids.
 convergence: $(B)/tests/conv_table
 	@$(B)/tests/conv_table
 
-# Sanitizer and valgrind runs of the whole test suite.
-asan:
-	$(MAKE) B=build/asan SAN="-fsanitize=address,undefined -fno-omit-frame-pointer" OPT="-O1 -g" test
+# Sanitizer and valgrind runs of the whole test suite.  `make sanitize`: every
+# test under AddressSanitizer, LeakSanitizer and UBSan (a UBSan report stops
+# the program, so it fails its test; an allocation too large for the machine
+# returns NULL, as without ASan, so out-of-memory paths are tested as they
+# run); `asan` is the same.
+sanitize:
+	ASAN_OPTIONS=allocator_may_return_null=1 $(MAKE) B=build/asan \
+	  SAN="-fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer" \
+	  OPT="-O1 -g" test
+
+asan: sanitize
+
+# libFuzzer run of the case reader and the variant expansion (tests/fuzz_case.c)
+# for FUZZ_SECONDS; needs clang.  A crash is saved as build/fuzz/crash-*: copy it
+# into tests/fuzz_corpus/ so that every `make test` replays it.
+FUZZ_SECONDS ?= 60
+FUZZ_CC ?= clang
+FUZZ_SAN = -fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer
+# glibc defines CMPLX only for GCC >= 4.7; clang has the same builtin
+FUZZ_CMPLX = $(shell printf '\043include <complex.h>\nCMPLX(1.0, 2.0)\n' | $(FUZZ_CC) -std=c11 -E -x c - 2>/dev/null | \
+  grep -q __builtin_complex || echo "'-DCMPLX(x,y)=__builtin_complex((double)(x),(double)(y))'")
+fuzz:
+	$(MAKE) B=build/fuzz CC=$(FUZZ_CC) SAN="-fsanitize=fuzzer-no-link $(FUZZ_SAN) $(FUZZ_CMPLX)" OPT="-O1 -g" build/fuzz/libeddy2d.a
+	$(FUZZ_CC) $(CPPFLAGS) $(CSTD) $(WARN) -O1 -g -fsanitize=fuzzer $(FUZZ_SAN) tests/fuzz_case.c \
+	  build/fuzz/libeddy2d.a $(LDLIBS) -o build/fuzz/fuzz_case
+	rm -rf build/fuzz/corpus && mkdir -p build/fuzz/corpus
+	cp cases/*.json tests/catalogue/*.json build/fuzz/corpus/
+	-cp tests/fuzz_corpus/* build/fuzz/corpus/ 2>/dev/null
+	build/fuzz/fuzz_case -max_total_time=$(FUZZ_SECONDS) -timeout=20 -rss_limit_mb=2560 \
+	  -max_len=65536 -dict=tests/fuzz_case.dict -artifact_prefix=build/fuzz/ build/fuzz/corpus
+
+# Checks that need more than the compiler (CI runs them; each says SKIP when its
+# tool is missing): valgrind memcheck on one small case; a job array on a
+# one-node Slurm cluster on localhost (root); summary.html in headless chromium.
+valgrind-case: $(B)/eddy2d
+	@sh .ci/valgrind-case.sh $(B)
+
+slurm-test: $(B)/eddy2d
+	@sh .ci/slurm-test.sh $(B)
+
+browser-test: $(B)/eddy2d $(B)/tests/test_batch_pngstat
+	@sh .ci/browser-test.sh $(B)
 
 valgrind: $(B)/eddy2d $(TEST_BIN)
 	@VALGRIND="valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite --suppressions=tests/valgrind.supp" \
-	  sh tests/run.sh $(B) $(TESTS) test_cli.sh
+	  sh tests/run.sh $(B) $(TESTS) test_cli.sh test_batch.sh
 
 clean:
 	rm -rf build

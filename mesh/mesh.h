@@ -30,12 +30,35 @@
 /* Materials                                                                 */
 /* ------------------------------------------------------------------------ */
 
+/* Most points of a B-H curve. */
+#define MESH_BH_MAX 128
+
+/*
+ * A saturation (B-H) curve: n points (H_k, B_k), H in A/m, B in T, with
+ * (H_0, B_0) = (0, 0) and both H and B strictly increasing; n = 0 for a
+ * linear material.  The solver interpolates it monotonically (sol_bh_build).
+ */
+typedef struct {
+    int n;
+    double h[MESH_BH_MAX];  /* A/m */
+    double b[MESH_BH_MAX];  /* T */
+} mesh_bh_curve;
+
 typedef struct {
     char name[64];
     double sigma;   /* electrical conductivity, S/m (>= 0) */
     double mu_r;    /* relative permeability (> 0); for magnets the recoil value */
     double br;      /* remanence magnitude, T (>= 0); direction from the region */
+    double density;        /* kg/m^3 (0: unknown) */
+    double specific_heat;  /* J/(kg K) (0: unknown) */
+    double alpha;          /* temperature coefficient of resistivity at 20 C, 1/K (0: unknown) */
+    double sigma_20;       /* conductivity at 20 C as given, S/m (sigma is at the case temperature) */
     const char *source; /* where the values come from (static text), NULL for user data */
+    /* Saturable material: its B-H curve (bh.n >= 3), else bh.n = 0.  For a
+     * saturable material mu_r holds the initial relative permeability of the
+     * curve, B_1 / (mu0 H_1), used for meshing and as the starting point of
+     * the nonlinear solve; remanence is not allowed with a curve. */
+    mesh_bh_curve bh;
 } mesh_material;
 
 /* Number of entries in the built-in material library. */
@@ -77,6 +100,39 @@ typedef struct {
     int points;              /* samples, >= 2 */
 } mesh_profile;
 
+/* How the speeds were given. */
+typedef enum {
+    MESH_SPEEDS_LIST = 0,    /* an explicit list */
+    MESH_SPEEDS_LOG,         /* {"from", "to", "points"}: log-spaced */
+    MESH_SPEEDS_AUTO         /* adaptive between from and to (initial log grid in speeds) */
+} mesh_speed_mode;
+
+/* A load braked from one speed to another ("vehicle"). */
+typedef struct {
+    int present;
+    double mass;             /* kg */
+    double depth;            /* m of magnet/plate overlap out of the plane */
+    double repeat;           /* periods or magnet units engaged */
+    double from_speed, to_speed; /* m/s */
+    double extra_force;      /* N, constant (e.g. friction, gravity component) */
+    double conductor_mass;   /* kg heated by the stop (0: not given) */
+} mesh_vehicle;
+
+/* Finite plate width correction (Russell-Norsworthy factor). */
+typedef struct {
+    int present;
+    double plate_width, active_width, pole_pitch; /* m */
+} mesh_end_effect;
+
+/* A disc brake modelled at its mean radius. */
+typedef struct {
+    int present;
+    double mean_radius;      /* m */
+    double active_length;    /* m, radial length of the magnets (the 2D depth) */
+    double periods;          /* periods of the 2D model around the disc */
+    double *rpm;             /* the speeds as revolutions per minute (nspeed), or NULL */
+} mesh_disc;
+
 typedef struct {
     char name[64];           /* safe for a directory name: [A-Za-z0-9._-] */
     char description[512];
@@ -90,6 +146,14 @@ typedef struct {
     mesh_region *regions;
     int nspeed;
     double *speeds;          /* m/s */
+    mesh_speed_mode speed_mode;
+    double speed_from, speed_to; /* m/s, for MESH_SPEEDS_LOG / _AUTO */
+    int max_points;          /* MESH_SPEEDS_AUTO: at most this many speeds */
+    int has_temperature;
+    double temperature;      /* C: conductivities are taken at this temperature */
+    mesh_vehicle vehicle;
+    mesh_end_effect end_effect;
+    mesh_disc disc;
     mesh_params mesh;
     int nprofile;
     mesh_profile *profiles;
@@ -144,6 +208,14 @@ typedef struct {
     /* Dominant spatial wavenumber of the sources used for the skin-depth
      * rule, 1/m, and the resulting finest y-size in the conductor, m. */
     double k_dominant, h_skin;
+    /* Saturable cells: nbh distinct B-H curves (copies of the materials'
+     * curves, owned by the grid) and per cell the index of its curve, or -1
+     * for a linear cell.  nbh = 0 and NULL pointers when every material is
+     * linear.  nu holds the initial reluctivity H_1 / B_1 in saturable
+     * cells. */
+    int nbh;
+    mesh_bh_curve *bh;
+    short *bh_cell;
 } mesh_grid;
 
 /* Size of the problem before anything large is allocated. */

@@ -197,10 +197,51 @@ static eddy_status read_domain(reader *r, const cJSON *root)
     return EDDY_OK;
 }
 
+/* "bh_curve": [[H, B], ...] in A/m and T: at least 3 points counting the
+ * origin, which is added when the curve does not start there; H and B finite
+ * and strictly increasing (a curve that is not monotone has no unique
+ * solution).  path names the key in messages. */
+static eddy_status read_bh_curve(reader *r, const cJSON *item, const char *path,
+                                 mesh_bh_curve *out)
+{
+    if (!cJSON_IsArray(item))
+        return bad(r, path, "must be an array of [H in A/m, B in T] pairs");
+    int len = cJSON_GetArraySize(item), k = 0;
+    const cJSON *e = item->child;
+    out->n = 0;
+    out->h[0] = out->b[0] = 0.0;
+    int n = 1; /* the origin */
+    for (; e != NULL; e = e->next, k++) {
+        char p[360];
+        snprintf(p, sizeof p, "%s[%d]", path, k);
+        double hb[2];
+        TRY(get_numbers(r, e, p, 2, hb));
+        if (k == 0 && hb[0] == 0.0 && hb[1] == 0.0)
+            continue; /* the origin, given */
+        if (hb[0] < 0.0 || hb[1] < 0.0)
+            return bad(r, p, "H and B must not be negative (got %g A/m, %g T)", hb[0], hb[1]);
+        if (n >= MESH_BH_MAX)
+            return bad(r, path, "too many points (%d given, at most %d counting the origin)",
+                       len, MESH_BH_MAX);
+        if (!(hb[0] > out->h[n - 1]) || !(hb[1] > out->b[n - 1]))
+            return bad(r, p, "H and B must both increase strictly along the curve (got "
+                             "[%g, %g] after [%g, %g]); a curve that is not monotone is "
+                             "rejected", hb[0], hb[1], out->h[n - 1], out->b[n - 1]);
+        out->h[n] = hb[0];
+        out->b[n] = hb[1];
+        n++;
+    }
+    if (n < 3)
+        return bad(r, path, "needs at least 3 points counting (0, 0) (got %d)", n);
+    out->n = n;
+    return EDDY_OK;
+}
+
 static eddy_status read_materials(reader *r, const cJSON *root)
 {
     static const char *const keys[] = {"conductivity", "relative_permeability", "remanence",
-                                       "description", "source", NULL};
+                                       "density", "specific_heat", "temperature_coefficient",
+                                       "bh_curve", "description", "source", NULL};
     mesh_case *c = r->c;
     const cJSON *mats = cJSON_GetObjectItemCaseSensitive(root, "materials");
     if (mats == NULL)
@@ -232,7 +273,15 @@ static eddy_status read_materials(reader *r, const cJSON *root)
         TRY(get_number(r, m, "conductivity", p, 0, &mat->sigma, NULL));
         TRY(get_number(r, m, "relative_permeability", p, 0, &mat->mu_r, NULL));
         TRY(get_number(r, m, "remanence", p, 0, &mat->br, NULL));
+        mat->density = mat->specific_heat = mat->alpha = 0.0;
+        TRY(get_number(r, m, "density", p, 0, &mat->density, NULL));
+        TRY(get_number(r, m, "specific_heat", p, 0, &mat->specific_heat, NULL));
+        TRY(get_number(r, m, "temperature_coefficient", p, 0, &mat->alpha, NULL));
         char q[340];
+        if (mat->density < 0 || mat->specific_heat < 0) {
+            snprintf(q, sizeof q, "%s.%s", p, mat->density < 0 ? "density" : "specific_heat");
+            return bad(r, q, "must not be negative");
+        }
         if (mat->sigma < 0.0) {
             snprintf(q, sizeof q, "%s.conductivity", p);
             return bad(r, q, "must not be negative (got %g S/m)", mat->sigma);
@@ -246,6 +295,19 @@ static eddy_status read_materials(reader *r, const cJSON *root)
             return bad(r, q, "must not be negative (got %g T); give the direction with the "
                              "region's magnetization_angle", mat->br);
         }
+        mat->bh.n = 0;
+        const cJSON *bh = cJSON_GetObjectItemCaseSensitive(m, "bh_curve");
+        if (bh != NULL) {
+            snprintf(q, sizeof q, "%s.bh_curve", p);
+            if (cJSON_GetObjectItemCaseSensitive(m, "relative_permeability") != NULL)
+                return bad(r, q, "give either \"bh_curve\" or \"relative_permeability\", "
+                                 "not both");
+            if (mat->br > 0.0)
+                return bad(r, q, "a material with a B-H curve cannot have a remanence");
+            TRY(read_bh_curve(r, bh, q, &mat->bh));
+            mat->mu_r = mat->bh.b[1] / (EDDY_MU0 * mat->bh.h[1]);
+        }
+        mat->sigma_20 = mat->sigma;
         c->nmat++;
     }
     return EDDY_OK;
@@ -393,14 +455,66 @@ static eddy_status read_regions(reader *r, const cJSON *root)
     return EDDY_OK;
 }
 
+/* Log-spaced speeds from a to b (same sign, |a| < |b|), n points. */
+static eddy_status log_speeds(reader *r, double a, double b, int n)
+{
+    mesh_case *c = r->c;
+    c->speeds = malloc((size_t)n * sizeof *c->speeds);
+    if (c->speeds == NULL)
+        return EDDY_RAISE(r->err, EDDY_ERR_NOMEM, "out of memory");
+    for (int k = 0; k < n; k++)
+        c->speeds[k] = n == 1 ? a : a * pow(b / a, (double)k / (n - 1));
+    c->nspeed = n;
+    return EDDY_OK;
+}
+
+/* "speeds": {"from": a, "to": b, "points": n} (log-spaced) or
+ * {"from": a, "to": b, "auto": true [, "points": n0, "max_points": m]}. */
+static eddy_status read_speed_range(reader *r, const cJSON *sp)
+{
+    static const char *const keys[] = {"from", "to", "points", "auto", "max_points", NULL};
+    mesh_case *c = r->c;
+    TRY(check_keys(r, sp, "speeds", keys));
+    double a = 0, b = 0, pts = 0, mx = 40;
+    int has_pts = 0;
+    TRY(get_number(r, sp, "from", "speeds", 1, &a, NULL));
+    TRY(get_number(r, sp, "to", "speeds", 1, &b, NULL));
+    TRY(get_number(r, sp, "points", "speeds", 0, &pts, &has_pts));
+    TRY(get_number(r, sp, "max_points", "speeds", 0, &mx, NULL));
+    const cJSON *au = cJSON_GetObjectItemCaseSensitive(sp, "auto");
+    if (au != NULL && !cJSON_IsBool(au))
+        return bad(r, "speeds.auto", "must be true or false");
+    int is_auto = au != NULL && cJSON_IsTrue(au);
+    if (!(a > 0 && b > a))
+        return bad(r, "speeds", "a range needs 0 < from < to (m/s); give a list for other speeds");
+    if (!has_pts)
+        pts = is_auto ? 9 : 0;
+    if (!(pts >= 2 && pts <= MAX_SPEEDS && pts == floor(pts)))
+        return bad(r, "speeds.points", "must be a whole number from 2 to %d", MAX_SPEEDS);
+    if (is_auto && !(mx >= pts && mx <= 1000 && mx == floor(mx)))
+        return bad(r, "speeds.max_points", "must be a whole number from points to 1000");
+    c->speed_mode = is_auto ? MESH_SPEEDS_AUTO : MESH_SPEEDS_LOG;
+    c->speed_from = a;
+    c->speed_to = b;
+    c->max_points = (int)mx;
+    return log_speeds(r, a, b, (int)pts);
+}
+
 static eddy_status read_speeds(reader *r, const cJSON *root)
 {
     mesh_case *c = r->c;
     const cJSON *sp = cJSON_GetObjectItemCaseSensitive(root, "speeds");
+    if (sp == NULL && c->disc.present && c->disc.rpm != NULL)
+        return EDDY_OK; /* the disc's rpm list gave them */
     if (sp == NULL)
         return bad(r, "speeds", "missing (a list of speeds in m/s is required)");
+    if (c->disc.present && c->disc.rpm != NULL)
+        return bad(r, "speeds", "give either speeds or disc.rpm, not both");
+    if (cJSON_IsObject(sp))
+        return read_speed_range(r, sp);
     if (!cJSON_IsArray(sp))
-        return bad(r, "speeds", "must be an array of speeds in m/s");
+        return bad(r, "speeds", "must be an array of speeds in m/s, or {\"from\", \"to\", "
+                                "\"points\"} or {\"from\", \"to\", \"auto\": true}");
     int n = cJSON_GetArraySize(sp);
     if (n == 0)
         return bad(r, "speeds", "must not be empty");
@@ -547,11 +661,167 @@ static eddy_status read_profiles(reader *r, const cJSON *root)
     return EDDY_OK;
 }
 
+/* A positive number at obj[key] (required), scaled by scale. */
+static eddy_status positive(reader *r, const cJSON *obj, const char *key, const char *path,
+                            double scale, double *out)
+{
+    TRY(get_number(r, obj, key, path, 1, out, NULL));
+    if (!(*out > 0)) {
+        char q[160];
+        snprintf(q, sizeof q, "%s.%s", path, key);
+        return bad(r, q, "must be positive");
+    }
+    *out *= scale;
+    return EDDY_OK;
+}
+
+static eddy_status read_vehicle(reader *r, const cJSON *root)
+{
+    static const char *const keys[] = {"mass",       "depth",       "repeat",         "from_speed",
+                                       "to_speed",   "extra_force", "conductor_mass", NULL};
+    mesh_case *c = r->c;
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(root, "vehicle");
+    if (v == NULL)
+        return EDDY_OK;
+    if (!cJSON_IsObject(v))
+        return bad(r, "vehicle", "must be an object");
+    TRY(check_keys(r, v, "vehicle", keys));
+    mesh_vehicle *h = &c->vehicle;
+    h->present = 1;
+    h->repeat = 1.0;
+    TRY(positive(r, v, "mass", "vehicle", 1.0, &h->mass));
+    TRY(positive(r, v, "depth", "vehicle", c->length_scale, &h->depth));
+    TRY(positive(r, v, "from_speed", "vehicle", 1.0, &h->from_speed));
+    TRY(get_number(r, v, "to_speed", "vehicle", 1, &h->to_speed, NULL));
+    TRY(get_number(r, v, "repeat", "vehicle", 0, &h->repeat, NULL));
+    TRY(get_number(r, v, "extra_force", "vehicle", 0, &h->extra_force, NULL));
+    TRY(get_number(r, v, "conductor_mass", "vehicle", 0, &h->conductor_mass, NULL));
+    if (!(h->repeat > 0))
+        return bad(r, "vehicle.repeat", "must be positive");
+    if (h->extra_force < 0 || h->conductor_mass < 0)
+        return bad(r, h->extra_force < 0 ? "vehicle.extra_force" : "vehicle.conductor_mass",
+                   "must not be negative");
+    if (!(h->to_speed >= 0 && h->to_speed < h->from_speed))
+        return bad(r, "vehicle.to_speed", "must lie in [0, from_speed)");
+    if (h->to_speed == 0 && h->extra_force == 0)
+        return bad(r, "vehicle.to_speed",
+                   "must be above 0: an eddy-current brake alone never brings a load to rest "
+                   "(its drag falls to zero with speed); give a final speed, or an extra_force");
+    return EDDY_OK;
+}
+
+static eddy_status read_end_effect(reader *r, const cJSON *root)
+{
+    static const char *const keys[] = {"plate_width", "active_width", "pole_pitch", NULL};
+    mesh_case *c = r->c;
+    const cJSON *e = cJSON_GetObjectItemCaseSensitive(root, "end_effect");
+    if (e == NULL)
+        return EDDY_OK;
+    if (!cJSON_IsObject(e))
+        return bad(r, "end_effect", "must be an object");
+    TRY(check_keys(r, e, "end_effect", keys));
+    mesh_end_effect *h = &c->end_effect;
+    h->present = 1;
+    TRY(positive(r, e, "plate_width", "end_effect", c->length_scale, &h->plate_width));
+    TRY(positive(r, e, "active_width", "end_effect", c->length_scale, &h->active_width));
+    if (h->active_width > h->plate_width)
+        return bad(r, "end_effect.active_width", "must not exceed plate_width");
+    int has = 0;
+    TRY(get_number(r, e, "pole_pitch", "end_effect", 0, &h->pole_pitch, &has));
+    if (has && !(h->pole_pitch > 0))
+        return bad(r, "end_effect.pole_pitch", "must be positive");
+    h->pole_pitch *= c->length_scale;
+    if (!has) {
+        if (!c->x_periodic)
+            return bad(r, "end_effect.pole_pitch",
+                       "missing: required unless the domain is periodic (one period = two "
+                       "poles)");
+        h->pole_pitch = 0.5 * (c->x1 - c->x0);
+    }
+    return EDDY_OK;
+}
+
+static eddy_status read_disc(reader *r, const cJSON *root)
+{
+    static const char *const keys[] = {"mean_radius", "active_length", "periods", "rpm", NULL};
+    mesh_case *c = r->c;
+    const cJSON *d = cJSON_GetObjectItemCaseSensitive(root, "disc");
+    if (d == NULL)
+        return EDDY_OK;
+    if (!cJSON_IsObject(d))
+        return bad(r, "disc", "must be an object");
+    TRY(check_keys(r, d, "disc", keys));
+    mesh_disc *h = &c->disc;
+    h->present = 1;
+    TRY(positive(r, d, "mean_radius", "disc", c->length_scale, &h->mean_radius));
+    TRY(positive(r, d, "active_length", "disc", c->length_scale, &h->active_length));
+    int has = 0;
+    TRY(get_number(r, d, "periods", "disc", 0, &h->periods, &has));
+    if (has && !(h->periods > 0))
+        return bad(r, "disc.periods", "must be positive");
+    if (!has) {
+        if (!c->x_periodic)
+            return bad(r, "disc.periods", "missing: required unless the domain is periodic");
+        h->periods = 2.0 * 3.14159265358979323846 * h->mean_radius / (c->x1 - c->x0);
+    }
+    const cJSON *rpm = cJSON_GetObjectItemCaseSensitive(d, "rpm");
+    if (rpm == NULL)
+        return EDDY_OK;
+    if (!cJSON_IsArray(rpm) || cJSON_GetArraySize(rpm) == 0 ||
+        cJSON_GetArraySize(rpm) > MAX_SPEEDS)
+        return bad(r, "disc.rpm", "must be a non-empty array of rotational speeds (rpm)");
+    int n = cJSON_GetArraySize(rpm), k = 0;
+    h->rpm = malloc((size_t)n * sizeof *h->rpm);
+    c->speeds = malloc((size_t)n * sizeof *c->speeds);
+    if (h->rpm == NULL || c->speeds == NULL)
+        return EDDY_RAISE(r->err, EDDY_ERR_NOMEM, "out of memory");
+    for (const cJSON *e = rpm->child; e != NULL; e = e->next, k++) {
+        char p[64];
+        snprintf(p, sizeof p, "disc.rpm[%d]", k);
+        if (!cJSON_IsNumber(e) || !isfinite(e->valuedouble))
+            return bad(r, p, "must be a finite number");
+        h->rpm[k] = e->valuedouble;
+        c->speeds[k] = 2.0 * 3.14159265358979323846 * h->mean_radius * h->rpm[k] / 60.0;
+    }
+    c->nspeed = n;
+    return EDDY_OK;
+}
+
+/* Conductivities at the case temperature: sigma = sigma_20 / (1 + alpha (T - 20)). */
+static eddy_status apply_temperature(reader *r, const cJSON *root)
+{
+    mesh_case *c = r->c;
+    int has = 0;
+    TRY(get_number(r, root, "temperature", "", 0, &c->temperature, &has));
+    if (!has)
+        return EDDY_OK;
+    if (c->temperature < -200.0 || c->temperature > 1000.0)
+        return bad(r, "temperature", "must lie between -200 and 1000 C");
+    c->has_temperature = 1;
+    for (int k = 0; k < c->nmat; k++) {
+        mesh_material *m = &c->materials[k];
+        if (m->sigma_20 <= 0.0)
+            continue;
+        if (m->alpha == 0.0) {
+            TRY(warn(r, "%s: temperature: material \"%s\" has no temperature_coefficient; its "
+                        "conductivity at 20 C is used", r->fname, m->name));
+            continue;
+        }
+        double den = 1.0 + m->alpha * (c->temperature - 20.0);
+        if (!(den > 0.05))
+            return bad(r, "temperature", "outside the range of the linear resistivity law for "
+                                         "material \"%s\"", m->name);
+        m->sigma = m->sigma_20 / den;
+    }
+    return EDDY_OK;
+}
+
 static eddy_status parse_root(reader *r, const cJSON *root)
 {
     static const char *const keys[] = {"name",    "description", "length_unit", "domain",
                                        "materials", "regions",   "speeds",      "mesh",
-                                       "profiles", "variants", NULL};
+                                       "profiles", "variants", "temperature", "vehicle",
+                                       "end_effect", "disc", NULL};
     mesh_case *c = r->c;
     if (!cJSON_IsObject(root))
         return bad(r, "(top level)", "must be a JSON object");
@@ -580,9 +850,22 @@ static eddy_status parse_root(reader *r, const cJSON *root)
     TRY(read_domain(r, root));
     TRY(read_materials(r, root));
     TRY(read_regions(r, root));
+    TRY(read_disc(r, root));
     TRY(read_speeds(r, root));
     TRY(read_mesh(r, root));
     TRY(read_profiles(r, root));
+    TRY(read_vehicle(r, root));
+    TRY(read_end_effect(r, root));
+    TRY(apply_temperature(r, root));
+    if (c->vehicle.present) {
+        double vmax = 0.0;
+        for (int k = 0; k < c->nspeed; k++)
+            vmax = fmax(vmax, fabs(c->speeds[k]));
+        if (c->vehicle.from_speed > vmax * (1 + 1e-12))
+            return bad(r, "vehicle.from_speed", "%g m/s lies above the highest speed solved "
+                                                "(%g m/s); extend the speeds",
+                       c->vehicle.from_speed, vmax);
+    }
     if (cJSON_GetObjectItemCaseSensitive(root, "variants") != NULL)
         TRY(warn(r, "%s: variants: ignored here; `eddy2d batch` expands them into cases",
                  r->fname));
@@ -703,5 +986,6 @@ void mesh_case_free(mesh_case *c)
     free(c->speeds);
     free(c->warnings);
     free(c->profiles);
+    free(c->disc.rpm);
     free(c);
 }

@@ -25,6 +25,9 @@
  *    PECLET_TARGET, if that costs at most MAX_PECLET_REFINE times more.
  * These defaults were chosen from the refinement studies in tests/ (drag
  * within about 1 % of the converged value on the demo and test cases).
+ * A saturable material (B-H curve) is meshed as a linear one with the
+ * initial permeability of its curve; its cells record their curve (bh_cell)
+ * for the nonlinear solve.
  */
 #include "mesh/mesh.h"
 
@@ -506,6 +509,25 @@ eddy_status mesh_grid_build(const mesh_case *c, mesh_grid **out, mesh_estimate *
         g->nu[k] = nu0;
         g->region[k] = -1;
     }
+    /* saturable materials: one curve per material used by a region */
+    int *curve_of = NULL;
+    for (int r = 0; r < c->nreg; r++) {
+        const mesh_material *m = region_material(c, &c->regions[r]);
+        if (m != NULL && m->bh.n > 0 && g->bh == NULL) {
+            g->bh = malloc((size_t)c->nmat * sizeof *g->bh);
+            g->bh_cell = malloc(nc * sizeof *g->bh_cell);
+            curve_of = malloc((size_t)c->nmat * sizeof *curve_of);
+            if (g->bh == NULL || g->bh_cell == NULL || curve_of == NULL) {
+                free(curve_of);
+                mesh_grid_free(g);
+                return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for %zu cells", nc);
+            }
+            for (size_t k = 0; k < nc; k++)
+                g->bh_cell[k] = -1;
+            for (int q = 0; q < c->nmat; q++)
+                curve_of[q] = -1;
+        }
+    }
     double tolx = 1e-9 * (c->x1 - c->x0), toly = 1e-9 * (c->y1 - c->y0);
     g->jm0 = g->ncy;
     g->jm1 = 0;
@@ -516,6 +538,15 @@ eddy_status mesh_grid_build(const mesh_case *c, mesh_grid **out, mesh_estimate *
         int j0 = lower_index(y, ny, rg->box[1], toly), j1 = lower_index(y, ny, rg->box[3], toly);
         double nu = m != NULL ? nu0 / m->mu_r : nu0;
         double br = m != NULL ? m->br : 0.0;
+        short curve = -1;
+        if (m != NULL && m->bh.n > 0) { /* initial reluctivity H_1 / B_1 of the curve */
+            nu = m->bh.h[1] / m->bh.b[1];
+            if (curve_of[rg->material] < 0) {
+                curve_of[rg->material] = g->nbh;
+                g->bh[g->nbh++] = m->bh;
+            }
+            curve = (short)curve_of[rg->material];
+        }
         for (int j = j0; j < j1 && j < g->ncy; j++)
             for (int i = i0; i < i1 && i < g->ncx; i++) {
                 size_t k = (size_t)i + (size_t)g->ncx * (size_t)j;
@@ -526,6 +557,8 @@ eddy_status mesh_grid_build(const mesh_case *c, mesh_grid **out, mesh_estimate *
                 g->jz[k] = rg->jz;
                 g->moving[k] = (unsigned char)rg->moving;
                 g->region[k] = (short)r;
+                if (g->bh_cell != NULL)
+                    g->bh_cell[k] = curve;
             }
         if (rg->moving) {
             if (j0 < g->jm0)
@@ -534,6 +567,7 @@ eddy_status mesh_grid_build(const mesh_case *c, mesh_grid **out, mesh_estimate *
                 g->jm1 = j1;
         }
     }
+    free(curve_of);
     if (g->jm1 <= g->jm0)
         g->jm0 = g->jm1 = 0;
     *out = g;
@@ -553,5 +587,7 @@ void mesh_grid_free(mesh_grid *g)
     free(g->jz);
     free(g->moving);
     free(g->region);
+    free(g->bh);
+    free(g->bh_cell);
     free(g);
 }

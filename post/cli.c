@@ -17,6 +17,9 @@
 #include "post/post.h"
 #include "solver/sol.h"
 
+/* The batch command (post/cli_batch.c). */
+int cli_batch(int argc, char **argv);
+
 
 static void usage(FILE *out)
 {
@@ -34,6 +37,9 @@ static void usage(FILE *out)
             "  eddy2d check CASE.json                 validate the case and print the mesh\n"
             "                                         summary without solving\n"
             "  eddy2d materials                       list the built-in material library\n"
+            "  eddy2d batch DIR_OR_CASE... -o OUTDIR  solve many cases and their variants, N at a\n"
+            "                                         time, resumable; summary.csv/json/html\n"
+            "                                         (eddy2d batch --help for its options)\n"
             "  eddy2d --help | --version\n"
             "\n"
             "options:\n"
@@ -44,6 +50,12 @@ static void usage(FILE *out)
             "  --full-domain   pictures of the whole domain instead of the region of\n"
             "                  interest (magnets, conductors and a margin)\n"
             "  --no-reference  do not evaluate the layered reference beside the grid solve\n"
+            "  -j N            speeds solved at once (default: the cores; fewer if the\n"
+            "                  factorisations would not fit in memory)\n"
+            "  --max-memory G  refuse a factorisation estimated above G GiB (default: the\n"
+            "                  memory available)\n"
+            "  --export-matrix DIR  also write the system matrix and right-hand side of\n"
+            "                  every speed in Matrix Market format into DIR\n"
             "\n"
             "exit status: 0 success, 2 invalid input, 1 failure during computation\n",
             EDDY_VERSION);
@@ -109,6 +121,33 @@ static int cmd_check(const char *path)
         return fail(s, &err);
     printf("ok\n");
     return 0;
+}
+
+/* --export-matrix: the matrix and right-hand side of every speed. */
+static int cmd_export(const char *path, const char *dir)
+{
+    eddy_error err = {0};
+    mesh_case *c = NULL;
+    mesh_grid *g = NULL;
+    sol_system *sys = NULL;
+    eddy_status s = mesh_case_load(path, &c, &err);
+    if (s != EDDY_OK)
+        return fail_load(s, &err);
+    s = mesh_grid_build(c, &g, NULL, &err);
+    if (s == EDDY_OK)
+        s = sol_system_alloc(g, &sys, &err);
+    if (s == EDDY_OK)
+        s = post_make_dir(dir, &err);
+    for (int k = 0; s == EDDY_OK && k < c->nspeed; k++) {
+        char mp[4200], rp[4200];
+        snprintf(mp, sizeof mp, "%s/matrix_%02d_%.6gmps.mtx", dir, k, c->speeds[k]);
+        snprintf(rp, sizeof rp, "%s/rhs_%02d_%.6gmps.mtx", dir, k, c->speeds[k]);
+        s = sol_export(sys, c->speeds[k], mp, rp, &err);
+    }
+    sol_system_free(sys);
+    mesh_grid_free(g);
+    mesh_case_free(c);
+    return s == EDDY_OK ? 0 : fail(s, &err);
 }
 
 static void progress_line(void *ctx, int k, int n, const post_forces *f)
@@ -182,12 +221,14 @@ int main(int argc, char **argv)
     }
     if (strcmp(cmd, "materials") == 0)
         return cmd_materials();
+    if (strcmp(cmd, "batch") == 0)
+        return cli_batch(argc - 2, argv + 2);
     if (strcmp(cmd, "solve") != 0 && strcmp(cmd, "check") != 0 &&
         strcmp(cmd, "reference") != 0) {
         fprintf(stderr, "eddy2d: error: unknown command \"%s\" (try eddy2d --help)\n", cmd);
         return 2;
     }
-    const char *casefile = NULL;
+    const char *casefile = NULL, *export_dir = NULL;
     int quiet = 0;
     post_run_opts opts;
     post_run_opts_defaults(&opts);
@@ -200,6 +241,24 @@ int main(int argc, char **argv)
             opts.vtk = 1;
         } else if (strcmp(argv[k], "--full-domain") == 0) {
             opts.full_domain = 1;
+        } else if (strcmp(argv[k], "-j") == 0 && k + 1 < argc) {
+            char *end = NULL;
+            long j = strtol(argv[++k], &end, 10);
+            if (end == argv[k] || *end != '\0' || j < 1 || j > 64) {
+                fprintf(stderr, "eddy2d: error: -j needs a whole number from 1 to 64\n");
+                return 2;
+            }
+            opts.threads = (int)j;
+        } else if (strcmp(argv[k], "--max-memory") == 0 && k + 1 < argc) {
+            char *end = NULL;
+            double gib = strtod(argv[++k], &end);
+            if (end == argv[k] || *end != '\0' || !(gib > 0) || !isfinite(gib)) {
+                fprintf(stderr, "eddy2d: error: --max-memory needs a size in GiB, e.g. 4\n");
+                return 2;
+            }
+            opts.max_memory = gib * 1073741824.0;
+        } else if (strcmp(argv[k], "--export-matrix") == 0 && k + 1 < argc) {
+            export_dir = argv[++k];
         } else if (strcmp(argv[k], "--no-reference") == 0) {
             opts.reference = 0;
         } else if (strcmp(argv[k], "-q") == 0) {
@@ -225,6 +284,11 @@ int main(int argc, char **argv)
         return cmd_check(casefile);
     if (!quiet && isatty(2)) {
         opts.progress = progress_line;
+    }
+    if (export_dir != NULL) {
+        int rc = cmd_export(casefile, export_dir);
+        if (rc != 0)
+            return rc;
     }
     return cmd_solve(casefile, strcmp(cmd, "reference") == 0, &opts, quiet);
 }

@@ -21,15 +21,31 @@
 /* Forces and losses at one speed. */
 typedef struct {
     double speed;              /* m/s */
-    double force_x, force_y;   /* N/m, Lorentz force (J x B integral) on the moving regions */
+    double force_x, force_y;   /* N/m, force on the moving regions, by force_method */
     double drag;               /* N/m, -force_x * sign(speed): braking is positive */
+    const char *force_method;  /* static text, how force_x, force_y, drag were obtained:
+                                * "lorentz": J x B integral (non-magnetic conductors);
+                                * "stress_tensor": Maxwell stress on a contour in air
+                                * around the moving band (a magnetised conductor: mu_r != 1
+                                * or a B-H curve, where J x B misses the force on the
+                                * magnetisation); "lorentz_incomplete": a magnetised
+                                * conductor without an air contour, J x B only;
+                                * "reference": the layered reference */
+    double lorentz_x, lorentz_y; /* N/m, the J x B integral, whatever force_method */
     int stress_ok;             /* 1 if the stress-tensor contour exists (air around the band) */
     double stress_x, stress_y; /* N/m, Maxwell stress tensor force on the moving band */
     double drag_stress;        /* N/m, -stress_x * sign(speed) */
     double loss;               /* W/m, integral of J^2 / sigma */
     double low_speed_drag;     /* N/m, sigma |v| * integral of B0_y^2 (static field) */
     double magnetic_reynolds;  /* mu0 sigma |v| t of the moving band */
-    double j_peak;             /* A/m^2, largest |J_z| at the quadrature points */
+    double j_peak;             /* A/m^2, largest |J_z| of a node's dual cell */
+    double loss_density_peak;  /* W/m^3, largest J^2/sigma of a node's dual cell */
+    double loss_density_mean;  /* W/m^3, loss / conductor_area */
+    double conductor_area;     /* m^2, cross-section of the moving conductors */
+    double heating_rate;       /* K/s, adiabatic: loss / (rho c_p area); NAN if unknown */
+    double rpm;                /* disc brakes: revolutions per minute; NAN otherwise */
+    double torque, power;      /* disc brakes: N m, W of the whole disc; NAN otherwise */
+    double drag_end_corrected; /* N/m, drag x the end-effect factor; NAN if not asked */
 } post_forces;
 
 /*
@@ -52,6 +68,12 @@ double post_lowspeed_slope(const mesh_grid *g, const double *a_static);
  * available (stress_ok = 0) when no air row touches the band or a
  * stationary non-air cell lies inside it.  On a zero (A = 0) boundary that
  * bounds the band the normal field is zero, and its pressure is included.
+ * When a moving conductor is magnetised (reluctivity g->nu != 1/mu0 in a
+ * moving cell) and the stress contour exists, force_x, force_y and drag are
+ * the stress-tensor values (force_method "stress_tensor"); otherwise the
+ * J x B values.  With saturable materials pass a copy of the grid whose nu
+ * holds the converged cell reluctivities (sol_solve_newton's nu_cells), so
+ * that the induced current uses the solver's fluxes.
  * Returns EDDY_OK or EDDY_ERR_NUMERIC (non-finite result).
  */
 eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
@@ -75,427 +97,6 @@ eddy_status post_current_density(const mesh_grid *g, const double *a, double v, 
  */
 eddy_status post_field_at(const mesh_grid *g, const double *a, double x, double y, double *bx,
                           double *by);
-
-/* ------------------------------------------------------------------------ */
-/* Reports                                                                   */
-/* ------------------------------------------------------------------------ */
-
-/* Solver statistics of one speed, as reported (seconds). */
-typedef struct {
-    double t_assemble, t_factor, t_solve, t_post;
-    double lnz, unz, flops;
-} post_point_info;
-
-/* Whether the layered Fourier reference applies to a case. */
-typedef enum {
-    POST_REF_NONE = 0,          /* not asked for */
-    POST_REF_NOT_APPLICABLE,    /* the case does not fit; ref_note says why */
-    POST_REF_OK,                /* fits exactly */
-    POST_REF_APPROXIMATE,       /* fits with magnets' recoil mu_r taken as 1 */
-    POST_REF_FAILED             /* fits, but the quadrature failed; ref_note says why */
-} post_ref_state;
-
-/* The result of one run (a solve, or a reference evaluation): everything
- * the reports need.  Owns all its members; free with post_report_free.
- * Arrays have npoint entries. */
-typedef struct {
-    mesh_case *c;
-    mesh_grid *g;               /* NULL for a reference-only run */
-    const char *method;         /* static text: how the forces were computed */
-    long unknowns;              /* 0 for a reference-only run */
-    double t_mesh, t_analyse;   /* s */
-    int npoint;
-    post_forces *f;
-    post_point_info *info;
-    post_ref_state ref_state;
-    char ref_note[512];
-    double *ref_drag, *ref_force_y; /* N/m from the reference, NULL unless it applies */
-    const char *ordering;       /* fill-reducing ordering used (static text) */
-    double factor_bytes;        /* UMFPACK's estimated peak memory of one factorisation */
-    int threads;                /* speeds solved at once */
-    char outdir[4096];          /* where the outputs went */
-} post_report;
-
-/* Free a report and everything it owns; accepts NULL. */
-void post_report_free(post_report *r);
-
-/* Options of a run. */
-typedef struct {
-    const char *outdir;         /* output folder; NULL: results/<case name> */
-    int images;                 /* 1: write the PNG pictures */
-    int vtk;                    /* 1: write a VTK .vtr field file per speed */
-    int full_domain;            /* 1: pictures of the whole domain, 0: cropped */
-    int reference;              /* 1: add the layered reference where it fits */
-    int threads;                /* speeds solved at once (0: the machine's cores); fewer
-                                 * when their factorisations would not fit in memory */
-    double max_memory;          /* bytes allowed for one factorisation (0: no limit
-                                 * beyond the machine's) */
-    /* optional progress callback after each speed k (0-based) of n */
-    void (*progress)(void *ctx, int k, int n, const post_forces *f);
-    void *progress_ctx;
-} post_run_opts;
-
-/* Defaults: outdir NULL, images 1, vtk 0, full_domain 0, reference 1, no
- * progress callback. */
-void post_run_opts_defaults(post_run_opts *o);
-
-/*
- * The whole job for one case file: read and validate it, mesh, solve the
- * static field and every speed (one symbolic analysis, one numeric
- * factorisation per speed), compute forces and losses, evaluate the layered
- * reference where the case fits, and write result.json, forces.csv and the
- * pictures into the output folder (created only after the case and the mesh
- * are valid, so bad input writes nothing).
- *   out: receives the report (caller frees with post_report_free); it is
- *        also returned on a failure after the case was read, so the caller
- *        can name the case; NULL otherwise.
- * Returns EDDY_OK or the first error (EDDY_ERR_INPUT / EDDY_ERR_TOO_LARGE /
- * EDDY_ERR_IO for the input; others during computation).
- */
-eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_report **out,
-                           eddy_error *err);
-
-/*
- * The window the field pictures show (m): every non-air region (moving
- * conductors only over the x-range of the stationary parts; a periodic
- * domain's full period), with a margin, clipped to the domain; the whole
- * domain if full is non-zero.
- */
-void post_view_window(const mesh_case *c, int full, double view[4]);
-
-/*
- * The layered Fourier reference alone for a case that fits it: the same
- * result.json fields (drag_force, force_x, force_y, loss, low_speed_drag,
- * magnetic_reynolds) from the reference solver.  Returns
- * EDDY_ERR_NOT_APPLICABLE with the reason when the case does not fit.
- */
-eddy_status post_run_reference(const char *case_path, const post_run_opts *o,
-                               post_report **out, eddy_error *err);
-
-/*
- * Write DIR/result.json and DIR/forces.csv.  Each file is written to a
- * temporary name in DIR and renamed when complete, so an interrupted run
- * never leaves a half-written result.  dir must exist.
- * Returns EDDY_OK, EDDY_ERR_IO, EDDY_ERR_NOMEM.
- */
-eddy_status post_write_results(const char *dir, const post_report *r, eddy_error *err);
-
-/*
- * Create a directory and its parents (like mkdir -p).  Returns EDDY_OK or
- * EDDY_ERR_IO.
- */
-eddy_status post_make_dir(const char *dir, eddy_error *err);
-
-/*
- * Write `size` bytes to path atomically: to a temporary file in the same
- * directory, flushed to disk, then renamed over path.
- */
-eddy_status post_write_atomic(const char *path, const char *data, size_t size,
-                              eddy_error *err);
-
-/* The safety notice printed by the tool and written into result.json. */
-const char *post_safety_notice(void);
-
-/* ------------------------------------------------------------------------ */
-/* Pictures (post_img.c): field maps and force-speed plots as PNG, drawn    */
-/* with cairo into an image buffer and written with libpng.                  */
-/* ------------------------------------------------------------------------ */
-/*
- * Pictures of the post-processing module: field maps and
- * force-speed plots, drawn with cairo into an image buffer and written as
- * PNG with libpng.
- *
- * Conventions shared by every function here:
- *   - all inputs are in SI units (m, T, Wb/m, A/m^2, N/m, m/s); the scale
- *     factors in the option structs convert to display units for labels only;
- *   - nothing is printed and nothing exits: every function that can fail
- *     returns an eddy_status (EDDY_OK on success) and, if err is non-NULL,
- *     fills it with a message;
- *   - the caller keeps ownership of every array and string passed in; none
- *     is retained after the call returns;
- *   - pictures are written as 8-bit RGB PNG files (RGBA only if a pixel is
- *     not opaque, which the renderers here never produce) with text chunks
- *     describing the content (tEXt, or iTXt when a value is not plain ASCII).
- *
- * Text is drawn with cairo's "sans-serif" toy font.  In the quantity and
- * unit labels of a field map, "_x" / "_{abc}" draw a subscript and "^2" /
- * "^{-1}" a superscript ("J_z", "MA/m^2"); titles and case names are drawn
- * literally.
- */
-
-/* ------------------------------------------------------------------ */
-/* Colour maps                                                         */
-/* ------------------------------------------------------------------ */
-
-/* Colour of a normalised value t in [0, 1] (clamped; NaN gives 0.5).
- *   diverging != 0: Moreland's diverging "cool to warm" map (2009),
- *                   interpolated in his Msh colour space between the end
- *                   colours (59,76,192) and (180,4,38); t = 0.5 is the
- *                   neutral grey-white (221,221,221);
- *   diverging == 0: viridis (van der Walt & Smith, 2015), 256-entry table
- *                   interpolated linearly.
- * rgb receives sRGB components 0..255 (rounded).  Never fails. */
-void post_cmap_rgb(int diverging, double t, unsigned char rgb[3]);
-
-/* ------------------------------------------------------------------ */
-/* Field map                                                           */
-/* ------------------------------------------------------------------ */
-
-typedef struct {
-    const char *title;       /* UTF-8 title drawn above the map; NULL: none      */
-    const char *quantity;    /* e.g. "J_z" or "|B|": colour-bar label, PNG text  */
-    const char *unit_label;  /* display unit, e.g. "MA/m^2" or "T"               */
-    double value_scale;      /* display value = SI value * value_scale           */
-    int diverging;           /* 1: cool-warm, range -m..m with m = max |v|;
-                                0: viridis, range min(0, vmin)..vmax             */
-    const char *length_unit; /* axis unit label, e.g. "mm" or "m"                */
-    double length_scale;     /* display length = metres * length_scale           */
-    int width_px;            /* image width in px (0: 1200; 300..10000)          */
-    double view[4];          /* x0, y0, x1, y1 in m: the window drawn (crop)      */
-    int n_flux_lines;        /* contours of A at equal steps (0..1000); 0: none  */
-    const double *outlines;  /* n_outlines rectangles x0,y0,x1,y1 (m), may be NULL
-                                when n_outlines == 0                             */
-    int n_outlines;
-    const char *case_name;   /* PNG text "eddy2d:case"; NULL: omitted            */
-    double speed;            /* m/s, PNG text "eddy2d:speed_m_per_s"; NaN: omitted */
-    const char *version;     /* tool version for PNG text "Software"; NULL: none */
-} post_map_opts;
-
-/* Fill *o with defaults: no title, quantity "value", unit "", value_scale 1,
- * viridis, axes in mm (length_scale 1000), width 1200 px, view all zero
- * (meaning: the whole grid), no flux lines, no outlines, speed NaN. */
-void post_map_opts_defaults(post_map_opts *o);
-
-/* Where things go in a field-map image (all in px, origin top-left, y down).
- * The plot rectangle holds exactly plot_w x plot_h resampled field pixels;
- * plot_h = round(plot_w * view height / view width) (true geometry). */
-typedef struct {
-    int width, height;        /* image size                                  */
-    int plot_x, plot_y;       /* top-left pixel of the field rectangle        */
-    int plot_w, plot_h;       /* its size                                    */
-    int bar_x, bar_y;         /* top-left pixel of the colour-bar gradient    */
-    int bar_w, bar_h;         /* its size (top row = vmax)                   */
-    double vmin, vmax;        /* colour range, SI units of the field          */
-    double view[4];           /* the view actually drawn, m                   */
-} post_map_geom;
-
-/* Compute the layout post_map_png would use for the same arguments, without
- * drawing.  Arguments as for post_map_png (a_nodes is not needed).
- * Returns EDDY_OK, EDDY_ERR_INPUT (bad argument), EDDY_ERR_NUMERIC
- * (non-finite field value) or EDDY_ERR_NOMEM. */
-eddy_status post_map_geometry(int nx, int ny, const double *x, const double *y,
-                              const double *field, const unsigned char *cell_mask,
-                              const post_map_opts *o, post_map_geom *g, eddy_error *err);
-
-/* Draw a colour map of a nodal field and write it as a PNG file.
- *   path       output file (overwritten).
- *   nx, ny     grid size, both >= 2.
- *   x[nx], y[ny] node coordinates in m, finite and strictly increasing
- *              (non-uniform tensor grid).
- *   field      node values (SI), nx*ny, index i + nx*j.  Each pixel of the
- *              map is located on the grid by binary search and the field is
- *              interpolated bilinearly inside its cell.
- *   cell_mask  optional, (nx-1)*(ny-1) bytes, index i + (nx-1)*j: cells with
- *              0 are painted as the value 0 (e.g. J outside conductors) and
- *              do not count for the colour range; NULL: all cells count.
- *   a_nodes    optional node values of the vector potential A_z (Wb/m),
- *              nx*ny, for o->n_flux_lines contour lines at equal steps of A
- *              between min and max A over the cells in view (so their
- *              density shows |B|); NULL: no flux lines.
- *   o          options (see post_map_opts); view all zero = whole grid.
- * Pixels of the view outside the grid are left white.  y points up.
- * Returns EDDY_OK; EDDY_ERR_INPUT for a bad argument; EDDY_ERR_NUMERIC for a
- * non-finite field or A value; EDDY_ERR_NOMEM; EDDY_ERR_IO when the file
- * cannot be written. */
-eddy_status post_map_png(const char *path, int nx, int ny, const double *x, const double *y,
-                         const double *field, const unsigned char *cell_mask,
-                         const double *a_nodes, const post_map_opts *o, eddy_error *err);
-
-/* ------------------------------------------------------------------ */
-/* Force-speed plot                                                    */
-/* ------------------------------------------------------------------ */
-
-typedef struct {
-    const char *title;     /* UTF-8; NULL: "Forces vs speed"                */
-    const char *case_name; /* PNG text "eddy2d:case"; NULL: omitted         */
-    const char *version;   /* PNG text "Software"; NULL: omitted            */
-    int width_px, height_px; /* 0: 1000 x 650; each 300..10000              */
-} post_plot_opts;
-
-/* Fill *o with the defaults above (all NULL, sizes 0 = default). */
-void post_plot_opts_defaults(post_plot_opts *o);
-
-/* Peak of a drag curve.  speed[n] (m/s, any order, n >= 1), drag[n] (N/m).
- * The sample with the largest |drag| is taken (so either sign convention
- * works); when it is not at either end of the speed range, a parabola
- * through |drag| there and at its two speed-neighbours - in log10(speed) if
- * log_speed (all speeds must then be > 0), else in speed - is used instead
- * when it is concave, since its vertex is a better estimate of the true
- * maximum between samples.  Outputs (any may be NULL): *v_peak (m/s),
- * *f_peak (N/m, with the sign of the largest sample), *refined (1 if the
- * parabola was used, else 0).
- * Returns EDDY_OK or EDDY_ERR_INPUT (n < 1, NULL arrays, non-finite values,
- * speed <= 0 with log_speed). */
-eddy_status post_force_peak(int n, const double *speed, const double *drag, int log_speed,
-                            double *v_peak, double *f_peak, int *refined, eddy_error *err);
-
-/* Plot drag and normal force per unit length against speed and write a PNG.
- *   speed[n]   m/s (n >= 1); drag[n], normal[n] N/m (normal may be NULL).
- *              Computed points are marked and joined in speed order.
- *   low_speed_slope  drag/speed at low speed (N/m per m/s), drawn as the
- *              dashed line drag = slope * v; NAN: not drawn.
- *   ref_n, ref_speed, ref_drag, ref_normal  reference curve(s) drawn as thin
- *              lines without markers; ref_n may be 0 (arrays then unused);
- *              with ref_n > 0 ref_speed is required and either of ref_drag /
- *              ref_normal may be NULL.
- *   o          options; may be NULL for defaults.
- * The speed axis is logarithmic when all |speeds| are > 0, of one sign and
- * span more than a decade (|v| is then plotted), else linear.  The peak drag
- * (see post_force_peak) is marked and labelled with its speed.
- * Returns EDDY_OK; EDDY_ERR_INPUT for bad arguments; EDDY_ERR_NUMERIC for a
- * non-finite value; EDDY_ERR_NOMEM; EDDY_ERR_IO when the file cannot be
- * written. */
-eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
-                                 const double *drag, const double *normal,
-                                 double low_speed_slope, int ref_n, const double *ref_speed,
-                                 const double *ref_drag, const double *ref_normal,
-                                 const post_plot_opts *o, eddy_error *err);
-
-
-
-
-/* ------------------------------------------------------------------------ */
-/* Node fields (post_fields.c)                                               */
-/* ------------------------------------------------------------------------ */
-
-/*
- * Field quantities of one solution on the grid.  Node arrays have nx*ny
- * entries, index i + nx*j; cell arrays ncx*ncy entries, index i + ncx*j.
- * Allocated by post_fields_alloc for one grid; filled by post_fields_compute.
- */
-typedef struct {
-    int nx, ny, ncx, ncy;  /* the grid's sizes, fixed at allocation          */
-    double speed;          /* m/s of the last post_fields_compute            */
-    double *bx, *by;       /* flux density at the nodes, T                   */
-    double *bmag;          /* |B| = hypot(bx, by), T                         */
-    double *jz;            /* induced current density J_z, A/m^2 (as
-                              post_current_density; 0 away from moving
-                              conductors)                                     */
-    double *loss;          /* Joule loss density J_z^2 / sigma, W/m^3;
-                              0 at nodes touching no moving conductor         */
-    int *region;           /* per cell: region index owning it, -1 for air  */
-} post_fields;
-
-/*
- * Allocate the arrays of a post_fields for grid g (zero-filled).
- *   out: receives the new struct, owned by the caller (post_fields_free);
- *        NULL on error.
- * Returns EDDY_OK, EDDY_ERR_INPUT (g NULL or smaller than 2 x 2 nodes),
- * EDDY_ERR_NOMEM.
- */
-eddy_status post_fields_alloc(const mesh_grid *g, post_fields **out, eddy_error *err);
-
-/* Free a post_fields and its arrays; accepts NULL. */
-void post_fields_free(post_fields *f);
-
-/*
- * Fill f from the solution a (nx*ny node values of A_z, Wb/m) at speed v (m/s).
- *
- * B = (dA/dy, -dA/dx) at a node is the weighted mean of the corner values of
- * the derivative of the bilinear interpolant of A in the (up to four) cells
- * around the node.  Those corner values are the one-sided differences along
- * the grid edges through the node; they are weighted by the size of the cell
- * on the other side (h_- D_+ + h_+ D_-) / (h_- + h_+), which is exact for a
- * quadratic A and so second-order at interior nodes of a smooth field, also on
- * the graded grid.  On a zero (Dirichlet) boundary only the inner side exists
- * and the value is first-order; on periodic x sides the cells across the side
- * are used and the copy node i = nx-1 gets the values of node 0.
- * Material interfaces get no special treatment: the normal component of B is
- * continuous and its node value is unaffected, but where the permeability
- * jumps the tangential component is discontinuous and the node value is the
- * weighted mean of the two one-sided values (for the value on one side, use
- * post_field_at at a point inside a cell of that side).
- *
- * J_z is post_current_density (consistent with the forces).  The loss density
- * is J_z^2 times the mean resistivity 1/sigma of the moving conductor cells
- * touching the node, weighted by the quarter-cell areas at the node (the same
- * part of the dual cell over which the node's J_z is the mean); 0 at nodes
- * touching no moving conductor.  Its trapezoid integral over the moving cells
- * (cell area x mean of the four corners) equals post_forces.loss to rounding
- * where the moving cells at each node share one sigma and nu (measured
- * 1e-15 on the test cases); elsewhere it is an approximation of it.
- *   g:   the grid of the solution.
- *   a:   nx*ny, Wb/m, not modified.
- *   v:   speed, m/s (recorded in f->speed).
- *   f:   from post_fields_alloc for a grid of the same size.
- * Returns EDDY_OK, EDDY_ERR_INPUT (NULL argument, or f allocated for another
- * grid size), EDDY_ERR_NOMEM, EDDY_ERR_NUMERIC (a non-finite value).
- */
-eddy_status post_fields_compute(const mesh_grid *g, const double *a, double v, post_fields *f,
-                                eddy_error *err);
-
-/*
- * Write one solution as a VTK XML RectilinearGrid file (.vtr, ASCII data),
- * following the "XML File Formats" section of the VTK file-format
- * documentation: VTKFile type="RectilinearGrid" > RectilinearGrid
- * WholeExtent="0 nx-1 0 ny-1 0 0" > FieldData, then one Piece with the same
- * Extent > PointData, CellData, Coordinates (three DataArrays x, y, z; z is
- * the single value 0).  Point order is x fastest (index i + nx*j), as the
- * grid's own arrays.  Array names carry their SI units:
- *   FieldData: speed_m_per_s (1 value); metres_per_case_length_unit (1 value,
- *              only when length_unit_label is "m", "cm", "mm" or "um": divide
- *              coordinates by it to show case units).
- *   PointData: A_Wb_per_m, B_T (3 components, z = 0; the Vectors attribute),
- *              B_magnitude_T (the Scalars attribute), Jz_A_per_m2,
- *              loss_density_W_per_m3.
- *   CellData:  region_id (Int32: region index, -1 for air).
- *   Coordinates: x_m, y_m, z_m (metres).
- * Doubles are written with 9 significant digits (coordinates with 15).  The
- * file is written to a temporary name in the same directory and renamed when
- * complete (post_write_atomic); the directory must exist.
- *   path:  output file name (conventionally ending in .vtr).
- *   g, a:  the grid and the solution (nx*ny, Wb/m).
- *   f:     fields of a, from post_fields_compute (same grid size).
- *   speed: m/s, written to FieldData.
- *   length_unit_label: the case's display length unit (e.g. "mm"), written
- *          in an XML comment (characters outside [A-Za-z0-9._/ ] replaced by
- *          '_'); NULL: omitted.  Coordinates stay in metres.
- * Returns EDDY_OK, EDDY_ERR_INPUT (NULL argument or size mismatch),
- * EDDY_ERR_NUMERIC (a non-finite value), EDDY_ERR_NOMEM, EDDY_ERR_IO.
- */
-eddy_status post_write_vtr(const char *path, const mesh_grid *g, const double *a,
-                           const post_fields *f, double speed, const char *length_unit_label,
-                           eddy_error *err);
-
-/*
- * Sample B_x, B_y and J_z at npts equally spaced points along the segment
- * p0 -> p1 (metres, both ends included), which must be horizontal or vertical
- * and lie inside the grid.
- *   B: post_field_at (derivative of the bilinear interpolant of A in the
- *      cell holding the point; on a grid line, the cell above / to the right,
- *      except on the top / right edge of the grid).  Exact per cell, so it
- *      keeps the jump of tangential B at a permeability interface, but only
- *      first-order accurate away from cell centres (B_y is constant across a
- *      cell in x, B_x in y).
- *   J: J_z is discontinuous at a conductor surface, so it is interpolated
- *      bilinearly from the node values of post_current_density within one
- *      moving conductor cell that holds the point (on a cell edge, a moving
- *      conductor cell is preferred to a stationary neighbour); 0 when no cell
- *      holding the point is a moving conductor.  Within conductors J is
- *      continuous from cell to cell, as the node values are shared.
- *   npts: 2 .. 10000000.
- *   csv:  receives a malloc'ed NUL-terminated text (caller frees): the header
- *         line "s_m,x_m,y_m,Bx_T,By_T,Jz_A_per_m2" then one line per point,
- *         s = distance from p0 in m; values with 9 significant digits.
- *   len:  optional, receives strlen(*csv).
- * Returns EDDY_OK, EDDY_ERR_INPUT (NULL argument, npts out of range,
- * non-finite or zero-length segment, a segment neither horizontal nor
- * vertical, an end outside the grid), EDDY_ERR_NOMEM.  *csv is NULL on error.
- */
-eddy_status post_line_profile(const mesh_grid *g, const double *a, double v, const double p0[2],
-                              const double p1[2], int npts, char **csv, size_t *len,
-                              eddy_error *err);
-
 
 /* ------------------------------------------------------------------------ */
 /* Brake design (post_brake.c)                                               */
@@ -847,6 +448,512 @@ double post_disc_torque(double force, double radius);
 /* Braking power in W: P = F v (force in N, speed in m/s).  In steady state it
  * equals the loss in the conductor. */
 double post_brake_power(double force, double speed);
+
+
+/* ------------------------------------------------------------------------ */
+/* Reports                                                                   */
+/* ------------------------------------------------------------------------ */
+
+/* Solver statistics of one speed, as reported (seconds). */
+typedef struct {
+    double t_assemble, t_factor, t_solve, t_post;
+    double lnz, unz, flops;
+    /* saturable materials: the Newton-Raphson solve (newton.iterations = 0
+     * and newton.n_residual = 0 for a linear case) */
+    sol_newton_info newton;
+} post_point_info;
+
+/* Whether the layered Fourier reference applies to a case. */
+typedef enum {
+    POST_REF_NONE = 0,          /* not asked for */
+    POST_REF_NOT_APPLICABLE,    /* the case does not fit; ref_note says why */
+    POST_REF_OK,                /* fits exactly */
+    POST_REF_APPROXIMATE,       /* fits with magnets' recoil mu_r taken as 1 */
+    POST_REF_FAILED             /* fits, but the quadrature failed; ref_note says why */
+} post_ref_state;
+
+/* The result of one run (a solve, or a reference evaluation): everything
+ * the reports need.  Owns all its members; free with post_report_free.
+ * Arrays have npoint entries. */
+typedef struct {
+    mesh_case *c;
+    mesh_grid *g;               /* NULL for a reference-only run */
+    const char *method;         /* static text: how the forces were computed */
+    long unknowns;              /* 0 for a reference-only run */
+    double t_mesh, t_analyse;   /* s */
+    int npoint;
+    post_forces *f;
+    post_point_info *info;
+    post_ref_state ref_state;
+    char ref_note[512];
+    double *ref_drag, *ref_force_y; /* N/m from the reference, NULL unless it applies */
+    const char *ordering;       /* fill-reducing ordering used (static text) */
+    double factor_bytes;        /* UMFPACK's estimated peak memory of one factorisation */
+    int threads;                /* speeds solved at once */
+    /* brake design (post_design.c) */
+    int has_peak;
+    double peak_drag, peak_speed; /* N/m, m/s (interpolated when peak_refined) */
+    int peak_refined, peak_at_end; /* refined by a parabola; the largest drag is at an end */
+    double end_factor;          /* Russell-Norsworthy factor, NAN if not asked */
+    int has_stop;
+    post_stop_result stop;      /* the vehicle's stop (has_stop) */
+    double stop_table_change;   /* relative change of the distance on half tables */
+    double stop_temperature_rise; /* K, NAN if no conductor mass */
+    int adapt_rounds;           /* adaptive sweep: refinement rounds done */
+    char outdir[4096];          /* where the outputs went */
+} post_report;
+
+/* Free a report and everything it owns; accepts NULL. */
+void post_report_free(post_report *r);
+
+/* ------------------------------------------------------------------------ */
+/* Brake-design answers of a run (post_design.c)                             */
+/* ------------------------------------------------------------------------ */
+
+/* Sort a report's points (forces, infos, the case's speeds) by speed. */
+void post_design_sort(post_report *r);
+
+/*
+ * Speeds to add to an adaptive sweep (the report's points sorted by speed,
+ * all speeds and drags positive): where the monotone cubic (Fritsch and
+ * Carlson 1980) in log speed and log drag through the other points misses
+ * a point by more than 0.5 % (0.1 % at the drag peak), the midpoints (in
+ * log speed) of its two intervals.  Writes at most max_new speeds (m/s) into
+ * speeds and returns how many.
+ */
+int post_design_refine(const post_report *r, double *speeds, int max_new);
+
+/*
+ * Fill the design answers of a finished run: per point the adiabatic
+ * heating rate (from the moving materials' density and specific heat), disc
+ * torque and power (case "disc"), the end-corrected drag (case
+ * "end_effect", Russell-Norsworthy factor); the drag peak (parabola in log
+ * speed through the largest sampled drag and its neighbours); the stop of
+ * the case's "vehicle" (force = drag x depth x repeat, monotone cubic in
+ * log-log, post_stop_compute), the change of its distance when half the
+ * points are used, and the conductor's temperature rise.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (e.g. the stop's speeds outside the
+ * sweep), EDDY_ERR_NOMEM.
+ */
+eddy_status post_design_evaluate(post_report *r, eddy_error *err);
+
+/* The largest acceptable relative change of the stopping distance when the
+ * speed table is halved (0.005). */
+double post_design_stop_tolerance(void);
+
+/* Options of a run. */
+typedef struct {
+    const char *outdir;         /* output folder; NULL: results/<case name> */
+    int images;                 /* 1: write the PNG pictures */
+    int vtk;                    /* 1: write a VTK .vtr field file per speed */
+    int full_domain;            /* 1: pictures of the whole domain, 0: cropped */
+    int reference;              /* 1: add the layered reference where it fits */
+    int threads;                /* speeds solved at once (0: the machine's cores); fewer
+                                 * when their factorisations would not fit in memory */
+    double max_memory;          /* bytes allowed for one factorisation (0: no limit
+                                 * beyond the machine's) */
+    int max_newton;             /* Newton-Raphson steps allowed per speed with saturable
+                                 * materials, 1..SOL_NEWTON_MAX_ITER (0: the maximum) */
+    /* optional progress callback after each speed k (0-based) of n */
+    void (*progress)(void *ctx, int k, int n, const post_forces *f);
+    void *progress_ctx;
+} post_run_opts;
+
+/* Defaults: outdir NULL, images 1, vtk 0, full_domain 0, reference 1, no
+ * progress callback. */
+void post_run_opts_defaults(post_run_opts *o);
+
+/*
+ * The whole job for one case file: read and validate it, mesh, solve the
+ * static field and every speed (one symbolic analysis, one numeric
+ * factorisation per speed), compute forces and losses, evaluate the layered
+ * reference where the case fits, and write result.json, forces.csv and the
+ * pictures into the output folder (created only after the case and the mesh
+ * are valid, so bad input writes nothing).
+ *   out: receives the report (caller frees with post_report_free); it is
+ *        also returned on a failure after the case was read, so the caller
+ *        can name the case; NULL otherwise.
+ * Returns EDDY_OK or the first error (EDDY_ERR_INPUT / EDDY_ERR_TOO_LARGE /
+ * EDDY_ERR_IO for the input; others during computation).
+ */
+eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_report **out,
+                           eddy_error *err);
+
+/*
+ * The window the field pictures show (m): every non-air region (moving
+ * conductors only over the x-range of the stationary parts; a periodic
+ * domain's full period), with a margin, clipped to the domain; the whole
+ * domain if full is non-zero.
+ */
+void post_view_window(const mesh_case *c, int full, double view[4]);
+
+/*
+ * The layered Fourier reference alone for a case that fits it: the same
+ * result.json fields (drag_force, force_x, force_y, loss, low_speed_drag,
+ * magnetic_reynolds) from the reference solver.  Returns
+ * EDDY_ERR_NOT_APPLICABLE with the reason when the case does not fit.
+ */
+eddy_status post_run_reference(const char *case_path, const post_run_opts *o,
+                               post_report **out, eddy_error *err);
+
+/*
+ * Write DIR/result.json and DIR/forces.csv.  Each file is written to a
+ * temporary name in DIR and renamed when complete, so an interrupted run
+ * never leaves a half-written result.  dir must exist.
+ * Returns EDDY_OK, EDDY_ERR_IO, EDDY_ERR_NOMEM.
+ */
+eddy_status post_write_results(const char *dir, const post_report *r, eddy_error *err);
+
+/*
+ * Create a directory and its parents (like mkdir -p).  Returns EDDY_OK or
+ * EDDY_ERR_IO.
+ */
+eddy_status post_make_dir(const char *dir, eddy_error *err);
+
+/*
+ * Write `size` bytes to path atomically: to a temporary file in the same
+ * directory, flushed to disk, then renamed over path.
+ */
+eddy_status post_write_atomic(const char *path, const char *data, size_t size,
+                              eddy_error *err);
+
+/* The safety notice printed by the tool and written into result.json. */
+const char *post_safety_notice(void);
+
+/* ------------------------------------------------------------------------ */
+/* Pictures (post_img.c): field maps and force-speed plots as PNG, drawn    */
+/* with cairo into an image buffer and written with libpng.                  */
+/* ------------------------------------------------------------------------ */
+/*
+ * Pictures of the post-processing module: field maps and
+ * force-speed plots, drawn with cairo into an image buffer and written as
+ * PNG with libpng.
+ *
+ * Conventions shared by every function here:
+ *   - all inputs are in SI units (m, T, Wb/m, A/m^2, N/m, m/s); the scale
+ *     factors in the option structs convert to display units for labels only;
+ *   - nothing is printed and nothing exits: every function that can fail
+ *     returns an eddy_status (EDDY_OK on success) and, if err is non-NULL,
+ *     fills it with a message;
+ *   - the caller keeps ownership of every array and string passed in; none
+ *     is retained after the call returns;
+ *   - pictures are written as 8-bit RGB PNG files (RGBA only if a pixel is
+ *     not opaque, which the renderers here never produce) with text chunks
+ *     describing the content (tEXt, or iTXt when a value is not plain ASCII).
+ *
+ * Text is drawn with cairo's "sans-serif" toy font.  In the quantity and
+ * unit labels of a field map, "_x" / "_{abc}" draw a subscript and "^2" /
+ * "^{-1}" a superscript ("J_z", "MA/m^2"); titles and case names are drawn
+ * literally.
+ */
+
+/* ------------------------------------------------------------------ */
+/* Colour maps                                                         */
+/* ------------------------------------------------------------------ */
+
+/* Colour of a normalised value t in [0, 1] (clamped; NaN gives 0.5).
+ *   diverging != 0: Moreland's diverging "cool to warm" map (2009),
+ *                   interpolated in his Msh colour space between the end
+ *                   colours (59,76,192) and (180,4,38); t = 0.5 is the
+ *                   neutral grey-white (221,221,221);
+ *   diverging == 0: viridis (van der Walt & Smith, 2015), 256-entry table
+ *                   interpolated linearly.
+ * rgb receives sRGB components 0..255 (rounded).  Never fails. */
+void post_cmap_rgb(int diverging, double t, unsigned char rgb[3]);
+
+/* ------------------------------------------------------------------ */
+/* Field map                                                           */
+/* ------------------------------------------------------------------ */
+
+typedef struct {
+    const char *title;       /* UTF-8 title drawn above the map; NULL: none      */
+    const char *quantity;    /* e.g. "J_z" or "|B|": colour-bar label, PNG text  */
+    const char *unit_label;  /* display unit, e.g. "MA/m^2" or "T"               */
+    double value_scale;      /* display value = SI value * value_scale           */
+    int diverging;           /* 1: cool-warm, range -m..m with m = max |v|;
+                                0: viridis, range min(0, vmin)..vmax             */
+    const char *length_unit; /* axis unit label, e.g. "mm" or "m"                */
+    double length_scale;     /* display length = metres * length_scale           */
+    int width_px;            /* image width in px (0: 1200; 300..10000)          */
+    double view[4];          /* x0, y0, x1, y1 in m: the window drawn (crop)      */
+    int n_flux_lines;        /* contours of A at equal steps (0..1000); 0: none  */
+    const double *outlines;  /* n_outlines rectangles x0,y0,x1,y1 (m), may be NULL
+                                when n_outlines == 0                             */
+    int n_outlines;
+    const char *case_name;   /* PNG text "eddy2d:case"; NULL: omitted            */
+    double speed;            /* m/s, PNG text "eddy2d:speed_m_per_s"; NaN: omitted */
+    const char *version;     /* tool version for PNG text "Software"; NULL: none */
+} post_map_opts;
+
+/* Fill *o with defaults: no title, quantity "value", unit "", value_scale 1,
+ * viridis, axes in mm (length_scale 1000), width 1200 px, view all zero
+ * (meaning: the whole grid), no flux lines, no outlines, speed NaN. */
+void post_map_opts_defaults(post_map_opts *o);
+
+/* Where things go in a field-map image (all in px, origin top-left, y down).
+ * The plot rectangle holds exactly plot_w x plot_h resampled field pixels;
+ * plot_h = round(plot_w * view height / view width) (true geometry). */
+typedef struct {
+    int width, height;        /* image size                                  */
+    int plot_x, plot_y;       /* top-left pixel of the field rectangle        */
+    int plot_w, plot_h;       /* its size                                    */
+    int bar_x, bar_y;         /* top-left pixel of the colour-bar gradient    */
+    int bar_w, bar_h;         /* its size (top row = vmax)                   */
+    double vmin, vmax;        /* colour range, SI units of the field          */
+    double view[4];           /* the view actually drawn, m                   */
+} post_map_geom;
+
+/* Compute the layout post_map_png would use for the same arguments, without
+ * drawing.  Arguments as for post_map_png (a_nodes is not needed).
+ * Returns EDDY_OK, EDDY_ERR_INPUT (bad argument), EDDY_ERR_NUMERIC
+ * (non-finite field value) or EDDY_ERR_NOMEM. */
+eddy_status post_map_geometry(int nx, int ny, const double *x, const double *y,
+                              const double *field, const unsigned char *cell_mask,
+                              const post_map_opts *o, post_map_geom *g, eddy_error *err);
+
+/* Draw a colour map of a nodal field and write it as a PNG file.
+ *   path       output file (overwritten).
+ *   nx, ny     grid size, both >= 2.
+ *   x[nx], y[ny] node coordinates in m, finite and strictly increasing
+ *              (non-uniform tensor grid).
+ *   field      node values (SI), nx*ny, index i + nx*j.  Each pixel of the
+ *              map is located on the grid by binary search and the field is
+ *              interpolated bilinearly inside its cell.
+ *   cell_mask  optional, (nx-1)*(ny-1) bytes, index i + (nx-1)*j: cells with
+ *              0 are painted as the value 0 (e.g. J outside conductors) and
+ *              do not count for the colour range; NULL: all cells count.
+ *   a_nodes    optional node values of the vector potential A_z (Wb/m),
+ *              nx*ny, for o->n_flux_lines contour lines at equal steps of A
+ *              between min and max A over the cells in view (so their
+ *              density shows |B|); NULL: no flux lines.
+ *   o          options (see post_map_opts); view all zero = whole grid.
+ * Pixels of the view outside the grid are left white.  y points up.
+ * Returns EDDY_OK; EDDY_ERR_INPUT for a bad argument; EDDY_ERR_NUMERIC for a
+ * non-finite field or A value; EDDY_ERR_NOMEM; EDDY_ERR_IO when the file
+ * cannot be written. */
+eddy_status post_map_png(const char *path, int nx, int ny, const double *x, const double *y,
+                         const double *field, const unsigned char *cell_mask,
+                         const double *a_nodes, const post_map_opts *o, eddy_error *err);
+
+/* ------------------------------------------------------------------ */
+/* Force-speed plot                                                    */
+/* ------------------------------------------------------------------ */
+
+typedef struct {
+    const char *title;     /* UTF-8; NULL: "Forces vs speed"                */
+    const char *case_name; /* PNG text "eddy2d:case"; NULL: omitted         */
+    const char *version;   /* PNG text "Software"; NULL: omitted            */
+    int width_px, height_px; /* 0: 1000 x 650; each 300..10000              */
+} post_plot_opts;
+
+/* Fill *o with the defaults above (all NULL, sizes 0 = default). */
+void post_plot_opts_defaults(post_plot_opts *o);
+
+/* Peak of a drag curve.  speed[n] (m/s, any order, n >= 1), drag[n] (N/m).
+ * The sample with the largest |drag| is taken (so either sign convention
+ * works); when it is not at either end of the speed range, a parabola
+ * through |drag| there and at its two speed-neighbours - in log10(speed) if
+ * log_speed (all speeds must then be > 0), else in speed - is used instead
+ * when it is concave, since its vertex is a better estimate of the true
+ * maximum between samples.  Outputs (any may be NULL): *v_peak (m/s),
+ * *f_peak (N/m, with the sign of the largest sample), *refined (1 if the
+ * parabola was used, else 0).
+ * Returns EDDY_OK or EDDY_ERR_INPUT (n < 1, NULL arrays, non-finite values,
+ * speed <= 0 with log_speed). */
+eddy_status post_force_peak(int n, const double *speed, const double *drag, int log_speed,
+                            double *v_peak, double *f_peak, int *refined, eddy_error *err);
+
+/* Plot drag and normal force per unit length against speed and write a PNG.
+ *   speed[n]   m/s (n >= 1); drag[n], normal[n] N/m (normal may be NULL).
+ *              Computed points are marked and joined in speed order.
+ *   low_speed_slope  drag/speed at low speed (N/m per m/s), drawn as the
+ *              dashed line drag = slope * v; NAN: not drawn.
+ *   ref_n, ref_speed, ref_drag, ref_normal  reference curve(s) drawn as thin
+ *              lines without markers; ref_n may be 0 (arrays then unused);
+ *              with ref_n > 0 ref_speed is required and either of ref_drag /
+ *              ref_normal may be NULL.
+ *   o          options; may be NULL for defaults.
+ * The speed axis is logarithmic when all |speeds| are > 0, of one sign and
+ * span more than a decade (|v| is then plotted), else linear.  The peak drag
+ * (see post_force_peak) is marked and labelled with its speed.
+ * Returns EDDY_OK; EDDY_ERR_INPUT for bad arguments; EDDY_ERR_NUMERIC for a
+ * non-finite value; EDDY_ERR_NOMEM; EDDY_ERR_IO when the file cannot be
+ * written. */
+eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
+                                 const double *drag, const double *normal,
+                                 double low_speed_slope, int ref_n, const double *ref_speed,
+                                 const double *ref_drag, const double *ref_normal,
+                                 const post_plot_opts *o, eddy_error *err);
+
+/* ------------------------------------------------------------------ */
+/* Two curves against a common x                                       */
+/* ------------------------------------------------------------------ */
+
+typedef struct {
+    const char *title;     /* drawn above the plot (NULL: none) and PNG text "Title" */
+    const char *case_name; /* PNG text "eddy2d:case"; NULL: omitted                 */
+    const char *version;   /* tool version for PNG text "Software"; NULL: none      */
+    const char *x_label;   /* x-axis title, e.g. "distance (m)"; PNG "eddy2d:x"     */
+    const char *y1_label;  /* left axis, e.g. "speed (m/s)"; PNG "eddy2d:y1"        */
+    const char *y2_label;  /* right axis, e.g. "deceleration (m/s^2)"; PNG
+                              "eddy2d:y2"; unused without y2                        */
+    const char *y1_name, *y2_name; /* legend entries (NULL: the axis label)         */
+    int width_px, height_px;       /* 0: 1000 x 650; each 300..10000               */
+} post_xy_opts;
+
+/* Fill *o with defaults: everything NULL / 0. */
+void post_xy_opts_defaults(post_xy_opts *o);
+
+/* Plot y1 (and y2) against x and write a PNG.
+ *   x[n], y1[n]  n >= 2 finite values; the curve joins the points in the
+ *                given order (x need not be monotonic).
+ *   y2[n]        a second curve on a right-hand axis with its own scale, its
+ *                ticks on the grid lines of y1's; NULL: none.
+ *   o            options; may be NULL for defaults.
+ * Linear axes with nice ticks; y1 is drawn in blue, y2 in vermillion (with
+ * axis titles in the same colours).  A legend is drawn for two curves, or
+ * for one when y1_name is set.  In axis titles and legend names "_x" /
+ * "_{abc}" draw a subscript and "^2" / "^{-1}" a superscript.
+ * Returns EDDY_OK; EDDY_ERR_INPUT for n < 2, a NULL path or array, a
+ * non-finite value or a bad size; EDDY_ERR_NOMEM; EDDY_ERR_IO when the file
+ * cannot be written. */
+eddy_status post_plot_xy_png(const char *path, int n, const double *x, const double *y1,
+                             const double *y2, const post_xy_opts *o, eddy_error *err);
+
+
+
+
+/* ------------------------------------------------------------------------ */
+/* Node fields (post_fields.c)                                               */
+/* ------------------------------------------------------------------------ */
+
+/*
+ * Field quantities of one solution on the grid.  Node arrays have nx*ny
+ * entries, index i + nx*j; cell arrays ncx*ncy entries, index i + ncx*j.
+ * Allocated by post_fields_alloc for one grid; filled by post_fields_compute.
+ */
+typedef struct {
+    int nx, ny, ncx, ncy;  /* the grid's sizes, fixed at allocation          */
+    double speed;          /* m/s of the last post_fields_compute            */
+    double *bx, *by;       /* flux density at the nodes, T                   */
+    double *bmag;          /* |B| = hypot(bx, by), T                         */
+    double *jz;            /* induced current density J_z, A/m^2 (as
+                              post_current_density; 0 away from moving
+                              conductors)                                     */
+    double *loss;          /* Joule loss density J_z^2 / sigma, W/m^3;
+                              0 at nodes touching no moving conductor         */
+    int *region;           /* per cell: region index owning it, -1 for air  */
+} post_fields;
+
+/*
+ * Allocate the arrays of a post_fields for grid g (zero-filled).
+ *   out: receives the new struct, owned by the caller (post_fields_free);
+ *        NULL on error.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (g NULL or smaller than 2 x 2 nodes),
+ * EDDY_ERR_NOMEM.
+ */
+eddy_status post_fields_alloc(const mesh_grid *g, post_fields **out, eddy_error *err);
+
+/* Free a post_fields and its arrays; accepts NULL. */
+void post_fields_free(post_fields *f);
+
+/*
+ * Fill f from the solution a (nx*ny node values of A_z, Wb/m) at speed v (m/s).
+ *
+ * B = (dA/dy, -dA/dx) at a node is the weighted mean of the corner values of
+ * the derivative of the bilinear interpolant of A in the (up to four) cells
+ * around the node.  Those corner values are the one-sided differences along
+ * the grid edges through the node; they are weighted by the size of the cell
+ * on the other side (h_- D_+ + h_+ D_-) / (h_- + h_+), which is exact for a
+ * quadratic A and so second-order at interior nodes of a smooth field, also on
+ * the graded grid.  On a zero (Dirichlet) boundary only the inner side exists
+ * and the value is first-order; on periodic x sides the cells across the side
+ * are used and the copy node i = nx-1 gets the values of node 0.
+ * Material interfaces get no special treatment: the normal component of B is
+ * continuous and its node value is unaffected, but where the permeability
+ * jumps the tangential component is discontinuous and the node value is the
+ * weighted mean of the two one-sided values (for the value on one side, use
+ * post_field_at at a point inside a cell of that side).
+ *
+ * J_z is post_current_density (consistent with the forces).  The loss density
+ * is J_z^2 times the mean resistivity 1/sigma of the moving conductor cells
+ * touching the node, weighted by the quarter-cell areas at the node (the same
+ * part of the dual cell over which the node's J_z is the mean); 0 at nodes
+ * touching no moving conductor.  Its trapezoid integral over the moving cells
+ * (cell area x mean of the four corners) equals post_forces.loss to rounding
+ * where the moving cells at each node share one sigma and nu (measured
+ * 1e-15 on the test cases); elsewhere it is an approximation of it.
+ *   g:   the grid of the solution.
+ *   a:   nx*ny, Wb/m, not modified.
+ *   v:   speed, m/s (recorded in f->speed).
+ *   f:   from post_fields_alloc for a grid of the same size.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (NULL argument, or f allocated for another
+ * grid size), EDDY_ERR_NOMEM, EDDY_ERR_NUMERIC (a non-finite value).
+ */
+eddy_status post_fields_compute(const mesh_grid *g, const double *a, double v, post_fields *f,
+                                eddy_error *err);
+
+/*
+ * Write one solution as a VTK XML RectilinearGrid file (.vtr, ASCII data),
+ * following the "XML File Formats" section of the VTK file-format
+ * documentation: VTKFile type="RectilinearGrid" > RectilinearGrid
+ * WholeExtent="0 nx-1 0 ny-1 0 0" > FieldData, then one Piece with the same
+ * Extent > PointData, CellData, Coordinates (three DataArrays x, y, z; z is
+ * the single value 0).  Point order is x fastest (index i + nx*j), as the
+ * grid's own arrays.  Array names carry their SI units:
+ *   FieldData: speed_m_per_s (1 value); metres_per_case_length_unit (1 value,
+ *              only when length_unit_label is "m", "cm", "mm" or "um": divide
+ *              coordinates by it to show case units).
+ *   PointData: A_Wb_per_m, B_T (3 components, z = 0; the Vectors attribute),
+ *              B_magnitude_T (the Scalars attribute), Jz_A_per_m2,
+ *              loss_density_W_per_m3.
+ *   CellData:  region_id (Int32: region index, -1 for air).
+ *   Coordinates: x_m, y_m, z_m (metres).
+ * Doubles are written with 9 significant digits (coordinates with 15).  The
+ * file is written to a temporary name in the same directory and renamed when
+ * complete (post_write_atomic); the directory must exist.
+ *   path:  output file name (conventionally ending in .vtr).
+ *   g, a:  the grid and the solution (nx*ny, Wb/m).
+ *   f:     fields of a, from post_fields_compute (same grid size).
+ *   speed: m/s, written to FieldData.
+ *   length_unit_label: the case's display length unit (e.g. "mm"), written
+ *          in an XML comment (characters outside [A-Za-z0-9._/ ] replaced by
+ *          '_'); NULL: omitted.  Coordinates stay in metres.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (NULL argument or size mismatch),
+ * EDDY_ERR_NUMERIC (a non-finite value), EDDY_ERR_NOMEM, EDDY_ERR_IO.
+ */
+eddy_status post_write_vtr(const char *path, const mesh_grid *g, const double *a,
+                           const post_fields *f, double speed, const char *length_unit_label,
+                           eddy_error *err);
+
+/*
+ * Sample B_x, B_y and J_z at npts equally spaced points along the segment
+ * p0 -> p1 (metres, both ends included), which must be horizontal or vertical
+ * and lie inside the grid.
+ *   B: post_field_at (derivative of the bilinear interpolant of A in the
+ *      cell holding the point; on a grid line, the cell above / to the right,
+ *      except on the top / right edge of the grid).  Exact per cell, so it
+ *      keeps the jump of tangential B at a permeability interface, but only
+ *      first-order accurate away from cell centres (B_y is constant across a
+ *      cell in x, B_x in y).
+ *   J: J_z is discontinuous at a conductor surface, so it is interpolated
+ *      bilinearly from the node values of post_current_density within one
+ *      moving conductor cell that holds the point (on a cell edge, a moving
+ *      conductor cell is preferred to a stationary neighbour); 0 when no cell
+ *      holding the point is a moving conductor.  Within conductors J is
+ *      continuous from cell to cell, as the node values are shared.
+ *   npts: 2 .. 10000000.
+ *   csv:  receives a malloc'ed NUL-terminated text (caller frees): the header
+ *         line "s_m,x_m,y_m,Bx_T,By_T,Jz_A_per_m2" then one line per point,
+ *         s = distance from p0 in m; values with 9 significant digits.
+ *   len:  optional, receives strlen(*csv).
+ * Returns EDDY_OK, EDDY_ERR_INPUT (NULL argument, npts out of range,
+ * non-finite or zero-length segment, a segment neither horizontal nor
+ * vertical, an end outside the grid), EDDY_ERR_NOMEM.  *csv is NULL on error.
+ */
+eddy_status post_line_profile(const mesh_grid *g, const double *a, double v, const double p0[2],
+                              const double p1[2], int npts, char **csv, size_t *len,
+                              eddy_error *err);
 
 
 /* ------------------------------------------------------------------------ */

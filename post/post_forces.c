@@ -165,7 +165,7 @@ static double face_value(double al, double ar, double pe)
 }
 
 typedef struct {
-    double fx, fy, loss, j_peak;
+    double fx, fy, loss, j_peak, q_peak; /* q_peak: largest loss density, W/m^3 */
 } nodal_sums;
 
 /* Induced current, force and loss on the dual cells of the nodes of the
@@ -177,7 +177,7 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
 {
     size_t nx = (size_t)g->nx;
     int ncx = g->ncx, i_end = g->x_periodic ? ncx : ncx + 1;
-    double fx = 0.0, fy = 0.0, loss = 0.0, jpk = 0.0;
+    double fx = 0.0, fy = 0.0, loss = 0.0, jpk = 0.0, qpk = 0.0;
     for (int j = g->jm0; j < g->jm1; j++) {
         double hy = g->y[j + 1] - g->y[j];
         for (int jn = j; jn <= j + 1; jn++) { /* node rows on the two sides of the cell row */
@@ -214,6 +214,8 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
                 loss += cur * cur / (sigma * area);
                 if (fabs(cur) / area > jpk)
                     jpk = fabs(cur) / area;
+                if (cur * cur / (sigma * area * area) > qpk)
+                    qpk = cur * cur / (sigma * area * area);
             }
         }
     }
@@ -221,6 +223,7 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
     out->fy = fy;
     out->loss = loss;
     out->j_peak = jpk;
+    out->q_peak = qpk;
 }
 
 double post_lowspeed_slope(const mesh_grid *g, const double *a_static)
@@ -236,10 +239,15 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
     nodal_sums n;
     nodal_forces(g, a, v, 1, &n, NULL, NULL);
     double sig_t = 0.0; /* integral of sigma over the band thickness, column 0 */
+    double area = 0.0;  /* of the moving conductors, m^2 */
     for (int j = g->jm0; j < g->jm1; j++) {
         size_t k0 = (size_t)g->ncx * (size_t)j;
+        double hy = g->y[j + 1] - g->y[j];
         if (g->moving[k0])
-            sig_t += g->sigma[k0] * (g->y[j + 1] - g->y[j]);
+            sig_t += g->sigma[k0] * hy;
+        for (int i = 0; i < g->ncx; i++)
+            if (g->moving[k0 + (size_t)i] && g->sigma[k0 + (size_t)i] > 0.0)
+                area += hy * (g->x[i + 1] - g->x[i]);
     }
     double sgn = v > 0 ? 1.0 : (v < 0 ? -1.0 : 0.0);
     f->speed = v;
@@ -248,12 +256,40 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
     f->drag = -n.fx * sgn;
     f->loss = n.loss;
     f->j_peak = n.j_peak;
+    f->loss_density_peak = n.q_peak;
+    f->loss_density_mean = area > 0 ? n.loss / area : 0.0;
+    f->conductor_area = area;
     f->low_speed_drag = fabs(v) * lowspeed_slope;
     f->magnetic_reynolds = EDDY_MU0 * sig_t * fabs(v);
     f->stress_ok = stress_force(g, a, &f->stress_x, &f->stress_y);
     f->drag_stress = f->stress_ok ? -f->stress_x * sgn : NAN;
     if (!f->stress_ok)
         f->stress_x = f->stress_y = NAN;
+    /* A magnetised moving region (mu_r != 1, or saturable: g->nu holds the
+     * solution's reluctivities) also feels the force on its magnetisation,
+     * which J x B misses; the stress in the air around the band is the
+     * whole force (e.g. J. D. Jackson, "Classical Electrodynamics", 3rd ed.,
+     * 1999, section 6.7; Maxwell stress in the vacuum surrounding a body). */
+    f->lorentz_x = n.fx;
+    f->lorentz_y = n.fy;
+    f->force_method = "lorentz";
+    int magnetised = 0;
+    for (int j = g->jm0; j < g->jm1 && !magnetised; j++)
+        for (int i = 0; i < g->ncx; i++) {
+            size_t k = (size_t)i + (size_t)g->ncx * (size_t)j;
+            if (g->moving[k] && fabs(g->nu[k] * EDDY_MU0 - 1.0) > 1e-12) {
+                magnetised = 1;
+                break;
+            }
+        }
+    if (magnetised && f->stress_ok) {
+        f->force_x = f->stress_x;
+        f->force_y = f->stress_y;
+        f->drag = f->drag_stress;
+        f->force_method = "stress_tensor";
+    } else if (magnetised) {
+        f->force_method = "lorentz_incomplete";
+    }
     if (!isfinite(n.fx) || !isfinite(n.fy) || !isfinite(n.loss))
         return EDDY_RAISE(err, EDDY_ERR_NUMERIC, "non-finite force or loss at %g m/s", v);
     return EDDY_OK;

@@ -238,6 +238,21 @@ typedef struct {
     int decimals;
 } ticks_t;
 
+/* Decimals that show every multiple of step d exactly (d = 2.5 needs one). */
+static int step_decimals(double d)
+{
+    int dec = -(int)floor(log10(d) + 1e-9);
+    if (dec < 0)
+        dec = 0;
+    while (dec < 12) {
+        double m = d * pow(10.0, dec);
+        if (fabs(m - round(m)) <= 1e-6 * m)
+            break;
+        dec++;
+    }
+    return dec;
+}
+
 /* Ticks at multiples of a nice step about target apart, inside [lo, hi]. */
 static void make_ticks(double lo, double hi, int target, ticks_t *t)
 {
@@ -250,8 +265,7 @@ static void make_ticks(double lo, double hi, int target, ticks_t *t)
         target = 2;
     double d = nicenum((hi - lo) / (target - 1), 1);
     t->step = d;
-    int dec = -(int)floor(log10(d) + 1e-9);
-    t->decimals = dec < 0 ? 0 : dec;
+    t->decimals = step_decimals(d);
     double k0 = ceil(lo / d - 1e-9);
     for (int k = 0; t->n < MAX_TICKS; k++) {
         double v = (k0 + k) * d;
@@ -319,6 +333,18 @@ static double text_width(cairo_t *cr, const char *s)
     cairo_text_extents_t e;
     cairo_text_extents(cr, s, &e);
     return e.x_advance;
+}
+
+/* Width of the widest label of a tick set, in the current font. */
+static double ticks_label_width(cairo_t *cr, const ticks_t *t)
+{
+    double wmax = 0.0;
+    for (int k = 0; k < t->n; k++) {
+        char buf[64];
+        fmt_tick(buf, sizeof buf, t->v[k], t->decimals);
+        wmax = fmax(wmax, text_width(cr, buf));
+    }
+    return wmax;
 }
 
 /* Height of capitals as a fraction of the font size (for centring digits). */
@@ -602,6 +628,15 @@ static eddy_status write_surface_png(const char *path, cairo_surface_t *surf, co
     return EDDY_OK;
 }
 
+/* The PNG "Software" text for a tool version in buf, or NULL without one. */
+static const char *software_text(char *buf, size_t size, const char *version)
+{
+    if (version == NULL)
+        return NULL;
+    snprintf(buf, size, "eddy2d %s", version);
+    return buf;
+}
+
 /* A white ARGB32 surface and its context, or an error. */
 static eddy_status new_canvas(int w, int h, cairo_surface_t **surf, cairo_t **cr, eddy_error *err)
 {
@@ -792,11 +827,7 @@ static double max_label_width(cairo_t *cr, double lo, double hi)
     for (int target = 2; target <= 12; target++) {
         ticks_t t;
         make_ticks(lo, hi, target, &t);
-        for (int k = 0; k < t.n; k++) {
-            char buf[64];
-            fmt_tick(buf, sizeof buf, t.v[k], t.decimals);
-            wmax = fmax(wmax, text_width(cr, buf));
-        }
+        wmax = fmax(wmax, ticks_label_width(cr, &t));
     }
     return wmax;
 }
@@ -816,15 +847,8 @@ static void fit_ticks(cairo_t *cr, double lo, double hi, double len, double px_p
         if (t->n < 2)
             continue;
         double spacing = t->step / (hi - lo) * len, need = gap;
-        if (horizontal) {
-            double wmax = 0.0;
-            for (int k = 0; k < t->n; k++) {
-                char buf[64];
-                fmt_tick(buf, sizeof buf, t->v[k], t->decimals);
-                wmax = fmax(wmax, text_width(cr, buf));
-            }
-            need += wmax;
-        }
+        if (horizontal)
+            need += ticks_label_width(cr, t);
         if (spacing >= need)
             return;
     }
@@ -1321,17 +1345,13 @@ eddy_status post_map_png(const char *path, int nx, int ny, const double *x, cons
     }
     if (st == EDDY_OK) {
         char speed[64], software[160];
-        const char *speed_p = NULL, *soft_p = NULL;
+        const char *speed_p = NULL;
         if (isfinite(o->speed)) {
             snprintf(speed, sizeof speed, "%.9g", o->speed);
             speed_p = speed;
         }
-        if (o->version != NULL) {
-            snprintf(software, sizeof software, "eddy2d %s", o->version);
-            soft_p = software;
-        }
         png_kv kv[] = {{"Title", o->title},
-                       {"Software", soft_p},
+                       {"Software", software_text(software, sizeof software, o->version)},
                        {"eddy2d:case", o->case_name},
                        {"eddy2d:speed_m_per_s", speed_p},
                        {"eddy2d:quantity", o->quantity},
@@ -1436,29 +1456,84 @@ static double ax_Y(const plot_axes *a, double v)
     return a->py + a->ph - (v - a->ylo) / (a->yhi - a->ylo) * a->ph;
 }
 
+/* Ticks at alo, alo + d, ... up to ahi. */
+static void ticks_every(double alo, double ahi, double d, ticks_t *t)
+{
+    t->n = 0;
+    t->step = d;
+    t->decimals = step_decimals(d);
+    for (int k = 0; t->n < MAX_TICKS; k++) {
+        double v = alo + k * d;
+        if (v > ahi + 1e-9 * d)
+            break;
+        t->v[t->n++] = fabs(v) < 1e-9 * d ? 0.0 : v;
+    }
+}
+
+/* An empty range [lo, hi] widened around its value. */
+static void widen_empty(double *lo, double *hi)
+{
+    if (!(*hi > *lo)) {
+        double m = fmax(fabs(*lo), 1e-12);
+        *lo -= 0.5 * m;
+        *hi += 0.5 * m;
+    }
+}
+
 /* Ticks on a loose axis: the axis is extended to whole steps around [lo, hi]. */
 static void loose_axis(double lo, double hi, int target, double *alo, double *ahi, ticks_t *t)
 {
-    if (!(hi > lo)) {
-        double m = fmax(fabs(lo), 1e-12);
-        lo -= 0.5 * m;
-        hi += 0.5 * m;
-    }
+    widen_empty(&lo, &hi);
     make_ticks(lo, hi, target, t);
     double d = t->step;
     *alo = floor(lo / d + 1e-9) * d;
     *ahi = ceil(hi / d - 1e-9) * d;
     make_ticks(*alo, *ahi, target, t);
-    if (t->step != d) { /* keep the same step on the extended range */
-        t->n = 0;
-        t->step = d;
-        for (int k = 0; t->n < MAX_TICKS; k++) {
-            double v = *alo + k * d;
-            if (v > *ahi + 1e-9 * d)
-                break;
-            t->v[t->n++] = fabs(v) < 1e-9 * d ? 0.0 : v;
-        }
+    if (t->step != d) /* keep the same step on the extended range */
+        ticks_every(*alo, *ahi, d, t);
+}
+
+/* A loose axis with the most ticks (10 at most) whose horizontal labels,
+ * in the current font, fit along len px with gap px between them. */
+static void fit_loose_axis(cairo_t *cr, double lo, double hi, double len, double gap,
+                           double *alo, double *ahi, ticks_t *t)
+{
+    for (int target = 10; target >= 2; target--) {
+        loose_axis(lo, hi, target, alo, ahi, t);
+        if (t->n < 2 || t->step / (*ahi - *alo) * len >= ticks_label_width(cr, t) + gap)
+            return;
     }
+}
+
+/* An axis over [lo, hi] cut into exactly nint steps of 1, 2, 2.5 or 5 times
+ * a power of ten, so that its ticks fall on the grid lines of another axis
+ * with nint steps.  The smallest such step that covers the range is taken;
+ * whole steps left over are split between the ends, except that an axis of
+ * values >= 0 does not go below zero. */
+static void aligned_axis(double lo, double hi, int nint, double *alo, double *ahi, ticks_t *t)
+{
+    static const double mult[4] = {1.0, 2.0, 2.5, 5.0};
+    if (nint < 1)
+        nint = 1;
+    widen_empty(&lo, &hi);
+    double want = (hi - lo) / nint, p = pow(10.0, floor(log10(want)));
+    double d = want, a0 = lo;
+    for (int k = 0; k < 64; k++) {
+        d = mult[k % 4] * p * pow(10.0, k / 4);
+        if (d < want * (1.0 - 1e-12))
+            continue;
+        a0 = floor(lo / d + 1e-9) * d;
+        if (a0 + nint * d >= hi - 1e-9 * d)
+            break;
+    }
+    int spare = (int)floor((a0 + nint * d - hi) / d + 1e-9), down = spare / 2;
+    if (lo >= 0.0 && down > (int)floor(a0 / d + 1e-9))
+        down = (int)floor(a0 / d + 1e-9);
+    if (down < 0)
+        down = 0;
+    *alo = a0 - down * d;
+    *ahi = *alo + nint * d;
+    ticks_every(*alo, *ahi, d, t);
 }
 
 /* Log-axis ticks: majors at decades, minors at 2..9; labelled marks. */
@@ -1530,14 +1605,15 @@ static void draw_marker(cairo_t *cr, double X, double Y, int square, double r)
     }
 }
 
-/* Polyline of (xs[k], ys[k]) in x order, plus optional markers. */
+/* Polyline of (xs[k], ys[k]) in the order order[] (NULL: as given), plus
+ * optional markers. */
 static void draw_series(cairo_t *cr, const plot_axes *ax, int n, const double *xs,
                         const double *ys, const int *order, const double col[3], double lw,
                         double alpha, int marker, double mr)
 {
     cairo_set_source_rgba(cr, col[0], col[1], col[2], alpha);
     for (int k = 0; k < n; k++) {
-        int i = order[k];
+        int i = order != NULL ? order[k] : k;
         if (k == 0)
             cairo_move_to(cr, ax_X(ax, xs[i]), ax_Y(ax, ys[i]));
         else
@@ -1566,14 +1642,277 @@ typedef struct {
     int rank;     /* order in the legend */
 } legend_entry;
 
-static eddy_status check_series(const char *what, int n, const double *v, eddy_error *err)
+/* A non-finite value of series `what` (NULL: not given) is an error `code`
+ * of the plot called `plot`. */
+static eddy_status check_series(const char *plot, const char *what, int n, const double *v,
+                                eddy_status code, eddy_error *err)
 {
     if (v == NULL)
         return EDDY_OK;
     for (int k = 0; k < n; k++)
         if (!isfinite(v[k]))
-            return EDDY_RAISE(err, EDDY_ERR_NUMERIC, "force plot: %s[%d] is not finite", what, k);
+            return EDDY_RAISE(err, code, "%s: %s[%d] is not finite", plot, what, k);
     return EDDY_OK;
+}
+
+/* ------------------------------------------------------------------ */
+/* Pieces shared by the line plots                                     */
+/* ------------------------------------------------------------------ */
+
+/* Picture size from the options (0: the default), checked. */
+static eddy_status plot_size(const char *plot, int w, int h, int *W, int *H, eddy_error *err)
+{
+    *W = w == 0 ? PLOT_DEFAULT_W : w;
+    *H = h == 0 ? PLOT_DEFAULT_H : h;
+    if (*W < IMG_MIN_PX || *W > IMG_MAX_PX || *H < IMG_MIN_PX || *H > IMG_MAX_PX)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: size %dx%d px outside %d..%d", plot, *W, *H,
+                          IMG_MIN_PX, IMG_MAX_PX);
+    return EDDY_OK;
+}
+
+/* Sizes in a line plot of W x H px (all in px). */
+typedef struct {
+    double s;                              /* scale against 1000 x 650 px      */
+    double f_tick, f_label, f_title, f_leg; /* font sizes                      */
+    double pad, ticklen, label_h;
+    double bottom;                         /* plot rectangle to the lower edge */
+} plot_style;
+
+static void plot_style_init(int W, int H, plot_style *ps)
+{
+    double s = fmin(W / 1000.0, H / 650.0);
+    double ts = fmax(s, 0.8); /* text stays readable on small pictures */
+    ps->s = s;
+    ps->f_tick = 14.0 * ts;
+    ps->f_label = 16.0 * ts;
+    ps->f_title = 19.0 * ts;
+    ps->f_leg = 13.5 * ts;
+    ps->pad = 14.0 * s;
+    ps->ticklen = 6.0 * s;
+    ps->label_h = 1.25 * ps->f_label;
+    ps->bottom = ps->ticklen + 5.0 * s + 1.4 * ps->f_tick + 10.0 * s + ps->label_h + ps->pad;
+}
+
+/* Width of a side margin holding a value axis: axis title, tick labels of
+ * width label_w, tick marks. */
+static double value_margin(const plot_style *ps, double label_w)
+{
+    return ps->pad + ps->label_h + 8.0 * ps->s + label_w + 5.0 * ps->s + ps->ticklen;
+}
+
+/* A loose value axis over [lo, hi] with ticks about 45 px apart (10 at most). */
+static void value_axis(double lo, double hi, const plot_axes *ax, const plot_style *ps,
+                       double *alo, double *ahi, ticks_t *t)
+{
+    int target = (int)(ax->ph / (45.0 * ps->s));
+    if (target > 10)
+        target = 10;
+    loose_axis(lo, hi, target, alo, ahi, t);
+}
+
+/* Light grid lines at xv[nxv] and at the value ticks, and a darker line at
+ * zero when the value range holds it. */
+static void draw_grid(cairo_t *cr, const plot_axes *ax, const plot_style *ps, int nxv,
+                      const double *xv, const ticks_t *yt)
+{
+    cairo_set_line_width(cr, fmax(1.0, ps->s));
+    cairo_set_source_rgb(cr, 0.9, 0.9, 0.9);
+    for (int k = 0; k < yt->n; k++) {
+        double Y = round(ax_Y(ax, yt->v[k])) + 0.5;
+        cairo_move_to(cr, ax->px, Y);
+        cairo_line_to(cr, ax->px + ax->pw, Y);
+    }
+    for (int k = 0; k < nxv; k++) {
+        double X = round(ax_X(ax, xv[k])) + 0.5;
+        cairo_move_to(cr, X, ax->py);
+        cairo_line_to(cr, X, ax->py + ax->ph);
+    }
+    cairo_stroke(cr);
+    if (ax->ylo < 0.0 && ax->yhi > 0.0) {
+        double Y = round(ax_Y(ax, 0.0)) + 0.5;
+        cairo_set_source_rgb(cr, 0.55, 0.55, 0.55);
+        cairo_move_to(cr, ax->px, Y);
+        cairo_line_to(cr, ax->px + ax->pw, Y);
+        cairo_stroke(cr);
+    }
+}
+
+/* Tick marks and labels of a value axis on the left (right == 0) or the
+ * right side of the frame (line width lw); ax gives that axis's range. */
+static void draw_value_ticks(cairo_t *cr, const plot_axes *ax, const ticks_t *t, int right,
+                             const plot_style *ps, double lw)
+{
+    double edge = right ? ax->px + ax->pw + lw : ax->px - lw, dir = right ? 1.0 : -1.0;
+    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
+    for (int k = 0; k < t->n; k++) {
+        double Y = ax_Y(ax, t->v[k]);
+        cairo_move_to(cr, edge, Y);
+        cairo_line_to(cr, edge + dir * ps->ticklen, Y);
+    }
+    cairo_set_line_width(cr, lw);
+    cairo_stroke(cr);
+    set_font(cr, ps->f_tick, 0);
+    char buf[64];
+    for (int k = 0; k < t->n; k++) {
+        fmt_tick(buf, sizeof buf, t->v[k], t->decimals);
+        draw_text(cr, edge + dir * (ps->ticklen + 5.0 * ps->s), ax_Y(ax, t->v[k]), buf,
+                  right ? 0.0 : 1.0, 0.5);
+    }
+}
+
+/* Tick marks and labels of a linear x axis below the frame. */
+static void draw_x_ticks(cairo_t *cr, const plot_axes *ax, const ticks_t *t, const plot_style *ps,
+                         double lw)
+{
+    double bot = ax->py + ax->ph + lw;
+    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
+    for (int k = 0; k < t->n; k++) {
+        cairo_move_to(cr, ax_X(ax, t->v[k]), bot);
+        cairo_line_to(cr, ax_X(ax, t->v[k]), bot + ps->ticklen);
+    }
+    cairo_set_line_width(cr, lw);
+    cairo_stroke(cr);
+    set_font(cr, ps->f_tick, 0);
+    char buf[64];
+    for (int k = 0; k < t->n; k++) {
+        fmt_tick(buf, sizeof buf, t->v[k], t->decimals);
+        draw_text(cr, ax_X(ax, t->v[k]), bot + ps->ticklen + 5.0 * ps->s, buf, 0.5, 0.0);
+    }
+}
+
+/* Axis titles in the current colour ("_" and "^" mark sub- and
+ * superscripts).  The x title goes below the tick labels; a value-axis
+ * title reads upwards with its baseline at x = base_x, centred on the plot. */
+static void draw_x_title(cairo_t *cr, const plot_axes *ax, const plot_style *ps, double lw,
+                         const char *label)
+{
+    if (label == NULL)
+        return;
+    set_font(cr, ps->f_label, 0);
+    draw_rich(cr, ax->px + ax->pw / 2.0,
+              ax->py + ax->ph + lw + ps->ticklen + 5.0 * ps->s + 1.4 * ps->f_tick + 10.0 * ps->s,
+              label, ps->f_label, 0.5, 0.0, 0.0);
+}
+
+static void draw_value_title(cairo_t *cr, const plot_axes *ax, const plot_style *ps, double base_x,
+                             const char *label)
+{
+    if (label == NULL)
+        return;
+    set_font(cr, ps->f_label, 0);
+    draw_rich(cr, base_x, ax->py + ax->ph / 2.0, label, ps->f_label, 0.5, 1.0, -M_PI / 2.0);
+}
+
+/* A drawn curve, for keeping the legend off it. */
+typedef struct {
+    const plot_axes *ax; /* the axes it is drawn on */
+    int n;
+    const double *x, *y;
+    const int *order;    /* drawing order; NULL: as given */
+} plot_curve;
+
+/* Points of the curves inside box (x, y, w, h) grown by margin px: the
+ * vertices and points every 4 px along the segments between them. */
+static long curve_hits(const plot_curve *c, int nc, const double box[4], double margin)
+{
+    double x0 = box[0] - margin, x1 = box[0] + box[2] + margin;
+    double y0 = box[1] - margin, y1 = box[1] + box[3] + margin;
+    long hits = 0;
+    for (int q = 0; q < nc; q++) {
+        double PX = 0.0, PY = 0.0;
+        for (int k = 0; k < c[q].n; k++) {
+            int i = c[q].order != NULL ? c[q].order[k] : k;
+            double X = ax_X(c[q].ax, c[q].x[i]), Y = ax_Y(c[q].ax, c[q].y[i]);
+            int steps = 1;
+            if (k > 0) {
+                double len = hypot(X - PX, Y - PY);
+                steps = len < 4.0e4 ? (int)ceil(len / 4.0) : 10000;
+                if (steps < 1)
+                    steps = 1;
+            }
+            for (int m = k > 0 ? 1 : steps; m <= steps; m++) {
+                double t = (double)m / steps;
+                double SX = PX + t * (X - PX), SY = PY + t * (Y - PY);
+                hits += SX > x0 && SX < x1 && SY > y0 && SY < y1;
+            }
+            PX = X;
+            PY = Y;
+        }
+    }
+    return hits;
+}
+
+/* The legend, in the inner corner of the plot over the fewest curve points
+ * that does not cover the box avoid (x, y, w, h; NULL: none), preferring
+ * top left, top right, bottom right, bottom left on a tie.  Entries are
+ * listed by rank (leg is reordered); "_" and "^" in labels mark sub- and
+ * superscripts. */
+static void draw_legend(cairo_t *cr, const plot_axes *ax, const plot_style *ps,
+                        legend_entry *leg, int nleg, const plot_curve *curves, int ncurves,
+                        const double *avoid)
+{
+    if (nleg < 1)
+        return;
+    double s = ps->s, f = ps->f_leg;
+    set_font(cr, f, 0);
+    double lwid = 0.0, row_h = 1.6 * f, sw = 30.0 * s;
+    for (int k = 0; k < nleg; k++) {
+        rich_t r;
+        rich_parse(leg[k].label, &r);
+        lwid = fmax(lwid, rich_width(cr, &r, f));
+    }
+    double bw = 10.0 * s + sw + 8.0 * s + lwid + 10.0 * s, bh = nleg * row_h + 10.0 * s;
+    double inset = 10.0 * s, best_bx = 0.0, best_by = 0.0;
+    long best = -1;
+    for (int corner = 0; corner < 4; corner++) {
+        double box[4] = {(corner == 0 || corner == 3) ? ax->px + inset : ax->px + ax->pw - inset - bw,
+                         corner < 2 ? ax->py + inset : ax->py + ax->ph - inset - bh, bw, bh};
+        long hits = curve_hits(curves, ncurves, box, 6.0 * s);
+        if (avoid != NULL && avoid[0] < box[0] + bw && avoid[0] + avoid[2] > box[0] &&
+            avoid[1] < box[1] + bh && avoid[1] + avoid[3] > box[1])
+            hits += 1000000;
+        if (best < 0 || hits < best) {
+            best = hits;
+            best_bx = box[0];
+            best_by = box[1];
+        }
+    }
+    cairo_set_source_rgba(cr, 1.0, 1.0, 1.0, 0.9);
+    cairo_rectangle(cr, best_bx, best_by, bw, bh);
+    cairo_fill_preserve(cr);
+    cairo_set_source_rgb(cr, 0.6, 0.6, 0.6);
+    cairo_set_line_width(cr, 1.0);
+    cairo_stroke(cr);
+    for (int k = 1; k < nleg; k++) { /* sort by rank */
+        legend_entry e = leg[k];
+        int m = k - 1;
+        while (m >= 0 && leg[m].rank > e.rank) {
+            leg[m + 1] = leg[m];
+            m--;
+        }
+        leg[m + 1] = e;
+    }
+    for (int k = 0; k < nleg; k++) {
+        const legend_entry *e = &leg[k];
+        double cy = best_by + 5.0 * s + (k + 0.5) * row_h;
+        double x0 = best_bx + 10.0 * s;
+        cairo_set_source_rgba(cr, e->col[0], e->col[1], e->col[2], e->alpha);
+        if (e->dashed) {
+            double dash[2] = {7.0 * s, 5.0 * s};
+            cairo_set_dash(cr, dash, 2, 0.0);
+        }
+        cairo_move_to(cr, x0, cy);
+        cairo_line_to(cr, x0 + sw, cy);
+        cairo_set_line_width(cr, e->lw);
+        cairo_stroke(cr);
+        cairo_set_dash(cr, NULL, 0, 0.0);
+        if (e->marker) {
+            draw_marker(cr, x0 + sw / 2.0, cy, e->marker == 2, e->marker == 2 ? 3.6 * s : 4.2 * s);
+            cairo_fill(cr);
+        }
+        cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
+        draw_rich(cr, x0 + sw + 8.0 * s, cy, e->label, f, 0.0, 0.5, 0.0);
+    }
 }
 
 eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
@@ -1582,6 +1921,7 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
                                  const double *ref_drag, const double *ref_normal,
                                  const post_plot_opts *o, eddy_error *err)
 {
+    static const char *plot = "force plot";
     post_plot_opts def;
     post_plot_opts_defaults(&def);
     if (o == NULL)
@@ -1593,22 +1933,20 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
                           ref_n);
     if (ref_n > 0 && ref_drag == NULL && ref_normal == NULL)
         ref_n = 0;
-    int W = o->width_px == 0 ? PLOT_DEFAULT_W : o->width_px;
-    int H = o->height_px == 0 ? PLOT_DEFAULT_H : o->height_px;
-    if (W < IMG_MIN_PX || W > IMG_MAX_PX || H < IMG_MIN_PX || H > IMG_MAX_PX)
-        return EDDY_RAISE(err, EDDY_ERR_INPUT, "force plot: size %dx%d px outside %d..%d", W, H,
-                          IMG_MIN_PX, IMG_MAX_PX);
-    eddy_status st = check_series("speed", n, speed, err);
+    int W, H;
+    eddy_status st = plot_size(plot, o->width_px, o->height_px, &W, &H, err);
     if (st == EDDY_OK)
-        st = check_series("drag", n, drag, err);
+        st = check_series(plot, "speed", n, speed, EDDY_ERR_NUMERIC, err);
     if (st == EDDY_OK)
-        st = check_series("normal", n, normal, err);
+        st = check_series(plot, "drag", n, drag, EDDY_ERR_NUMERIC, err);
+    if (st == EDDY_OK)
+        st = check_series(plot, "normal", n, normal, EDDY_ERR_NUMERIC, err);
     if (st == EDDY_OK && ref_n > 0)
-        st = check_series("ref_speed", ref_n, ref_speed, err);
+        st = check_series(plot, "ref_speed", ref_n, ref_speed, EDDY_ERR_NUMERIC, err);
     if (st == EDDY_OK && ref_n > 0)
-        st = check_series("ref_drag", ref_n, ref_drag, err);
+        st = check_series(plot, "ref_drag", ref_n, ref_drag, EDDY_ERR_NUMERIC, err);
     if (st == EDDY_OK && ref_n > 0)
-        st = check_series("ref_normal", ref_n, ref_normal, err);
+        st = check_series(plot, "ref_normal", ref_n, ref_normal, EDDY_ERR_NUMERIC, err);
     if (st != EDDY_OK)
         return st;
     if (isinf(low_speed_slope))
@@ -1658,10 +1996,9 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
         return st;
     }
 
-    double s = fmin(W / 1000.0, H / 650.0);
-    double ts = fmax(s, 0.8); /* text stays readable on small pictures */
-    double f_tick = 14.0 * ts, f_label = 16.0 * ts, f_title = 19.0 * ts, f_leg = 13.5 * ts;
-    double pad = 14.0 * s, ticklen = 6.0 * s, label_h = 1.25 * f_label;
+    plot_style ps;
+    plot_style_init(W, H, &ps);
+    double s = ps.s;
 
     /* --- force range: 0, all forces, headroom for the peak label --- */
     double ylo = 0.0, yhi = 0.0;
@@ -1690,11 +2027,10 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
     yhi += 0.12 * (yhi - ylo);
 
     const char *title = o->title != NULL ? o->title : "Forces vs speed";
-    double top = pad + 1.6 * f_title + 0.6 * f_tick;
-    double bottom = ticklen + 5.0 * s + 1.4 * f_tick + 10.0 * s + label_h + pad;
-    double right = pad + 20.0 * s;
+    double top = ps.pad + 1.6 * ps.f_title + 0.6 * ps.f_tick;
+    double right = ps.pad + 20.0 * s;
     ax.py = ceil(top);
-    ax.ph = floor(H - top - bottom);
+    ax.ph = floor(H - top - ps.bottom);
 
     cairo_surface_t *surf = NULL;
     cairo_t *cr = NULL;
@@ -1704,19 +2040,10 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
         free(order);
         return st;
     }
-    set_font(cr, f_tick, 0);
+    set_font(cr, ps.f_tick, 0);
     ticks_t yt, xt;
-    int ytarget = (int)(ax.ph / (45.0 * s));
-    if (ytarget > 10)
-        ytarget = 10;
-    loose_axis(ylo, yhi, ytarget, &ax.ylo, &ax.yhi, &yt);
-    double yw = 0.0;
-    char buf[96];
-    for (int k = 0; k < yt.n; k++) {
-        fmt_tick(buf, sizeof buf, yt.v[k], yt.decimals);
-        yw = fmax(yw, text_width(cr, buf));
-    }
-    double left = pad + label_h + 8.0 * s + yw + 5.0 * s + ticklen;
+    value_axis(ylo, yhi, &ax, &ps, &ax.ylo, &ax.yhi, &yt);
+    double left = value_margin(&ps, ticks_label_width(cr, &yt));
     ax.px = ceil(left);
     ax.pw = floor(W - left - right);
 
@@ -1735,48 +2062,10 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
             hi += 0.03 * (hi - lo);
         if (smin < 0.0)
             lo -= 0.03 * (hi - lo);
-        int target;
-        for (target = 10; target >= 2; target--) {
-            loose_axis(lo, hi, target, &ax.xlo, &ax.xhi, &xt);
-            double wmax = 0.0;
-            for (int k = 0; k < xt.n; k++) {
-                fmt_tick(buf, sizeof buf, xt.v[k], xt.decimals);
-                wmax = fmax(wmax, text_width(cr, buf));
-            }
-            if (xt.n < 2 || xt.step / (ax.xhi - ax.xlo) * ax.pw >= wmax + 20.0 * s)
-                break;
-        }
+        fit_loose_axis(cr, lo, hi, ax.pw, 20.0 * s, &ax.xlo, &ax.xhi, &xt);
     }
 
-    /* --- grid --- */
-    cairo_set_line_width(cr, fmax(1.0, s));
-    cairo_set_source_rgb(cr, 0.9, 0.9, 0.9);
-    for (int k = 0; k < yt.n; k++) {
-        double Y = round(ax_Y(&ax, yt.v[k])) + 0.5;
-        cairo_move_to(cr, ax.px, Y);
-        cairo_line_to(cr, ax.px + ax.pw, Y);
-    }
-    if (ax.xlog) {
-        for (int k = 0; k < lt.n; k++) {
-            double X = round(ax_X(&ax, lt.v[k])) + 0.5;
-            cairo_move_to(cr, X, ax.py);
-            cairo_line_to(cr, X, ax.py + ax.ph);
-        }
-    } else {
-        for (int k = 0; k < xt.n; k++) {
-            double X = round(ax_X(&ax, xt.v[k])) + 0.5;
-            cairo_move_to(cr, X, ax.py);
-            cairo_line_to(cr, X, ax.py + ax.ph);
-        }
-    }
-    cairo_stroke(cr);
-    if (ax.ylo < 0.0 && ax.yhi > 0.0) { /* zero line */
-        double Y = round(ax_Y(&ax, 0.0)) + 0.5;
-        cairo_set_source_rgb(cr, 0.55, 0.55, 0.55);
-        cairo_move_to(cr, ax.px, Y);
-        cairo_line_to(cr, ax.px + ax.pw, Y);
-        cairo_stroke(cr);
-    }
+    draw_grid(cr, &ax, &ps, ax.xlog ? lt.n : xt.n, ax.xlog ? lt.v : xt.v, &yt);
 
     cairo_save(cr);
     cairo_rectangle(cr, ax.px, ax.py, ax.pw, ax.ph);
@@ -1843,8 +2132,8 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
     cairo_arc(cr, PX, PY, 8.0 * s, 0.0, 2.0 * M_PI);
     cairo_set_line_width(cr, 1.3 * s);
     cairo_stroke(cr);
-    set_font(cr, f_leg, 0);
-    double aw = text_width(cr, ann), ah = CAP_FRAC * f_leg;
+    set_font(cr, ps.f_leg, 0);
+    double aw = text_width(cr, ann), ah = CAP_FRAC * ps.f_leg;
     double boxpad = 4.0 * s;
     double axx = PX + 12.0 * s, ayy = PY - 14.0 * s - ah; /* top of text */
     if (axx + aw + boxpad > ax.px + ax.pw - 4.0 * s)
@@ -1864,16 +2153,10 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
     double lw = fmax(1.0, round(s));
     cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
     frame_outside(cr, ax.px, ax.py, ax.pw, ax.ph, lw);
-    set_font(cr, f_tick, 0);
-    double bot = ax.py + ax.ph + lw, lft = ax.px - lw;
-    for (int k = 0; k < yt.n; k++) {
-        double Y = ax_Y(&ax, yt.v[k]);
-        cairo_move_to(cr, lft, Y);
-        cairo_line_to(cr, lft - ticklen, Y);
-        fmt_tick(buf, sizeof buf, yt.v[k], yt.decimals);
-        draw_text(cr, lft - ticklen - 5.0 * s, Y, buf, 1.0, 0.5);
-    }
+    draw_value_ticks(cr, &ax, &yt, 0, &ps, lw);
     if (ax.xlog) {
+        double bot = ax.py + ax.ph + lw, ticklen = ps.ticklen, f_tick = ps.f_tick;
+        char buf[96];
         double last_right = -INFINITY;
         for (int k = 0; k < lt.n; k++) {
             double X = ax_X(&ax, lt.v[k]);
@@ -1891,107 +2174,27 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
                       buf, f_tick, 0.5, 0.0, 0.0);
             last_right = X + w / 2.0;
         }
+        cairo_set_line_width(cr, lw);
+        cairo_stroke(cr);
     } else {
-        for (int k = 0; k < xt.n; k++) {
-            double X = ax_X(&ax, xt.v[k]);
-            cairo_move_to(cr, X, bot);
-            cairo_line_to(cr, X, bot + ticklen);
-            fmt_tick(buf, sizeof buf, xt.v[k], xt.decimals);
-            draw_text(cr, X, bot + ticklen + 5.0 * s, buf, 0.5, 0.0);
-        }
+        draw_x_ticks(cr, &ax, &xt, &ps, lw);
     }
-    cairo_set_line_width(cr, lw);
-    cairo_stroke(cr);
-    set_font(cr, f_label, 0);
-    draw_text(cr, ax.px + ax.pw / 2.0, bot + ticklen + 5.0 * s + 1.4 * f_tick + 10.0 * s,
-              ax.xlog && nneg == nall ? "|speed| (m/s)" : "speed (m/s)", 0.5, 0.0);
-    cairo_save(cr);
-    cairo_translate(cr, pad + CAP_FRAC * f_label, ax.py + ax.ph / 2.0);
-    cairo_rotate(cr, -M_PI / 2.0);
-    draw_text(cr, 0.0, 0.0, "force per unit length (N/m)", 0.5, 1.0);
-    cairo_restore(cr);
+    draw_x_title(cr, &ax, &ps, lw, ax.xlog && nneg == nall ? "|speed| (m/s)" : "speed (m/s)");
+    draw_value_title(cr, &ax, &ps, ps.pad + CAP_FRAC * ps.f_label, "force per unit length (N/m)");
 
     /* --- legend in the corner with the fewest data points under it --- */
-    set_font(cr, f_leg, 0);
-    double lwid = 0.0, row_h = 1.6 * f_leg, sw = 30.0 * s;
-    for (int k = 0; k < nleg; k++)
-        lwid = fmax(lwid, text_width(cr, leg[k].label));
-    double bw = 10.0 * s + sw + 8.0 * s + lwid + 10.0 * s, bh = nleg * row_h + 10.0 * s;
-    double inset = 10.0 * s, best_bx = 0.0, best_by = 0.0;
-    long best = -1;
-    for (int corner = 0; corner < 4; corner++) {
-        /* order of preference: top left, top right, bottom right, bottom left */
-        double bx = (corner == 0 || corner == 3) ? ax.px + inset : ax.px + ax.pw - inset - bw;
-        double by = corner < 2 ? ax.py + inset : ax.py + ax.ph - inset - bh;
-        long hits = 0;
-        for (int k = 0; k < nall; k++) {
-            double X = ax_X(&ax, xs[k]);
-            const double *fa[2] = {k < n ? drag : ref_drag, k < n ? normal : ref_normal};
-            for (int q = 0; q < 2; q++) {
-                if (fa[q] == NULL)
-                    continue;
-                double Y = ax_Y(&ax, fa[q][k < n ? k : k - n]);
-                hits += X > bx - 6.0 * s && X < bx + bw + 6.0 * s && Y > by - 6.0 * s &&
-                        Y < by + bh + 6.0 * s;
-            }
-        }
-        if (ann_box[0] < bx + bw && ann_box[0] + ann_box[2] > bx && ann_box[1] < by + bh &&
-            ann_box[1] + ann_box[3] > by)
-            hits += 1000;
-        if (best < 0 || hits < best) {
-            best = hits;
-            best_bx = bx;
-            best_by = by;
-        }
-    }
-    cairo_set_source_rgba(cr, 1.0, 1.0, 1.0, 0.9);
-    cairo_rectangle(cr, best_bx, best_by, bw, bh);
-    cairo_fill_preserve(cr);
-    cairo_set_source_rgb(cr, 0.6, 0.6, 0.6);
-    cairo_set_line_width(cr, 1.0);
-    cairo_stroke(cr);
-    for (int k = 1; k < nleg; k++) { /* sort by rank */
-        legend_entry e = leg[k];
-        int m = k - 1;
-        while (m >= 0 && leg[m].rank > e.rank) {
-            leg[m + 1] = leg[m];
-            m--;
-        }
-        leg[m + 1] = e;
-    }
-    for (int k = 0; k < nleg; k++) {
-        const legend_entry *e = &leg[k];
-        double cy = best_by + 5.0 * s + (k + 0.5) * row_h;
-        double x0 = best_bx + 10.0 * s;
-        cairo_set_source_rgba(cr, e->col[0], e->col[1], e->col[2], e->alpha);
-        if (e->dashed) {
-            double dash[2] = {7.0 * s, 5.0 * s};
-            cairo_set_dash(cr, dash, 2, 0.0);
-        }
-        cairo_move_to(cr, x0, cy);
-        cairo_line_to(cr, x0 + sw, cy);
-        cairo_set_line_width(cr, e->lw);
-        cairo_stroke(cr);
-        cairo_set_dash(cr, NULL, 0, 0.0);
-        if (e->marker) {
-            draw_marker(cr, x0 + sw / 2.0, cy, e->marker == 2, e->marker == 2 ? 3.6 * s : 4.2 * s);
-            cairo_fill(cr);
-        }
-        cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
-        draw_text(cr, x0 + sw + 8.0 * s, cy, e->label, 0.0, 0.5);
-    }
+    plot_curve curves[4] = {{&ax, n, xs, drag, order},
+                            {&ax, normal != NULL ? n : 0, xs, normal, order},
+                            {&ax, ref_drag != NULL ? ref_n : 0, rxs, ref_drag, rorder},
+                            {&ax, ref_normal != NULL ? ref_n : 0, rxs, ref_normal, rorder}};
+    draw_legend(cr, &ax, &ps, leg, nleg, curves, 4, ann_box);
 
-    draw_title(cr, title, f_title, ax.px + ax.pw / 2.0, pad, W, pad);
+    draw_title(cr, title, ps.f_title, ax.px + ax.pw / 2.0, ps.pad, W, ps.pad);
     st = canvas_status(cr, err);
     if (st == EDDY_OK) {
         char software[160];
-        const char *soft_p = NULL;
-        if (o->version != NULL) {
-            snprintf(software, sizeof software, "eddy2d %s", o->version);
-            soft_p = software;
-        }
         png_kv kv[] = {{"Title", title},
-                       {"Software", soft_p},
+                       {"Software", software_text(software, sizeof software, o->version)},
                        {"eddy2d:case", o->case_name},
                        {"eddy2d:quantity", normal != NULL ? "drag, normal force" : "drag"},
                        {"eddy2d:unit", "N/m"}};
@@ -2001,5 +2204,161 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
     cairo_surface_destroy(surf);
     free(xs);
     free(order);
+    return st;
+}
+
+/* ================================================================== */
+/* Two curves against a common x                                       */
+/* ================================================================== */
+
+void post_xy_opts_defaults(post_xy_opts *o)
+{
+    if (o != NULL)
+        memset(o, 0, sizeof *o);
+}
+
+/* Smallest and largest of v[n]. */
+static void value_span(int n, const double *v, double *lo, double *hi)
+{
+    *lo = *hi = v[0];
+    for (int k = 1; k < n; k++) {
+        *lo = fmin(*lo, v[k]);
+        *hi = fmax(*hi, v[k]);
+    }
+}
+
+/* The range of v[n] with 3 % of it added at each end that is not zero, so
+ * the curve keeps off the frame but a curve that ends at 0 ends on the axis. */
+static void curve_range(int n, const double *v, double *lo, double *hi)
+{
+    value_span(n, v, lo, hi);
+    double span = *hi - *lo;
+    if (*lo != 0.0)
+        *lo -= 0.03 * span;
+    if (*hi != 0.0)
+        *hi += 0.03 * span;
+}
+
+eddy_status post_plot_xy_png(const char *path, int n, const double *x, const double *y1,
+                             const double *y2, const post_xy_opts *o, eddy_error *err)
+{
+    static const char *plot = "xy plot";
+    post_xy_opts def;
+    post_xy_opts_defaults(&def);
+    if (o == NULL)
+        o = &def;
+    if (path == NULL || x == NULL || y1 == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "xy plot: NULL path or array");
+    if (n < 2)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "xy plot: %d points, at least 2 needed", n);
+    int W, H;
+    eddy_status st = plot_size(plot, o->width_px, o->height_px, &W, &H, err);
+    if (st == EDDY_OK)
+        st = check_series(plot, "x", n, x, EDDY_ERR_INPUT, err);
+    if (st == EDDY_OK)
+        st = check_series(plot, "y1", n, y1, EDDY_ERR_INPUT, err);
+    if (st == EDDY_OK)
+        st = check_series(plot, "y2", n, y2, EDDY_ERR_INPUT, err);
+    if (st != EDDY_OK)
+        return st;
+    double xmin, xmax, lo1, hi1, lo2 = 0.0, hi2 = 0.0;
+    value_span(n, x, &xmin, &xmax);
+    curve_range(n, y1, &lo1, &hi1);
+    if (y2 != NULL)
+        curve_range(n, y2, &lo2, &hi2);
+    if (!isfinite(xmax - xmin) || !isfinite(hi1 - lo1) || !isfinite(hi2 - lo2))
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "xy plot: values span too wide a range");
+
+    plot_style ps;
+    plot_style_init(W, H, &ps);
+    double s = ps.s, lw = fmax(1.0, round(s)), curve_lw = fmax(2.0 * s, 1.5);
+    const char *title = o->title;
+    int has_title = title != NULL && title[0] != '\0';
+    double top = ps.pad + (has_title ? 1.6 * ps.f_title : 0.0) + 0.6 * ps.f_tick;
+    plot_axes ax;
+    memset(&ax, 0, sizeof ax);
+    ax.py = ceil(top);
+    ax.ph = floor(H - top - ps.bottom);
+
+    cairo_surface_t *surf = NULL;
+    cairo_t *cr = NULL;
+    st = new_canvas(W, H, &surf, &cr, err);
+    if (st != EDDY_OK)
+        return st;
+    /* --- value axes: y2's ticks fall on y1's grid lines --- */
+    set_font(cr, ps.f_tick, 0);
+    ticks_t yt, y2t, xt;
+    value_axis(lo1, hi1, &ax, &ps, &ax.ylo, &ax.yhi, &yt);
+    plot_axes ax2 = ax;
+    y2t.n = 0;
+    if (y2 != NULL)
+        aligned_axis(lo2, hi2, yt.n - 1, &ax2.ylo, &ax2.yhi, &y2t);
+    double left = value_margin(&ps, ticks_label_width(cr, &yt));
+    double right = y2 != NULL ? value_margin(&ps, ticks_label_width(cr, &y2t)) : ps.pad + 20.0 * s;
+    ax.px = ceil(left);
+    ax.pw = floor(W - left - right);
+    fit_loose_axis(cr, xmin, xmax, ax.pw, 20.0 * s, &ax.xlo, &ax.xhi, &xt);
+    ax2.px = ax.px;
+    ax2.pw = ax.pw;
+    ax2.xlo = ax.xlo;
+    ax2.xhi = ax.xhi;
+
+    draw_grid(cr, &ax, &ps, xt.n, xt.v, &yt);
+
+    /* --- curves: y1 over y2 --- */
+    cairo_save(cr);
+    cairo_rectangle(cr, ax.px, ax.py, ax.pw, ax.ph);
+    cairo_clip(cr);
+    if (y2 != NULL)
+        draw_series(cr, &ax2, n, x, y2, NULL, col_normal, curve_lw, 1.0, 0, 0.0);
+    draw_series(cr, &ax, n, x, y1, NULL, col_drag, curve_lw, 1.0, 0, 0.0);
+    cairo_restore(cr);
+
+    /* --- frame, ticks, axis titles (coloured as their curves when there are two) --- */
+    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
+    frame_outside(cr, ax.px, ax.py, ax.pw, ax.ph, lw);
+    draw_value_ticks(cr, &ax, &yt, 0, &ps, lw);
+    if (y2 != NULL)
+        draw_value_ticks(cr, &ax2, &y2t, 1, &ps, lw);
+    draw_x_ticks(cr, &ax, &xt, &ps, lw);
+    draw_x_title(cr, &ax, &ps, lw, o->x_label);
+    if (y2 != NULL)
+        cairo_set_source_rgb(cr, col_drag[0], col_drag[1], col_drag[2]);
+    draw_value_title(cr, &ax, &ps, ps.pad + CAP_FRAC * ps.f_label, o->y1_label);
+    if (y2 != NULL) {
+        cairo_set_source_rgb(cr, col_normal[0], col_normal[1], col_normal[2]);
+        draw_value_title(cr, &ax, &ps, W - ps.pad - 0.3 * ps.f_label, o->y2_label);
+    }
+
+    /* --- legend: both curves, or the one curve when it is named --- */
+    legend_entry leg[2];
+    int nleg = 0;
+    if (y2 != NULL || o->y1_name != NULL) {
+        const char *name = o->y1_name != NULL ? o->y1_name : o->y1_label;
+        leg[nleg++] = (legend_entry){name != NULL ? name : "y1", col_drag, 0, curve_lw, 1.0, 0, 0};
+    }
+    if (y2 != NULL) {
+        const char *name = o->y2_name != NULL ? o->y2_name : o->y2_label;
+        leg[nleg++] = (legend_entry){name != NULL ? name : "y2", col_normal, 0, curve_lw, 1.0, 0,
+                                     1};
+    }
+    plot_curve curves[2] = {{&ax, n, x, y1, NULL}, {&ax2, y2 != NULL ? n : 0, x, y2, NULL}};
+    draw_legend(cr, &ax, &ps, leg, nleg, curves, 2, NULL);
+
+    if (has_title)
+        draw_title(cr, title, ps.f_title, ax.px + ax.pw / 2.0, ps.pad, W, ps.pad);
+    st = canvas_status(cr, err);
+    if (st == EDDY_OK) {
+        char software[160];
+        png_kv kv[] = {{"Title", title},
+                       {"Software", software_text(software, sizeof software, o->version)},
+                       {"eddy2d:case", o->case_name},
+                       {"eddy2d:x", o->x_label},
+                       {"eddy2d:y1", o->y1_label},
+                       {"eddy2d:y2", y2 != NULL ? o->y2_label : NULL}};
+        st = write_surface_png(path, surf, kv, (int)(sizeof kv / sizeof kv[0]), err);
+    }
+    cairo_destroy(cr);
+    cairo_surface_destroy(surf);
     return st;
 }

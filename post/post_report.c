@@ -15,8 +15,8 @@
 
 const char *post_safety_notice(void)
 {
-    return "Engineering estimate for design studies (2D, steady state, per metre of depth, "
-           "linear materials). Brakes and dampers that carry or stop people must be designed "
+    return "Engineering estimate for design studies (2D, steady state, per metre of depth). "
+           "Brakes and dampers that carry or stop people must be designed "
            "and verified to the applicable local codes and standards by qualified, licensed "
            "engineers. Strong permanent magnets can pinch and crush and harm pacemakers and "
            "other implants; conductors heated by eddy currents can burn.";
@@ -109,6 +109,90 @@ static void add_reference(cJSON *root, const post_report *r)
     cJSON_AddStringToObject(ref, "note", r->ref_note);
 }
 
+/* Brake-design answers: peak, stop, end effect, temperature, disc. */
+static void add_design(cJSON *root, const post_report *r)
+{
+    const mesh_case *c = r->c;
+    if (r->has_peak) {
+        cJSON *pk = cJSON_AddObjectToObject(root, "peak");
+        add_num(pk, "drag_force", r->peak_drag);
+        add_num(pk, "speed", r->peak_speed);
+        cJSON_AddBoolToObject(pk, "interpolated", r->peak_refined);
+        cJSON_AddStringToObject(
+            pk, "note",
+            r->peak_at_end ? "the largest drag is at an end of the speed range: the true peak "
+                             "may lie outside it"
+                           : "parabola in log speed through the largest drag and its neighbours");
+    }
+    if (c->speed_mode == MESH_SPEEDS_AUTO) {
+        cJSON *ad = cJSON_AddObjectToObject(root, "adaptive_speeds");
+        cJSON_AddNumberToObject(ad, "points", r->npoint);
+        cJSON_AddNumberToObject(ad, "rounds", r->adapt_rounds);
+        cJSON_AddStringToObject(ad, "rule", "points added where a monotone cubic through the "
+                                            "neighbours misses by more than 0.5 % (0.1 % at the "
+                                            "peak)");
+    }
+    if (c->has_temperature) {
+        cJSON *t = cJSON_AddObjectToObject(root, "temperature");
+        add_num(t, "celsius", c->temperature);
+        cJSON *m = cJSON_AddArrayToObject(t, "conductivities");
+        for (int k = 0; k < c->nmat; k++) {
+            if (c->materials[k].sigma_20 <= 0)
+                continue;
+            cJSON *e = cJSON_CreateObject();
+            cJSON_AddStringToObject(e, "material", c->materials[k].name);
+            add_num(e, "sigma_20", c->materials[k].sigma_20);
+            add_num(e, "sigma", c->materials[k].sigma);
+            add_num(e, "alpha", c->materials[k].alpha);
+            if (!cJSON_AddItemToArray(m, e))
+                cJSON_Delete(e); /* m is NULL after an allocation failure */
+        }
+    }
+    if (c->end_effect.present) {
+        cJSON *e = cJSON_AddObjectToObject(root, "end_effect");
+        add_num(e, "factor", r->end_factor);
+        add_num(e, "plate_width", c->end_effect.plate_width);
+        add_num(e, "active_width", c->end_effect.active_width);
+        add_num(e, "pole_pitch", c->end_effect.pole_pitch);
+        cJSON_AddStringToObject(e, "assumptions",
+                                "Russell-Norsworthy factor (Proc. IEE 105A, 1958) for a plate of "
+                                "finite width: low magnetic Reynolds number, thin plate centred "
+                                "under the magnets, fundamental harmonic; it multiplies the "
+                                "conductivity, i.e. the low-speed drag");
+    }
+    if (c->disc.present) {
+        cJSON *d = cJSON_AddObjectToObject(root, "disc");
+        add_num(d, "mean_radius", c->disc.mean_radius);
+        add_num(d, "active_length", c->disc.active_length);
+        add_num(d, "periods", c->disc.periods);
+        cJSON_AddStringToObject(d, "note", "torque and power are of the whole disc: drag x "
+                                           "active_length x periods at the mean radius");
+    }
+    if (r->has_stop) {
+        const post_stop_result *st = &r->stop;
+        cJSON *s = cJSON_AddObjectToObject(root, "stopping");
+        add_num(s, "distance", st->distance);
+        add_num(s, "time", st->time);
+        add_num(s, "peak_deceleration", st->peak_decel);
+        add_num(s, "peak_deceleration_g", st->peak_decel_g);
+        add_num(s, "speed_at_peak_deceleration", st->speed_at_peak);
+        add_num(s, "kinetic_energy", st->kinetic_energy);
+        add_num(s, "energy_in_conductor", st->brake_energy);
+        add_num(s, "extra_force_work", st->extra_work);
+        add_num(s, "conductor_temperature_rise", r->stop_temperature_rise);
+        add_num(s, "distance_change_on_half_the_points", r->stop_table_change);
+        cJSON_AddBoolToObject(s, "enough_points",
+                              r->stop_table_change <= post_design_stop_tolerance());
+        cJSON_AddStringToObject(
+            s, "note",
+            "m dv/dt = -(drag x depth x repeat + extra_force), drag interpolated by a monotone "
+            "cubic (Fritsch and Carlson 1980) in log speed and log drag, linear below the "
+            "lowest speed. An eddy-current brake alone never brings a load to rest: its drag "
+            "falls to zero with speed. Engineering estimate; brakes that carry or stop people "
+            "must be designed and verified to the applicable codes by qualified engineers.");
+    }
+}
+
 static cJSON *build_json(const post_report *r)
 {
     const mesh_case *c = r->c;
@@ -134,19 +218,38 @@ static cJSON *build_json(const post_report *r)
         const post_forces *f = &r->f[k];
         const post_point_info *in = &r->info[k];
         cJSON *p = cJSON_CreateObject();
-        if (p == NULL)
+        if (p == NULL || !cJSON_AddItemToArray(pts, p)) {
+            cJSON_Delete(p); /* pts is NULL after an allocation failure */
             break;
-        cJSON_AddItemToArray(pts, p);
+        }
         add_num(p, "speed", f->speed);
         add_num(p, "drag_force", f->drag);
         add_num(p, "force_x", f->force_x);
         add_num(p, "force_y", f->force_y);
+        if (f->force_method != NULL)
+            cJSON_AddStringToObject(p, "force_method", f->force_method);
+        if (g != NULL) {
+            add_num(p, "force_x_lorentz", f->lorentz_x);
+            add_num(p, "force_y_lorentz", f->lorentz_y);
+        }
         add_num(p, "drag_force_stress", f->drag_stress);
         add_num(p, "force_y_stress", f->stress_y);
         add_num(p, "loss", f->loss);
         add_num(p, "low_speed_drag", f->low_speed_drag);
         add_num(p, "magnetic_reynolds", f->magnetic_reynolds);
         add_num(p, "peak_current_density", f->j_peak);
+        if (g != NULL) {
+            add_num(p, "loss_density_peak", f->loss_density_peak);
+            add_num(p, "loss_density_mean", f->loss_density_mean);
+            add_num(p, "heating_rate", f->heating_rate);
+        }
+        if (c->disc.present) {
+            add_num(p, "rpm", f->rpm);
+            add_num(p, "torque", f->torque);
+            add_num(p, "power", f->power);
+        }
+        if (c->end_effect.present)
+            add_num(p, "drag_force_end_corrected", f->drag_end_corrected);
         if (r->ref_drag != NULL && g != NULL) {
             add_num(p, "reference_drag", r->ref_drag[k]);
             add_num(p, "reference_force_y", r->ref_force_y[k]);
@@ -161,10 +264,26 @@ static cJSON *build_json(const post_report *r)
         add_num(si, "post_seconds", in->t_post);
         add_num(si, "lu_entries", in->lnz + in->unz);
         add_num(si, "flops", in->flops);
+        if (in->newton.n_residual > 0) { /* saturable materials */
+            cJSON *nw = cJSON_AddObjectToObject(si, "newton");
+            cJSON_AddNumberToObject(nw, "iterations", in->newton.iterations);
+            cJSON_AddBoolToObject(nw, "converged", in->newton.converged);
+            cJSON *h = cJSON_AddArrayToObject(nw, "residual_history");
+            for (int q = 0; q < in->newton.n_residual; q++)
+                cJSON_AddItemToArray(h, cJSON_CreateNumber(in->newton.residual[q]));
+            cJSON *d = cJSON_AddArrayToObject(nw, "damping");
+            for (int q = 0; q < in->newton.iterations; q++)
+                cJSON_AddItemToArray(d, cJSON_CreateNumber(in->newton.damping[q]));
+            add_num(nw, "max_flux_density_saturable", in->newton.b_max);
+        }
     }
+    add_design(root, r);
     cJSON *w = cJSON_AddArrayToObject(root, "warnings");
-    for (int k = 0; k < c->nwarn; k++)
-        cJSON_AddItemToArray(w, cJSON_CreateString(c->warnings[k]));
+    for (int k = 0; k < c->nwarn; k++) {
+        cJSON *ws = cJSON_CreateString(c->warnings[k]);
+        if (!cJSON_AddItemToArray(w, ws))
+            cJSON_Delete(ws); /* w is NULL after an allocation failure */
+    }
     cJSON_AddStringToObject(root, "notice", post_safety_notice());
     return root;
 }

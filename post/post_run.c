@@ -35,6 +35,7 @@ void post_report_free(post_report *r)
         return;
     mesh_case_free(r->c);
     mesh_grid_free(r->g);
+    post_stop_result_free(&r->stop);
     free(r->f);
     free(r->info);
     free(r->ref_drag);
@@ -117,6 +118,8 @@ static eddy_status add_reference(post_report *r, int fill_forces, eddy_error *er
             f->force_y = q.force_y;
             f->drag = -q.force_x * sgn;
             f->stress_ok = 1;
+            f->force_method = "reference";
+            f->lorentz_x = f->lorentz_y = NAN;
             f->stress_x = q.force_x;
             f->stress_y = q.force_y;
             f->drag_stress = f->drag;
@@ -131,31 +134,42 @@ static eddy_status add_reference(post_report *r, int fill_forces, eddy_error *er
     return EDDY_OK;
 }
 
-static eddy_status prepare(const char *case_path, const post_run_opts *o, post_report **out,
-                           eddy_error *err)
+/* Defaults for a NULL *o; read the case into a new report.  On failure *out
+ * keeps the report if the case was read (so the caller can name it), else
+ * NULL. */
+static eddy_status prepare(const char *case_path, const post_run_opts **o,
+                           post_run_opts *defaults, post_report **out, eddy_error *err)
 {
+    if (*o == NULL) {
+        post_run_opts_defaults(defaults);
+        *o = defaults;
+    }
+    *out = NULL;
     post_report *r = calloc(1, sizeof *r);
     if (r == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-    *out = r;
     eddy_status s = mesh_case_load(case_path, &r->c, err);
-    if (s != EDDY_OK)
+    if (s != EDDY_OK) {
+        free(r);
         return s;
+    }
+    *out = r;
     r->npoint = r->c->nspeed;
     r->f = calloc((size_t)r->npoint, sizeof *r->f);
     r->info = calloc((size_t)r->npoint, sizeof *r->info);
     if (r->f == NULL || r->info == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-    if (o->outdir != NULL)
-        snprintf(r->outdir, sizeof r->outdir, "%s", o->outdir);
+    if ((*o)->outdir != NULL)
+        snprintf(r->outdir, sizeof r->outdir, "%s", (*o)->outdir);
     else
         snprintf(r->outdir, sizeof r->outdir, "results/%s", r->c->name);
     return EDDY_OK;
 }
 
-static eddy_status write_field_outputs(post_report *r, const post_run_opts *o, int k,
-                                       const double *a, post_fields *pf, eddy_error *err);
+static eddy_status write_field_outputs(post_report *r, const mesh_grid *g, const post_run_opts *o,
+                                       int k, const double *a, post_fields *pf, eddy_error *err);
 static eddy_status write_force_plot(post_report *r, eddy_error *err);
+static eddy_status write_stop_outputs(post_report *r, const post_run_opts *o, eddy_error *err);
 
 /* The speed sweep, shared by the worker threads. */
 typedef struct {
@@ -163,6 +177,8 @@ typedef struct {
     const post_run_opts *o;
     const sol_system *sys;
     double slope;
+    const double *a_static; /* saturable materials: the static field, each worker's
+                             * first starting point (NULL for a linear case) */
     pthread_mutex_t lock;
     int next;            /* next speed index to take */
     int done;            /* speeds finished, for progress */
@@ -179,9 +195,20 @@ static void *sweep_worker(void *arg)
     sol_work *w = NULL;
     post_fields *pf = NULL;
     eddy_error err = {0};
-    double *a = malloc((size_t)g->nx * (size_t)g->ny * sizeof *a);
-    eddy_status s = a == NULL ? EDDY_RAISE(&err, EDDY_ERR_NOMEM, "out of memory for the field")
-                              : sol_work_alloc(sw->sys, &w, &err);
+    size_t nn = (size_t)g->nx * (size_t)g->ny;
+    double *a = malloc(nn * sizeof *a);
+    /* saturable materials: the converged cell reluctivities, seen by the
+     * forces and fields through a copy of the grid */
+    int nonlinear = sol_is_nonlinear(sw->sys);
+    double *nu = nonlinear ? malloc((size_t)g->ncx * (size_t)g->ncy * sizeof *nu) : NULL;
+    mesh_grid gsol = *g;
+    if (nonlinear)
+        gsol.nu = nu;
+    eddy_status s = a == NULL || (nonlinear && nu == NULL)
+                        ? EDDY_RAISE(&err, EDDY_ERR_NOMEM, "out of memory for the field")
+                        : sol_work_alloc(sw->sys, &w, &err);
+    if (s == EDDY_OK && nonlinear && sw->a_static != NULL)
+        memcpy(a, sw->a_static, nn * sizeof *a);
     if (s == EDDY_OK)
         s = post_fields_alloc(g, &pf, &err);
     for (;;) {
@@ -196,15 +223,21 @@ static void *sweep_worker(void *arg)
             break;
         double v = r->c->speeds[k];
         sol_info info = {0};
-        s = sol_solve_work(sw->sys, w, v, a, &info, &err);
+        sol_newton_info nli = {0};
+        if (nonlinear) /* from this worker's previous speed (first: the static field) */
+            s = sol_solve_newton(sw->sys, w, v, a, sw->a_static != NULL, nu, sw->o->max_newton,
+                                 &nli, &info, &err);
+        else
+            s = sol_solve_work(sw->sys, w, v, a, &info, &err);
+        r->info[k].newton = nli;
         if (s != EDDY_OK)
             continue;
         double tp = now();
-        s = post_forces_compute(g, a, v, sw->slope, &r->f[k], &err);
+        s = post_forces_compute(&gsol, a, v, sw->slope, &r->f[k], &err);
         if (s == EDDY_OK && (sw->o->images || sw->o->vtk || r->c->nprofile > 0))
-            s = write_field_outputs(r, sw->o, k, a, pf, &err);
+            s = write_field_outputs(r, &gsol, sw->o, k, a, pf, &err);
         r->info[k] = (post_point_info){info.t_assemble, info.t_factor, info.t_solve, now() - tp,
-                                       info.lnz, info.unz, info.flops};
+                                       info.lnz, info.unz, info.flops, nli};
         if (s == EDDY_OK && sw->o->progress != NULL) {
             pthread_mutex_lock(&sw->lock);
             sw->o->progress(sw->o->progress_ctx, sw->done++, r->npoint, &r->f[k]);
@@ -212,6 +245,7 @@ static void *sweep_worker(void *arg)
         }
     }
     free(a);
+    free(nu);
     post_fields_free(pf);
     sol_work_free(w);
     return NULL;
@@ -237,25 +271,73 @@ static int sweep_threads(const post_run_opts *o, int npoint, double factor_bytes
     return n < 1 ? 1 : n;
 }
 
+/* Solve the speeds from index k0 to the report's npoint, on as many threads
+ * as the machine and memory allow. */
+static eddy_status run_sweep(sweep *sw, int k0, size_t nn, eddy_error *err)
+{
+    post_report *r = sw->r;
+    int nt = sweep_threads(sw->o, r->npoint - k0, r->factor_bytes, (double)nn * sizeof(double));
+    pthread_t tid[64];
+    if (nt > 64)
+        nt = 64;
+    sw->next = k0;
+    sw->done = k0;
+    pthread_mutex_init(&sw->lock, NULL);
+    if (nt > 1)
+        sol_blas_threads(1);
+    int started = 0;
+    for (int t = 1; t < nt; t++)
+        if (pthread_create(&tid[started], NULL, sweep_worker, sw) == 0)
+            started++;
+    sweep_worker(sw); /* the calling thread works too */
+    for (int t = 0; t < started; t++)
+        pthread_join(tid[t], NULL);
+    pthread_mutex_destroy(&sw->lock);
+    if (started + 1 > r->threads)
+        r->threads = started + 1;
+    if (sw->status != EDDY_OK) {
+        if (err != NULL)
+            *err = sw->err;
+        return sw->status;
+    }
+    return EDDY_OK;
+}
+
+/* Append na speeds to the case and room for their results to the report. */
+static eddy_status grow_points(post_report *r, const double *add, int na, eddy_error *err)
+{
+    int n = r->npoint + na;
+    double *sp = realloc(r->c->speeds, (size_t)n * sizeof *sp);
+    if (sp == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    r->c->speeds = sp;
+    post_forces *f = realloc(r->f, (size_t)n * sizeof *f);
+    if (f == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    r->f = f;
+    post_point_info *in = realloc(r->info, (size_t)n * sizeof *in);
+    if (in == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    r->info = in;
+    for (int k = 0; k < na; k++) {
+        sp[r->npoint + k] = add[k];
+        memset(&f[r->npoint + k], 0, sizeof *f);
+        memset(&in[r->npoint + k], 0, sizeof *in);
+    }
+    r->npoint = n;
+    r->c->nspeed = n;
+    return EDDY_OK;
+}
+
 eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_report **out,
                            eddy_error *err)
 {
     post_run_opts defaults;
-    if (o == NULL) {
-        post_run_opts_defaults(&defaults);
-        o = &defaults;
-    }
-    *out = NULL;
     double t0 = now();
-    eddy_status s = prepare(case_path, o, out, err);
-    post_report *r = *out;
-    if (s != EDDY_OK) {
-        if (r->c == NULL) {
-            post_report_free(r);
-            *out = NULL;
-        }
+    eddy_status s = prepare(case_path, &o, &defaults, out, err);
+    if (s != EDDY_OK)
         return s;
-    }
+    post_report *r = *out;
     r->method = "grid: box integration with exponentially fitted convection";
     s = mesh_grid_build(r->c, &r->g, NULL, err);
     r->t_mesh = now() - t0;
@@ -272,6 +354,13 @@ eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_r
         long avp = sysconf(_SC_AVPHYS_PAGES), page = sysconf(_SC_PAGE_SIZE);
         double avail = avp > 0 && page > 0 ? (double)avp * (double)page : 0.0;
         sol_set_memory_limit(sys, o->max_memory > 0 ? o->max_memory : avail);
+        /* ordering (make bench, README): METIS gives the least fill and the
+         * fastest numeric factorisations but the slowest analysis; the grid's
+         * own nested dissection analyses fastest.  METIS pays off from about
+         * four factorisations (the static field and three speeds) on. */
+        sol_set_ordering(sys, r->npoint >= 3 || r->c->speed_mode == MESH_SPEEDS_AUTO
+                                  ? SOL_ORDER_METIS
+                                  : SOL_ORDER_GRID_ND);
         a = malloc(nn * sizeof *a);
         if (a == NULL)
             s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the field");
@@ -285,41 +374,50 @@ eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_r
     if (s == EDDY_OK)
         s = post_make_dir(r->outdir, err);
     sweep sw = {.r = r, .o = o, .sys = sys, .status = EDDY_OK};
-    if (s == EDDY_OK) { /* the static field, for the low-speed limit */
+    if (s == EDDY_OK && sol_is_nonlinear(sys)) {
+        /* the static field by Newton-Raphson, also the sweep's starting point */
+        sol_work *w0 = NULL;
+        s = sol_work_alloc(sys, &w0, err);
+        if (s == EDDY_OK)
+            s = sol_solve_newton(sys, w0, 0.0, a, 0, NULL, o->max_newton, NULL, &info, err);
+        sol_work_free(w0);
+        if (s == EDDY_OK) {
+            sw.slope = post_lowspeed_slope(r->g, a);
+            sw.a_static = a;
+        }
+    } else if (s == EDDY_OK) { /* the static field, for the low-speed limit */
         s = sol_solve(sys, 0.0, a, &info, err);
         if (s == EDDY_OK)
             sw.slope = post_lowspeed_slope(r->g, a);
     }
-    free(a);
-    if (s == EDDY_OK) {
-        int nt = sweep_threads(o, r->npoint, r->factor_bytes, (double)nn * sizeof(double));
-        r->threads = nt;
-        pthread_t tid[64];
-        if (nt > 64)
-            nt = 64;
-        pthread_mutex_init(&sw.lock, NULL);
-        if (nt > 1)
-            sol_blas_threads(1);
-        int started = 0;
-        for (int t = 1; t < nt; t++)
-            if (pthread_create(&tid[started], NULL, sweep_worker, &sw) == 0)
-                started++;
-        sweep_worker(&sw); /* the calling thread works too */
-        for (int t = 0; t < started; t++)
-            pthread_join(tid[t], NULL);
-        pthread_mutex_destroy(&sw.lock);
-        r->threads = started + 1;
-        if (sw.status != EDDY_OK) {
-            s = sw.status;
-            if (err != NULL)
-                *err = sw.err;
-        }
+    if (s == EDDY_OK)
+        s = run_sweep(&sw, 0, nn, err);
+    /* adaptive sweep: add speeds where the curve is not yet resolved */
+    while (s == EDDY_OK && r->c->speed_mode == MESH_SPEEDS_AUTO &&
+           r->npoint < r->c->max_points && r->adapt_rounds < 12) {
+        post_design_sort(r);
+        double add[64];
+        int room = r->c->max_points - r->npoint;
+        int na = post_design_refine(r, add, room < 64 ? room : 64);
+        if (na == 0)
+            break;
+        s = grow_points(r, add, na, err);
+        if (s == EDDY_OK)
+            s = run_sweep(&sw, r->npoint - na, nn, err);
+        r->adapt_rounds++;
     }
+    if (s == EDDY_OK)
+        post_design_sort(r);
+    free(a); /* the static field */
     sol_system_free(sys);
     if (s == EDDY_OK && o->reference)
         s = add_reference(r, 0, err);
+    if (s == EDDY_OK)
+        s = post_design_evaluate(r, err);
     if (s == EDDY_OK && o->images)
         s = write_force_plot(r, err);
+    if (s == EDDY_OK && r->has_stop)
+        s = write_stop_outputs(r, o, err);
     if (s == EDDY_OK)
         s = post_write_results(r->outdir, r, err);
     return s;
@@ -329,20 +427,10 @@ eddy_status post_run_reference(const char *case_path, const post_run_opts *o,
                                post_report **out, eddy_error *err)
 {
     post_run_opts defaults;
-    if (o == NULL) {
-        post_run_opts_defaults(&defaults);
-        o = &defaults;
-    }
-    *out = NULL;
-    eddy_status s = prepare(case_path, o, out, err);
-    post_report *r = *out;
-    if (s != EDDY_OK) {
-        if (r->c == NULL) {
-            post_report_free(r);
-            *out = NULL;
-        }
+    eddy_status s = prepare(case_path, &o, &defaults, out, err);
+    if (s != EDDY_OK)
         return s;
-    }
+    post_report *r = *out;
     r->method = "layered Fourier reference (independent of the grid)";
     s = add_reference(r, 1, err);
     if (s == EDDY_OK)
@@ -400,11 +488,12 @@ void post_view_window(const mesh_case *c, int full, double view[4])
     view[3] = fmin(y1, c->y1);
 }
 
-static eddy_status write_field_outputs(post_report *r, const post_run_opts *o, int k,
-                                       const double *a, post_fields *pf, eddy_error *err)
+/* g: the report's grid, or its copy with the converged reluctivities of a
+ * saturable case. */
+static eddy_status write_field_outputs(post_report *r, const mesh_grid *g, const post_run_opts *o,
+                                       int k, const double *a, post_fields *pf, eddy_error *err)
 {
     const mesh_case *c = r->c;
-    const mesh_grid *g = r->g;
     double v = c->speeds[k];
     eddy_status s = post_fields_compute(g, a, v, pf, err);
     if (s != EDDY_OK)
@@ -440,7 +529,7 @@ static eddy_status write_field_outputs(post_report *r, const post_run_opts *o, i
         mo.n_outlines = nb;
         mo.case_name = c->name;
         mo.speed = v;
-        mo.version = "eddy2d " EDDY_VERSION;
+        mo.version = EDDY_VERSION;
         /* induced current density, diverging map symmetric about zero */
         snprintf(title, sizeof title, "%s: induced current density at %.4g m/s", c->name, v);
         mo.quantity = "J_z";
@@ -508,7 +597,7 @@ static eddy_status write_force_plot(post_report *r, eddy_error *err)
     snprintf(title, sizeof title, "%s: drag and normal force", r->c->name);
     po.title = title;
     po.case_name = r->c->name;
-    po.version = "eddy2d " EDDY_VERSION;
+    po.version = EDDY_VERSION;
     char path[4200];
     snprintf(path, sizeof path, "%s/forces.png.tmp", r->outdir);
     int nref = r->ref_drag != NULL && r->g != NULL ? n : 0;
@@ -519,6 +608,49 @@ static eddy_status write_force_plot(post_report *r, eddy_error *err)
         return s;
     char final[4200];
     snprintf(final, sizeof final, "%s/forces.png", r->outdir);
+    if (rename(path, final) != 0)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot rename into place", final);
+    return EDDY_OK;
+}
+
+/* The stop of the case's vehicle: stopping.csv (and stopping.png). */
+static eddy_status write_stop_outputs(post_report *r, const post_run_opts *o, eddy_error *err)
+{
+    const post_stop_result *st = &r->stop;
+    size_t cap = 256 + (size_t)st->n_samples * 96, len = 0;
+    char *buf = malloc(cap);
+    if (buf == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    len += (size_t)snprintf(buf + len, cap - len,
+                            "distance_m,time_s,speed_m_per_s,deceleration_m_per_s2\n");
+    for (int k = 0; k < st->n_samples; k++)
+        len += (size_t)snprintf(buf + len, cap - len, "%.9g,%.9g,%.9g,%.9g\n", st->s_distance[k],
+                                st->s_time[k], st->s_speed[k], st->s_decel[k]);
+    char path[4400];
+    snprintf(path, sizeof path, "%s/stopping.csv", r->outdir);
+    eddy_status s = post_write_atomic(path, buf, len, err);
+    free(buf);
+    if (s != EDDY_OK || !o->images)
+        return s;
+    post_xy_opts xo;
+    post_xy_opts_defaults(&xo);
+    char title[200];
+    snprintf(title, sizeof title, "%s: stop from %.4g to %.4g m/s", r->c->name,
+             r->c->vehicle.from_speed, r->c->vehicle.to_speed);
+    xo.title = title;
+    xo.case_name = r->c->name;
+    xo.version = EDDY_VERSION;
+    xo.x_label = "distance (m)";
+    xo.y1_label = "speed (m/s)";
+    xo.y2_label = "deceleration (m/s^2)";
+    xo.y1_name = "speed";
+    xo.y2_name = "deceleration";
+    snprintf(path, sizeof path, "%s/stopping.png.tmp", r->outdir);
+    s = post_plot_xy_png(path, st->n_samples, st->s_distance, st->s_speed, st->s_decel, &xo, err);
+    if (s != EDDY_OK)
+        return s;
+    char final[4400];
+    snprintf(final, sizeof final, "%s/stopping.png", r->outdir);
     if (rename(path, final) != 0)
         return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot rename into place", final);
     return EDDY_OK;

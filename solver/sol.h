@@ -32,7 +32,8 @@ typedef enum {
     SOL_ORDER_GRID_ND    /* geometric nested dissection of the tensor grid (sol.c) */
 } sol_ordering;
 
-/* The default, chosen from the measurements of `make bench` (README). */
+/* The default of a new system (cheapest analysis); the runner (post_run.c)
+ * picks METIS for sweeps, from the measurements of `make bench` (README). */
 #define SOL_ORDER_DEFAULT SOL_ORDER_GRID_ND
 
 /* Statistics of the last call (all times in seconds, wall clock). */
@@ -72,8 +73,8 @@ void sol_set_ordering(sol_system *s, sol_ordering o);
 /* Name of an ordering ("amd", "metis", "grid-nd"); static storage. */
 const char *sol_ordering_name(sol_ordering o);
 
-/* Refuse factorisations whose estimated peak memory exceeds bytes (checked by
- * sol_analyse from UMFPACK's symbolic estimate); <= 0: no limit (default). */
+/* Refuse factorisations whose estimated peak memory (sol_factor_bytes)
+ * exceeds bytes (checked by sol_analyse); <= 0: no limit (default). */
 void sol_set_memory_limit(sol_system *s, double bytes);
 
 /*
@@ -84,8 +85,9 @@ void sol_set_memory_limit(sol_system *s, double bytes);
  */
 eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err);
 
-/* UMFPACK's estimate of the peak memory of one numeric factorisation, bytes
- * (after sol_analyse; 0 before). */
+/* Estimated peak memory of one numeric factorisation, bytes (after
+ * sol_analyse; 0 before): 1.25 x (16 bytes per L and U entry of UMFPACK's
+ * fill estimate + 200 bytes per unknown).  0 for s = NULL. */
 double sol_factor_bytes(const sol_system *s);
 
 /*
@@ -134,6 +136,93 @@ eddy_status sol_solve(sol_system *s, double v, double *a, sol_info *info, eddy_e
 
 /* Bernoulli function B(z) = z / (e^z - 1), B(0) = 1, accurate for all z. */
 double sol_bernoulli(double z);
+
+/* ------------------------------------------------------------------------ */
+/* Saturable materials: B-H curves (sol_bh.c) and Newton-Raphson (sol.c)     */
+/* ------------------------------------------------------------------------ */
+
+/* The reluctivity nu(b), b = |B|^2, of a B-H curve: monotone cubic H(B)
+ * (Fritsch-Carlson), a polynomial in b below the first point, the slope
+ * relaxing to mu0 beyond the last; C^1 in b everywhere.  See sol_bh.c.
+ * Plain data: copy freely. */
+typedef struct {
+    int n;                     /* points */
+    double bb[MESH_BH_MAX];    /* B_k, T */
+    double hh[MESH_BH_MAX];    /* H_k, A/m */
+    double m[MESH_BH_MAX];     /* dH/dB at the points (limited slopes), m/H */
+    double nu_init;            /* nu(0) = H_1 / B_1, m/H */
+    double r;                  /* nu = nu_init + r b (b - B_1^2) below B_1, m/H / T^4 */
+    double beta;               /* T, width of the relaxation to mu0 beyond the last point */
+} sol_bh;
+
+/*
+ * Build the interpolant of a curve (mesh_bh_curve: (0, 0) first, H and B
+ * strictly increasing, 3 <= n <= MESH_BH_MAX).
+ *   out: receives it (no allocation).
+ * Returns EDDY_OK, or EDDY_ERR_INPUT for a curve that is not of that form
+ * (e.g. not monotone), with a message.
+ */
+eddy_status sol_bh_build(const mesh_bh_curve *c, sol_bh *out, eddy_error *err);
+
+/* nu (m/H) and d nu / d b (m/H per T^2) at b = |B|^2 (T^2; negative taken as
+ * 0).  The field strength is H = nu |B|, and dH/d|B| = nu + 2 b dnu/db > 0. */
+void sol_bh_eval(const sol_bh *c, double b2, double *nu, double *dnu_db2);
+
+/* Newton-Raphson defaults: stop at ||R|| <= SOL_NEWTON_TOL ||f|| (R the
+ * residual of the discrete equations, f their right-hand side, Euclidean
+ * norms); fail after SOL_NEWTON_MAX_ITER steps. */
+#define SOL_NEWTON_TOL 1e-8
+#define SOL_NEWTON_MAX_ITER 40
+
+/* What one nonlinear solve did. */
+typedef struct {
+    int iterations;            /* Newton steps taken (= numeric factorisations) */
+    int converged;             /* 1 if ||R|| <= tol ||f|| */
+    int n_residual;            /* entries of residual[] (iterations + 1) */
+    double residual[SOL_NEWTON_MAX_ITER + 1]; /* ||R|| / ||f|| at the start and after
+                                                 each step */
+    double damping[SOL_NEWTON_MAX_ITER];      /* step length accepted by the line
+                                                 search at each step (1: full step) */
+    long saturable_cells;      /* cells with a B-H curve */
+    double b_max;              /* T, largest |B| (cell r.m.s.) in a saturable cell */
+} sol_newton_info;
+
+/* 1 if the grid of s has saturable cells (a B-H curve): solve with
+ * sol_solve_newton; sol_solve / sol_solve_work would use the initial
+ * permeability only. */
+int sol_is_nonlinear(const sol_system *s);
+
+/*
+ * Solve at speed v (m/s) a system with saturable cells, by Newton-Raphson on
+ * the box-integration equations with the reluctivity of each saturable cell
+ * taken from its B-H curve at the cell's mean square flux density, and the
+ * exact Jacobian (including the d nu / d B^2 term and the dependence of the
+ * fitted convective fluxes on nu), a backtracking (Armijo) line search on
+ * ||R||, and the system's symbolic factorisation (s analysed already).
+ * A linear system (no saturable cell) is solved directly in one step.
+ *   w:        workspace (sol_work_alloc on s); thread-safe for distinct w.
+ *   a:        nx*ny node values of A (Wb/m), as sol_solve.  On entry the
+ *             starting guess if warm != 0 (e.g. the previous speed's
+ *             solution), ignored otherwise (start from A = 0, whose first
+ *             step is the linear solve with the initial permeabilities).
+ *             On exit the solution.
+ *   nu_cells: optional (NULL), ncx*ncy: receives the reluctivity of every
+ *             cell at the solution (m/H; g->nu in linear cells), for the
+ *             forces and fields of the converged state.
+ *   max_iter: Newton steps allowed, 1..SOL_NEWTON_MAX_ITER (0: the maximum).
+ *   nli:      optional; receives the iteration count and residual history
+ *             (also on failure).
+ *   info:     optional; times are summed over the steps, the factor figures
+ *             are those of the last step.
+ * Returns EDDY_OK, EDDY_ERR_NUMERIC when Newton does not converge within
+ * max_iter steps or the line search cannot reduce the residual (the message
+ * gives the speed, the steps and the residual reached), EDDY_ERR_INPUT (a
+ * non-finite speed, a saturable cell with remanence or a bad curve), and the
+ * errors of sol_solve_work.
+ */
+eddy_status sol_solve_newton(const sol_system *s, sol_work *w, double v, double *a, int warm,
+                             double *nu_cells, int max_iter, sol_newton_info *nli,
+                             sol_info *info, eddy_error *err);
 
 /* ------------------------------------------------------------------------ */
 /* Layered Fourier reference (sol_ref.c)                                     */
@@ -233,7 +322,7 @@ eddy_status sol_ref_solve(const sol_ref_problem *p, const sol_ref_source *src, i
  * Does a case fit the layered reference geometry, and with what problem?
  * See sol_ref_case.c for the rules (one moving non-magnetic plate spanning
  * the domain, sources along +-y or coils above it, an optional permeable
- * yoke above the sources, nothing else but air).
+ * yoke above the sources, nothing else but air; no saturable region).
  *   c:           a validated case.
  *   p:           receives the problem (rel_tol 1e-7).
  *   src, nsrc:   receive a malloc'ed array of sources (caller frees; NULL

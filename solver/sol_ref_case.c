@@ -85,6 +85,10 @@ eddy_status sol_ref_from_case(const mesh_case *c, sol_ref_problem *p, sol_ref_so
         const mesh_material *m = mat_of(c, r);
         if (k == plate)
             continue;
+        if (m != NULL && m->bh.n > 0) { /* the reference has no saturation */
+            ok = fits_not(why, why_len, "region \"%s\" is saturable (B-H curve)", r->name);
+            break;
+        }
         int magnet = m != NULL && m->br > 0.0;
         int coil = r->jz != 0.0;
         if (magnet || coil) {

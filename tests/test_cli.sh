@@ -69,7 +69,7 @@ else
 fi
 left=$(find "$T/res" -name '*.tmp.*' | wc -l)
 [ "$left" -eq 0 ] && ok "no temporary files left behind" || ko "no temporary files left" "$left found"
-n=$(grep -c '"drag_force":' "$T/res/result.json")
+n=$(grep -c '"low_speed_drag":' "$T/res/result.json")
 [ "$n" -eq 3 ] && ok "result.json has one point per speed" || ko "result.json points" "$n"
 for key in '"nodes_x"' '"unknowns"' '"force_x"' '"force_y"' '"drag_force_stress"' '"loss"' \
     '"low_speed_drag"' '"magnetic_reynolds"' '"solve_seconds"' '"notice"'; do

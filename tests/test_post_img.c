@@ -712,6 +712,129 @@ static void render_showcase(void)
     check(st == EDDY_OK, "showcase_tall", "%s", err.msg);
 }
 
+/* Braking by a drag force of the eddy-current shape F(v) = 2 F0 u/(1 + u^2),
+ * u = v/vc: from m v dv/dx = -F(v), the distance to slow from v0 to v is
+ * x(v) = (m vc / 2 F0) [(v0 - v) + (v0^3 - v^3) / (3 vc^2)] (calculus),
+ * and the deceleration is F(v)/m.  Speed and deceleration against distance. */
+static void test_xy_plot(void)
+{
+    enum { N = 401 };
+    static double x[N], v[N], a[N];
+    const double m = 1000.0, v0 = 30.0, vc = 8.0, f0 = 6000.0;
+    for (int k = 0; k < N; k++) {
+        v[k] = v0 * (1.0 - (double)k / (N - 1));
+        x[k] = m * vc / (2.0 * f0) * ((v0 - v[k]) + (v0 * v0 * v0 - v[k] * v[k] * v[k]) /
+                                                        (3.0 * vc * vc));
+        a[k] = model_drag(v[k], vc, f0) / m;
+    }
+    post_xy_opts o;
+    post_xy_opts_defaults(&o);
+    o.title = "synthetic stop \xe2\x80\x93 30 m/s to rest";
+    o.case_name = "synthetic-stop";
+    o.version = "0.1-test";
+    o.x_label = "distance (m)";
+    o.y1_label = "speed (m/s)";
+    o.y2_label = "deceleration (m/s^2)";
+    o.y1_name = "speed";
+    o.y2_name = "deceleration";
+    const char *path = out_path("xy_stop.png");
+    eddy_error err = {0};
+    eddy_status st = post_plot_xy_png(path, N, x, v, a, &o, &err);
+    check(st == EDDY_OK, "xy_written", "%s", err.msg);
+    image im;
+    if (read_png(path, &im) == 0) {
+        check(im.w == 1000 && im.h == 650, "xy_default_size", "%dx%d", im.w, im.h);
+        int nblue = count_colour(&im, 0, 114, 178, 6), nverm = count_colour(&im, 213, 94, 0, 6);
+        check(nblue > 600 && nverm > 600, "xy_both_curves_drawn",
+              "%d speed-blue px, %d deceleration-vermillion px", nblue, nverm);
+        const char *t = text_of(&im, "eddy2d:case");
+        check(t != NULL && strcmp(t, "synthetic-stop") == 0, "xy_text_case", "%s",
+              t ? t : "(none)");
+        t = text_of(&im, "Title");
+        check(t != NULL && strcmp(t, o.title) == 0, "xy_text_title_utf8", "%s", t ? t : "(none)");
+        t = text_of(&im, "Software");
+        check(t != NULL && strcmp(t, "eddy2d 0.1-test") == 0, "xy_text_software", "%s",
+              t ? t : "(none)");
+        const char *tx = text_of(&im, "eddy2d:x"), *t1 = text_of(&im, "eddy2d:y1");
+        const char *t2 = text_of(&im, "eddy2d:y2");
+        check(tx != NULL && t1 != NULL && t2 != NULL && strcmp(tx, "distance (m)") == 0 &&
+                  strcmp(t1, "speed (m/s)") == 0 && strcmp(t2, "deceleration (m/s^2)") == 0,
+              "xy_text_axes", "x %s, y1 %s, y2 %s", tx ? tx : "(none)", t1 ? t1 : "(none)",
+              t2 ? t2 : "(none)");
+        image_free(&im);
+    } else {
+        check(0, "xy_decodes", "%s", path);
+    }
+
+    /* one curve (linear drag: v = v0 - (b/m) x), stated size, no title */
+    double lx[50], lv[50];
+    for (int k = 0; k < 50; k++) {
+        lx[k] = 60.0 * k / 49.0;
+        lv[k] = v0 - 0.5 * lx[k];
+    }
+    post_xy_opts_defaults(&o);
+    o.x_label = "distance (m)";
+    o.y1_label = "speed (m/s)";
+    o.width_px = 700;
+    o.height_px = 450;
+    path = out_path("xy_one_curve.png");
+    st = post_plot_xy_png(path, 50, lx, lv, NULL, &o, &err);
+    check(st == EDDY_OK, "xy_one_curve_written", "%s", err.msg);
+    if (read_png(path, &im) == 0) {
+        int nblue = count_colour(&im, 0, 114, 178, 6), nverm = count_colour(&im, 213, 94, 0, 6);
+        /* a 1.5 px line about 700 px long: its core keeps the exact colour
+         * over roughly half its length in pixels */
+        check(im.w == 700 && im.h == 450 && nblue > 200 && nverm == 0, "xy_one_curve_drawn",
+              "%dx%d, %d blue px, %d vermillion px", im.w, im.h, nblue, nverm);
+        check(text_of(&im, "eddy2d:y2") == NULL && text_of(&im, "Title") == NULL,
+              "xy_one_curve_text", "y2 or title text present");
+        image_free(&im);
+    } else {
+        check(0, "xy_one_curve_decodes", "%s", path);
+    }
+
+    /* x need not be monotonic: a closed loop, and a constant y2 */
+    double cx[73], cy[73], cz[73];
+    for (int k = 0; k < 73; k++) {
+        cx[k] = cos(2.0 * M_PI * k / 72.0);
+        cy[k] = sin(2.0 * M_PI * k / 72.0);
+        cz[k] = 4.0;
+    }
+    st = post_plot_xy_png(out_path("xy_loop.png"), 73, cx, cy, cz, NULL, &err);
+    check(st == EDDY_OK, "xy_loop_and_constant", "%s", err.msg);
+
+    /* bad input (a raised error keeps its first message: clear it each time) */
+    double bad[3] = {0.0, NAN, 2.0}, inf[3] = {0.0, 1.0, INFINITY}, ok3[3] = {0.0, 1.0, 2.0};
+    memset(&err, 0, sizeof err);
+    st = post_plot_xy_png(out_path("bad.png"), 1, ok3, ok3, NULL, NULL, &err);
+    check(st == EDDY_ERR_INPUT, "xy_err_one_point", "status %d: %s", st, err.msg);
+    memset(&err, 0, sizeof err);
+    st = post_plot_xy_png(out_path("bad.png"), 0, ok3, ok3, NULL, NULL, NULL);
+    check(st == EDDY_ERR_INPUT, "xy_err_no_points", "status %d", st);
+    memset(&err, 0, sizeof err);
+    st = post_plot_xy_png(out_path("bad.png"), 3, bad, ok3, NULL, NULL, &err);
+    check(st == EDDY_ERR_INPUT && strstr(err.msg, "x[1]") != NULL, "xy_err_nan_x", "status %d: %s",
+          st, err.msg);
+    memset(&err, 0, sizeof err);
+    st = post_plot_xy_png(out_path("bad.png"), 3, ok3, inf, NULL, NULL, &err);
+    check(st == EDDY_ERR_INPUT, "xy_err_inf_y1", "status %d: %s", st, err.msg);
+    memset(&err, 0, sizeof err);
+    st = post_plot_xy_png(out_path("bad.png"), 3, ok3, ok3, bad, NULL, &err);
+    check(st == EDDY_ERR_INPUT && strstr(err.msg, "y2[1]") != NULL, "xy_err_nan_y2",
+          "status %d: %s", st, err.msg);
+    memset(&err, 0, sizeof err);
+    st = post_plot_xy_png(out_path("bad.png"), 3, NULL, ok3, NULL, NULL, &err);
+    check(st == EDDY_ERR_INPUT, "xy_err_null_x", "status %d", st);
+    post_xy_opts_defaults(&o);
+    o.width_px = 100;
+    memset(&err, 0, sizeof err);
+    st = post_plot_xy_png(out_path("bad.png"), 3, ok3, ok3, NULL, &o, &err);
+    check(st == EDDY_ERR_INPUT, "xy_err_too_small", "status %d", st);
+    memset(&err, 0, sizeof err);
+    st = post_plot_xy_png("/nonexistent-dir/xy.png", 3, ok3, ok3, NULL, NULL, &err);
+    check(st == EDDY_ERR_IO, "xy_err_unwritable", "status %d: %s", st, err.msg);
+}
+
 int main(void)
 {
     const char *keep = getenv("EDDY_IMG_SAMPLES");
@@ -734,6 +857,7 @@ int main(void)
     test_peak();
     test_force_plots();
     test_errors();
+    test_xy_plot();
     render_showcase();
     if (!keep_files) {
         for (int k = 0; k < n_written; k++)

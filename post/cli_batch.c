@@ -1,0 +1,840 @@
+/*
+ * cli_batch.c - front end of `eddy2d batch`: argument parsing, running the
+ * cases (each in a child process, N at a time, with a time limit), the
+ * progress line or log, Slurm submission, and the exit status.  The
+ * library side (planning, resume decisions, status files, summaries) is in
+ * post/post_batch.c.
+ *
+ * Why a child process per case: a crash, a runaway allocation or a hang in
+ * one case must not lose the others.  The child only solves; the parent
+ * writes the completion marker (input.hash) or error.json after the child
+ * has ended, so a half-finished case is never taken as done.  On Linux the
+ * child asks to be killed when the parent dies (PR_SET_PDEATHSIG), so a
+ * batch killed with SIGKILL leaves no orphan writing into its folders.
+ *
+ * Exit status: 0 every case ok; 1 some case failed or did not run (or the
+ * Slurm submission failed); 2 bad command line or unusable inputs.
+ */
+#include <errno.h>
+#include <fcntl.h>
+#include <limits.h>
+#include <math.h>
+#include <poll.h>
+#include <signal.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <sys/types.h>
+#include <sys/wait.h>
+#include <time.h>
+#include <unistd.h>
+#if defined(__linux__)
+#include <sys/prctl.h>
+#endif
+
+#include "mesh/mesh.h"
+#include "post/post.h"
+
+int cli_batch(int argc, char **argv);
+
+/* Cases at once at most (-j). */
+#define MAX_JOBS 256
+#define MAX_JOBS_TEXT "256"
+
+typedef struct {
+    const char **inputs;
+    int ninput;
+    const char *outdir;
+    int jobs;           /* cases at once; 0: the machine's cores */
+    int threads;        /* per case; 0: cores / jobs */
+    double timeout;     /* s per case; 0: none */
+    int images;
+    int slurm, dry_run;
+    const char **slurm_opts;
+    int nslurm_opt;
+    long run_one;       /* -1: not a Slurm task */
+    int summary_only;
+    int quiet;
+} batch_args;
+
+static void batch_usage(FILE *out)
+{
+    fprintf(
+        out,
+        "usage:\n"
+        "  eddy2d batch DIR_OR_CASE... -o OUTDIR [-j N] [--threads T] [--case-timeout S]\n"
+        "               [--no-images] [-q]\n"
+        "  eddy2d batch DIR_OR_CASE... -o OUTDIR --slurm [--dry-run] [--slurm-option OPT]...\n"
+        "  eddy2d batch --run-one INDEX -o OUTDIR [--case-timeout S] [--threads T]\n"
+        "  eddy2d batch --summary-only -o OUTDIR\n"
+        "\n"
+        "Solves every case file given and every *.json in each folder given (not in\n"
+        "sub-folders), expanding each case's \"variants\" into one case per combination,\n"
+        "each into OUTDIR/<case>/ (case.json, result.json, forces.csv, pictures), and writes\n"
+        "OUTDIR/summary.csv, summary.json and summary.html.  Run again, it skips every case\n"
+        "whose results are complete for the same input and tool version, and redoes the rest.\n"
+        "\n"
+        "options:\n"
+        "  -o OUTDIR           batch folder (required)\n"
+        "  -j N                cases at once (default: the number of cores)\n"
+        "  --threads T         speeds solved at once within a case (default: cores / N)\n"
+        "  --case-timeout S    stop a case after S seconds and record it as failed\n"
+        "  --no-images         no pictures (the summary page then shows no plots)\n"
+        "  -q                  quiet: only errors\n"
+        "  --slurm             write OUTDIR/batch.sbatch (a job array, one task per case to\n"
+        "                      run), summary.sbatch and submit.sh, and submit them with sbatch\n"
+        "  --dry-run           with --slurm: write the scripts, do not submit\n"
+        "  --slurm-option OPT  with --slurm: add \"#SBATCH OPT\" (e.g. --partition=short)\n"
+        "  --run-one INDEX     solve case INDEX (0-based) of the plan in OUTDIR (what an\n"
+        "                      array task runs)\n"
+        "  --summary-only      write the summary of OUTDIR from its case folders\n"
+        "\n"
+        "exit status: 0 every case ok, 1 a case failed or did not run, 2 bad command line\n");
+}
+
+static int bad_usage(const char *fmt, const char *arg)
+{
+    fprintf(stderr, "eddy2d: error: ");
+    fprintf(stderr, fmt, arg);
+    fprintf(stderr, " (try eddy2d batch --help)\n");
+    return 2;
+}
+
+/* A whole-string integer in [lo, hi]. */
+static int parse_long(const char *s, long lo, long hi, long *out)
+{
+    char *end = NULL;
+    errno = 0;
+    long v = strtol(s, &end, 10);
+    if (errno != 0 || end == s || *end != '\0' || v < lo || v > hi)
+        return -1;
+    *out = v;
+    return 0;
+}
+
+static int parse_args(int argc, char **argv, batch_args *a)
+{
+    memset(a, 0, sizeof *a);
+    a->images = 1;
+    a->run_one = -1;
+    a->inputs = calloc((size_t)argc + 1, sizeof *a->inputs);
+    a->slurm_opts = calloc((size_t)argc + 1, sizeof *a->slurm_opts);
+    if (a->inputs == NULL || a->slurm_opts == NULL) {
+        fprintf(stderr, "eddy2d: error: out of memory\n");
+        return 2;
+    }
+    for (int k = 0; k < argc; k++) {
+        const char *o = argv[k];
+        const char *val = k + 1 < argc ? argv[k + 1] : NULL;
+        long n = 0;
+        if (strcmp(o, "--help") == 0 || strcmp(o, "-h") == 0) {
+            batch_usage(stdout);
+            return -1;
+        } else if (strcmp(o, "-o") == 0) {
+            if (val == NULL || val[0] == '\0')
+                return bad_usage("%s needs a folder", o);
+            a->outdir = val;
+            k++;
+        } else if (strcmp(o, "-j") == 0) {
+            if (val == NULL || parse_long(val, 1, MAX_JOBS, &n) != 0)
+                return bad_usage("-j needs a number of cases from 1 to " MAX_JOBS_TEXT
+                                 ", got \"%s\"", val != NULL ? val : "");
+            a->jobs = (int)n;
+            k++;
+        } else if (strcmp(o, "--threads") == 0) {
+            if (val == NULL || parse_long(val, 1, 4096, &n) != 0)
+                return bad_usage("--threads needs a number from 1 to 4096, got \"%s\"",
+                                 val != NULL ? val : "");
+            a->threads = (int)n;
+            k++;
+        } else if (strcmp(o, "--case-timeout") == 0) {
+            char *end = NULL;
+            double t = val != NULL ? strtod(val, &end) : NAN;
+            if (val == NULL || end == val || *end != '\0' || !(t > 0) || t > 1e7)
+                return bad_usage("--case-timeout needs seconds > 0, got \"%s\"",
+                                 val != NULL ? val : "");
+            a->timeout = t;
+            k++;
+        } else if (strcmp(o, "--no-images") == 0) {
+            a->images = 0;
+        } else if (strcmp(o, "-q") == 0) {
+            a->quiet = 1;
+        } else if (strcmp(o, "--slurm") == 0) {
+            a->slurm = 1;
+        } else if (strcmp(o, "--dry-run") == 0) {
+            a->dry_run = 1;
+        } else if (strcmp(o, "--slurm-option") == 0) {
+            if (val == NULL || val[0] != '-' || strpbrk(val, "\r\n") != NULL)
+                return bad_usage("--slurm-option needs one sbatch option such as "
+                                 "--partition=short, got \"%s\"", val != NULL ? val : "");
+            a->slurm_opts[a->nslurm_opt++] = val;
+            k++;
+        } else if (strcmp(o, "--run-one") == 0) {
+            if (val == NULL || parse_long(val, 0, INT_MAX - 1, &n) != 0)
+                return bad_usage("--run-one needs a case index >= 0, got \"%s\"",
+                                 val != NULL ? val : "");
+            a->run_one = n;
+            k++;
+        } else if (strcmp(o, "--summary-only") == 0) {
+            a->summary_only = 1;
+        } else if (o[0] == '-' && o[1] != '\0') {
+            return bad_usage("unknown or incomplete option \"%s\"", o);
+        } else {
+            a->inputs[a->ninput++] = o;
+        }
+    }
+    if (a->outdir == NULL)
+        return bad_usage("%sbatch needs an output folder: -o OUTDIR", "");
+    int modes = (a->run_one >= 0) + a->summary_only + a->slurm;
+    if (modes > 1)
+        return bad_usage("%s--slurm, --run-one and --summary-only exclude each other", "");
+    if (a->dry_run && !a->slurm)
+        return bad_usage("%s--dry-run only goes with --slurm", "");
+    if (a->nslurm_opt > 0 && !a->slurm)
+        return bad_usage("%s--slurm-option only goes with --slurm", "");
+    if ((a->run_one >= 0 || a->summary_only) && a->ninput > 0)
+        return bad_usage("--run-one and --summary-only read the plan in OUTDIR; drop \"%s\"",
+                         a->inputs[0]);
+    if (a->run_one < 0 && !a->summary_only && a->ninput == 0)
+        return bad_usage("%sbatch needs case files or folders", "");
+    return 0;
+}
+
+static double now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static int cores(void)
+{
+    long n = sysconf(_SC_NPROCESSORS_ONLN);
+    return n > 0 && n < 65536 ? (int)n : 1;
+}
+
+static void fmt_duration(double s, char *out, size_t size)
+{
+    long t = (long)(s + 0.5);
+    if (t >= 3600)
+        snprintf(out, size, "%ldh%02ldm", t / 3600, (t / 60) % 60);
+    else if (t >= 60)
+        snprintf(out, size, "%ldm%02lds", t / 60, t % 60);
+    else
+        snprintf(out, size, "%lds", t);
+}
+
+/* ------------------------------------------------------------------------ */
+/* Running cases                                                             */
+/* ------------------------------------------------------------------------ */
+
+/* What a child sends back: fits in one atomic pipe write (< PIPE_BUF). */
+typedef struct {
+    int status;
+    char msg[1024];
+} child_msg;
+
+typedef struct {
+    pid_t pid;
+    int fd;            /* read end of the child's pipe; -1 if the slot is free */
+    int idx;
+    double start;
+    int timed_out;
+} slot;
+
+typedef struct {
+    const batch_args *a;
+    const post_batch_plan *p;
+    int jobs, threads;
+    int tty;
+    int total, finished, ok, skipped, failed, ran;
+    double t0, last_draw;
+    int line_shown;
+    slot *slots;
+} runner;
+
+static void clear_line(runner *r)
+{
+    if (r->tty && r->line_shown) {
+        fprintf(stderr, "\r\033[K");
+        r->line_shown = 0;
+    }
+}
+
+static void draw_progress(runner *r, int force)
+{
+    if (!r->tty || r->a->quiet)
+        return;
+    double t = now();
+    if (!force && t - r->last_draw < 0.5)
+        return;
+    r->last_draw = t;
+    int running = 0;
+    for (int k = 0; k < r->jobs; k++)
+        running += r->slots[k].fd >= 0;
+    char el[32], rem[48] = "";
+    fmt_duration(t - r->t0, el, sizeof el);
+    int left = r->total - r->finished;
+    if (r->ran > 0 && left > 0) {
+        char d[32];
+        fmt_duration((t - r->t0) / r->ran * left, d, sizeof d);
+        snprintf(rem, sizeof rem, ", about %s left", d);
+    }
+    fprintf(stderr, "\r\033[K  batch [%d/%d] %d failed, %d running, %s elapsed%s", r->finished,
+            r->total, r->failed, running, el, rem);
+    fflush(stderr);
+    r->line_shown = 1;
+}
+
+/* One finished case: a log line (always for failures, per case in log mode). */
+static void report_case(runner *r, int idx, const char *what, const char *msg, double sec)
+{
+    r->finished++;
+    if (r->a->quiet)
+        return;
+    const post_batch_case *c = &r->p->cases[idx];
+    int failed = msg != NULL;
+    if (r->tty && !failed) {
+        draw_progress(r, 1);
+        return;
+    }
+    clear_line(r);
+    int w = r->total >= 1000 ? 4 : r->total >= 100 ? 3 : r->total >= 10 ? 2 : 1;
+    if (failed)
+        fprintf(stderr, "eddy2d batch: [%*d/%d] %s: %s: %s\n", w, r->finished, r->total,
+                c->name, what, msg);
+    else if (isfinite(sec))
+        fprintf(stderr, "eddy2d batch: [%*d/%d] %s: %s in %.1f s\n", w, r->finished, r->total,
+                c->name, what, sec);
+    else
+        fprintf(stderr, "eddy2d batch: [%*d/%d] %s: %s\n", w, r->finished, r->total, c->name,
+                what);
+    fflush(stderr);
+    draw_progress(r, 1);
+}
+
+static void record_failure(runner *r, int idx, post_case_state st, const char *msg, double sec)
+{
+    eddy_error err = {0};
+    const post_batch_case *c = &r->p->cases[idx];
+    eddy_status s = post_batch_case_failed(r->a->outdir, c, st, msg, sec, &err);
+    r->failed++;
+    report_case(r, idx, post_case_state_name(st), msg, sec);
+    if (s != EDDY_OK && !r->a->quiet)
+        fprintf(stderr, "eddy2d: error: %s\n", err.msg);
+}
+
+/* Test hooks (fault injection, common practice for testing crash handling):
+ * EDDY2D_TEST_FAULT="crash:<case>" aborts that case's process, "hang:<case>"
+ * makes it wait forever.  Nothing else reads the variable. */
+static void test_fault(const char *name)
+{
+    const char *f = getenv("EDDY2D_TEST_FAULT");
+    if (f == NULL)
+        return;
+    if (strncmp(f, "crash:", 6) == 0 && strcmp(f + 6, name) == 0)
+        abort();
+    if (strncmp(f, "hang:", 5) == 0 && strcmp(f + 5, name) == 0)
+        for (;;)
+            pause();
+}
+
+static void child_main(runner *r, int idx, int wfd, pid_t parent)
+{
+#if defined(__linux__)
+    prctl(PR_SET_PDEATHSIG, SIGKILL);
+#endif
+    if (getppid() != parent) /* the parent died before the request took effect */
+        _exit(3);
+    for (int k = 0; k < r->jobs; k++)
+        if (r->slots[k].fd >= 0)
+            close(r->slots[k].fd);
+    const post_batch_case *c = &r->p->cases[idx];
+    test_fault(c->name);
+    /* N cases share the machine: each may use its share of the memory */
+    if (r->jobs > 1) {
+        long pages = sysconf(_SC_PHYS_PAGES), psize = sysconf(_SC_PAGESIZE);
+        if (pages > 0 && psize > 0)
+            mesh_set_memory_limit(0.5 * (double)pages * (double)psize / r->jobs);
+    }
+    eddy_error err = {0};
+    eddy_status s = post_batch_case_solve(r->a->outdir, c, r->p->images, r->threads, &err);
+    child_msg m;
+    memset(&m, 0, sizeof m);
+    m.status = (int)s;
+    snprintf(m.msg, sizeof m.msg, "%s", s == EDDY_OK ? "" : err.msg[0] ? err.msg
+                                                                       : eddy_strerror(s));
+    ssize_t w;
+    do
+        w = write(wfd, &m, sizeof m);
+    while (w < 0 && errno == EINTR);
+    close(wfd);
+    /* exit (not _exit) so that the leak checker of a sanitizer build sees the child */
+    exit(w == (ssize_t)sizeof m ? (s == EDDY_OK ? 0 : 1) : 4);
+}
+
+/* Start case idx in slot sl.  0 on success; -1 if it could not start (recorded). */
+static int start_case(runner *r, slot *sl, int idx)
+{
+    eddy_error err = {0};
+    const post_batch_case *c = &r->p->cases[idx];
+    if (post_batch_case_prepare(r->a->outdir, c, &err) != EDDY_OK) {
+        record_failure(r, idx, POST_CASE_FAILED, err.msg, NAN);
+        return -1;
+    }
+    int fds[2];
+    if (pipe(fds) != 0) {
+        char msg[256];
+        snprintf(msg, sizeof msg, "cannot create a pipe: %s", strerror(errno));
+        record_failure(r, idx, POST_CASE_FAILED, msg, NAN);
+        return -1;
+    }
+    fflush(NULL); /* nothing buffered may be written twice */
+    pid_t parent = getpid();
+    pid_t pid = fork();
+    if (pid < 0) {
+        char msg[256];
+        snprintf(msg, sizeof msg, "cannot start a process: %s", strerror(errno));
+        close(fds[0]);
+        close(fds[1]);
+        record_failure(r, idx, POST_CASE_FAILED, msg, NAN);
+        return -1;
+    }
+    if (pid == 0) {
+        close(fds[0]);
+        child_main(r, idx, fds[1], parent);
+    }
+    close(fds[1]);
+    sl->pid = pid;
+    sl->fd = fds[0];
+    sl->idx = idx;
+    sl->start = now();
+    sl->timed_out = 0;
+    return 0;
+}
+
+/* The child of slot sl has closed its pipe: collect it and record the case. */
+static void finish_case(runner *r, slot *sl)
+{
+    child_msg m;
+    memset(&m, 0, sizeof m);
+    size_t got = 0;
+    while (got < sizeof m) {
+        ssize_t n = read(sl->fd, (char *)&m + got, sizeof m - got);
+        if (n < 0 && errno == EINTR)
+            continue;
+        if (n <= 0)
+            break;
+        got += (size_t)n;
+    }
+    close(sl->fd);
+    sl->fd = -1;
+    int wst = 0;
+    while (waitpid(sl->pid, &wst, 0) < 0 && errno == EINTR)
+        ;
+    double sec = now() - sl->start;
+    int idx = sl->idx;
+    r->ran++;
+    m.msg[sizeof m.msg - 1] = '\0';
+    char msg[1200];
+    if (sl->timed_out) {
+        snprintf(msg, sizeof msg, "stopped after the case time limit of %g s", r->a->timeout);
+        record_failure(r, idx, POST_CASE_TIMEOUT, msg, sec);
+    } else if (WIFSIGNALED(wst)) {
+        snprintf(msg, sizeof msg, "the case's process died of signal %d (%s)", WTERMSIG(wst),
+                 strsignal(WTERMSIG(wst)));
+        record_failure(r, idx, POST_CASE_CRASHED, msg, sec);
+    } else if (got == sizeof m && m.status == EDDY_OK && WIFEXITED(wst) &&
+               WEXITSTATUS(wst) == 0) {
+        eddy_error err = {0};
+        if (post_batch_case_done(r->a->outdir, &r->p->cases[idx], sec, &err) != EDDY_OK) {
+            record_failure(r, idx, POST_CASE_FAILED, err.msg, sec);
+        } else {
+            r->ok++;
+            report_case(r, idx, "ok", NULL, sec);
+        }
+    } else if (got == sizeof m && m.status != EDDY_OK) {
+        eddy_status s = (eddy_status)m.status;
+        int input = s == EDDY_ERR_INPUT || s == EDDY_ERR_TOO_LARGE;
+        record_failure(r, idx, input ? POST_CASE_INVALID : POST_CASE_FAILED, m.msg, sec);
+    } else {
+        snprintf(msg, sizeof msg, "the case's process ended (exit status %d) without a result",
+                 WIFEXITED(wst) ? WEXITSTATUS(wst) : -1);
+        record_failure(r, idx, POST_CASE_FAILED, msg, sec);
+    }
+}
+
+/* Run the listed cases, r->jobs at a time. */
+static void run_cases(runner *r, const int *todo, int ntodo)
+{
+    int next = 0;
+    for (;;) {
+        int running = 0;
+        for (int k = 0; k < r->jobs; k++) {
+            slot *sl = &r->slots[k];
+            while (sl->fd < 0 && next < ntodo) {
+                if (start_case(r, sl, todo[next++]) == 0)
+                    break;
+            }
+            running += sl->fd >= 0;
+        }
+        if (running == 0 && next >= ntodo)
+            break;
+        draw_progress(r, 0);
+        /* wait for a child to end, a deadline, or the next progress update */
+        struct pollfd pf[MAX_JOBS];
+        int map[MAX_JOBS], np = 0;
+        double t = now(), wait_s = 0.5;
+        for (int k = 0; k < r->jobs && np < MAX_JOBS; k++) {
+            slot *sl = &r->slots[k];
+            if (sl->fd < 0)
+                continue;
+            pf[np].fd = sl->fd;
+            pf[np].events = POLLIN;
+            pf[np].revents = 0;
+            map[np++] = k;
+            if (r->a->timeout > 0 && !sl->timed_out) {
+                double left = sl->start + r->a->timeout - t;
+                if (left <= 0) {
+                    kill(sl->pid, SIGKILL);
+                    sl->timed_out = 1;
+                } else if (left < wait_s) {
+                    wait_s = left;
+                }
+            }
+        }
+        int ms = (int)ceil(wait_s * 1000.0);
+        int n = poll(pf, (nfds_t)np, ms < 1 ? 1 : ms);
+        if (n < 0 && errno != EINTR)
+            n = 0;
+        for (int q = 0; n > 0 && q < np; q++)
+            if (pf[q].revents != 0)
+                finish_case(r, &r->slots[map[q]]);
+    }
+    clear_line(r);
+}
+
+/* Take the advisory lock OUTDIR/.lock (fcntl: not inherited by the case
+ * processes, released when this process ends).  The descriptor, or -1 if
+ * another process holds it. */
+static int lock_folder(const char *outdir)
+{
+    char path[4200];
+    snprintf(path, sizeof path, "%s/.lock", outdir);
+    int fd = open(path, O_RDWR | O_CREAT, 0666);
+    if (fd < 0)
+        return -2; /* cannot lock (read-only folder?): go on without */
+    struct flock fl;
+    memset(&fl, 0, sizeof fl);
+    fl.l_type = F_WRLCK;
+    fl.l_whence = SEEK_SET;
+    if (fcntl(fd, F_SETLK, &fl) != 0) {
+        int e = errno;
+        close(fd);
+        return e == EACCES || e == EAGAIN ? -1 : -2;
+    }
+    return fd;
+}
+
+/* Absolute path of the running program, for the Slurm scripts. */
+static int self_path(char *out, size_t size)
+{
+    ssize_t n = readlink("/proc/self/exe", out, size - 1);
+    if (n <= 0 || (size_t)n >= size - 1)
+        return -1;
+    out[n] = '\0';
+    return 0;
+}
+
+/* dir as an absolute path (the current folder prefixed to a relative one). */
+static int absolute(const char *dir, char *out, size_t size)
+{
+    if (dir[0] == '/') {
+        if (strlen(dir) >= size)
+            return -1;
+        snprintf(out, size, "%s", dir);
+    } else {
+        char cwd[PATH_MAX];
+        if (getcwd(cwd, sizeof cwd) == NULL)
+            return -1;
+        int n = snprintf(out, size, "%s/%s", strcmp(cwd, "/") == 0 ? "" : cwd, dir);
+        if (n < 0 || (size_t)n >= size)
+            return -1;
+    }
+    size_t n = strlen(out); /* no trailing slashes */
+    while (n > 1 && out[n - 1] == '/')
+        out[--n] = '\0';
+    return 0;
+}
+
+static void print_warnings(const post_batch_plan *p)
+{
+    const char *last_src = NULL, *last_w = NULL;
+    for (int k = 0; k < p->ncase; k++) {
+        const post_batch_case *c = &p->cases[k];
+        if (c->warnings == NULL)
+            continue;
+        if (last_src != NULL && strcmp(last_src, c->source) == 0 &&
+            strcmp(last_w, c->warnings) == 0)
+            continue; /* the same remark for every variant of a file: once */
+        last_src = c->source;
+        last_w = c->warnings;
+        const char *s = c->warnings;
+        while (*s != '\0') {
+            const char *e = strchr(s, '\n');
+            int len = e != NULL ? (int)(e - s) : (int)strlen(s);
+            fprintf(stderr, "eddy2d: warning: %.*s\n", len, s);
+            s += len + (e != NULL);
+        }
+    }
+}
+
+static int finish_summary(const batch_args *a, const post_batch_plan *p, int ran, int skipped)
+{
+    eddy_error err = {0};
+    post_batch_counts n;
+    if (post_batch_write_summary(a->outdir, p, &n, &err) != EDDY_OK) {
+        fprintf(stderr, "eddy2d: error: summary: %s\n", err.msg);
+        return 1;
+    }
+    if (!a->quiet) {
+        printf("batch: %d cases: %d ok", n.cases, n.ok);
+        if (skipped > 0 || ran > 0)
+            printf(" (%d solved now, %d up to date)", ran, skipped);
+        printf(", %d failed, %d not run\n", n.failed, n.not_run);
+        printf("summary: %s/summary.html (also summary.csv, summary.json)\n", a->outdir);
+        printf("note: %s\n", post_safety_notice());
+    }
+    return n.failed > 0 || n.not_run > 0 ? 1 : 0;
+}
+
+static int submit(const char *outdir)
+{
+    char script[4200];
+    snprintf(script, sizeof script, "%s/submit.sh", outdir);
+    fflush(NULL);
+    pid_t pid = fork();
+    if (pid < 0) {
+        fprintf(stderr, "eddy2d: error: cannot start sh: %s\n", strerror(errno));
+        return 1;
+    }
+    if (pid == 0) {
+        execl("/bin/sh", "sh", script, (char *)NULL);
+        _exit(127);
+    }
+    int wst = 0;
+    while (waitpid(pid, &wst, 0) < 0 && errno == EINTR)
+        ;
+    if (!WIFEXITED(wst) || WEXITSTATUS(wst) != 0) {
+        fprintf(stderr, "eddy2d: error: submitting with sbatch failed (%s); the scripts are in "
+                        "%s/, submit them with: sh %s\n",
+                WIFEXITED(wst) ? "sbatch or sh returned an error" : "killed", outdir, script);
+        return 1;
+    }
+    return 0;
+}
+
+static int run_slurm(batch_args *a, post_batch_plan *p, runner *r)
+{
+    eddy_error err = {0};
+    char absdir[PATH_MAX], exe[PATH_MAX];
+    if (absolute(a->outdir, absdir, sizeof absdir) != 0) {
+        fprintf(stderr, "eddy2d: error: %s: cannot make an absolute path: %s\n", a->outdir,
+                strerror(errno));
+        return 1;
+    }
+    if (self_path(exe, sizeof exe) != 0) {
+        fprintf(stderr, "eddy2d: error: cannot find the path of this program for the Slurm "
+                        "scripts\n");
+        return 1;
+    }
+    int *todo = malloc((size_t)(p->ncase > 0 ? p->ncase : 1) * sizeof *todo);
+    if (todo == NULL) {
+        fprintf(stderr, "eddy2d: error: out of memory\n");
+        return 1;
+    }
+    int ntodo = 0, skipped = 0;
+    for (int k = 0; k < p->ncase; k++) {
+        post_case_state st = post_batch_case_state(a->outdir, &p->cases[k]);
+        if (st == POST_CASE_OK)
+            skipped++;
+        else if (p->cases[k].invalid) {
+            if (st != POST_CASE_INVALID)
+                record_failure(r, k, POST_CASE_INVALID, p->cases[k].error, NAN);
+        } else
+            todo[ntodo++] = k;
+    }
+    if (ntodo == 0) {
+        free(todo);
+        if (!a->quiet)
+            printf("batch: nothing to submit: every case is up to date or invalid\n");
+        return finish_summary(a, p, 0, skipped);
+    }
+    post_batch_slurm_opts so;
+    post_batch_slurm_opts_defaults(&so);
+    so.exe = exe;
+    so.ntask = ntodo;
+    so.tasks = todo;
+    so.cpus_per_task = a->threads > 0 ? a->threads : 1;
+    so.case_timeout = a->timeout;
+    so.nextra = a->nslurm_opt;
+    so.extra = a->slurm_opts;
+    eddy_status s = post_batch_write_slurm(absdir, p, &so, &err);
+    free(todo);
+    if (s != EDDY_OK) {
+        fprintf(stderr, "eddy2d: error: %s\n", err.msg);
+        return eddy_exit_code(s);
+    }
+    /* a summary now, so the folder reads sensibly before the jobs run */
+    post_batch_write_summary(a->outdir, p, NULL, &err);
+    if (!a->quiet)
+        printf("batch: %d of %d cases to run under Slurm (%d up to date); wrote %s/batch.sbatch, "
+               "summary.sbatch and submit.sh\n",
+               ntodo, p->ncase, skipped, absdir);
+    if (a->dry_run) {
+        if (!a->quiet)
+            printf("dry run: submit with: sh %s/submit.sh\n", absdir);
+        return 0;
+    }
+    return submit(absdir);
+}
+
+int cli_batch(int argc, char **argv)
+{
+    batch_args a;
+    int rc = parse_args(argc, argv, &a);
+    if (rc != 0) {
+        free(a.inputs);
+        free(a.slurm_opts);
+        return rc < 0 ? 0 : rc;
+    }
+    eddy_error err = {0};
+    post_batch_plan *p = NULL;
+    eddy_status s;
+    if (a.run_one >= 0 || a.summary_only)
+        s = post_batch_plan_load(a.outdir, &p, &err);
+    else
+        s = post_batch_plan_build(a.ninput, a.inputs, a.images, &p, &err);
+    if (s != EDDY_OK) {
+        fprintf(stderr, "eddy2d: error: %s\n", err.msg[0] ? err.msg : eddy_strerror(s));
+        free(a.inputs);
+        free(a.slurm_opts);
+        return s == EDDY_ERR_NOMEM ? 1 : 2;
+    }
+    if (a.run_one >= p->ncase) {
+        fprintf(stderr, "eddy2d: error: --run-one %ld: the plan in %s has %d cases (0 to %d)\n",
+                a.run_one, a.outdir, p->ncase, p->ncase - 1);
+        post_batch_plan_free(p);
+        free(a.inputs);
+        free(a.slurm_opts);
+        return 2;
+    }
+    if (!a.quiet && a.run_one < 0 && !a.summary_only)
+        print_warnings(p);
+    int lock_fd = -1;
+    runner r;
+    memset(&r, 0, sizeof r);
+    r.a = &a;
+    r.p = p;
+    r.tty = isatty(STDERR_FILENO) && !a.quiet;
+    r.t0 = now();
+    int ncore = cores();
+    if (a.summary_only) {
+        rc = finish_summary(&a, p, 0, 0);
+        goto out;
+    }
+    if (a.run_one < 0) {
+        /* one batch at a time in a folder (released when this process ends, even
+         * by SIGKILL); array tasks work on different cases and take no lock */
+        s = post_make_dir(a.outdir, &err);
+        if (s != EDDY_OK) { /* the folder named by -o is unusable */
+            fprintf(stderr, "eddy2d: error: %s\n", err.msg);
+            rc = 2;
+            goto out;
+        }
+        if ((lock_fd = lock_folder(a.outdir)) == -1) {
+            fprintf(stderr, "eddy2d: error: %s: another batch is running in this folder\n",
+                    a.outdir);
+            rc = 2;
+            goto out;
+        }
+        s = post_batch_plan_save(p, a.outdir, &err);
+        if (s != EDDY_OK) {
+            fprintf(stderr, "eddy2d: error: %s\n", err.msg);
+            rc = 1;
+            goto out;
+        }
+    }
+    r.jobs = 1;
+    r.slots = calloc(MAX_JOBS, sizeof *r.slots);
+    if (r.slots == NULL) {
+        fprintf(stderr, "eddy2d: error: out of memory\n");
+        rc = 1;
+        goto out;
+    }
+    for (int k = 0; k < MAX_JOBS; k++)
+        r.slots[k].fd = -1;
+    if (a.slurm) {
+        r.total = p->ncase;
+        rc = run_slurm(&a, p, &r);
+        goto out;
+    }
+    /* the resume decision for every case */
+    int *todo = malloc((size_t)(p->ncase > 0 ? p->ncase : 1) * sizeof *todo);
+    if (todo == NULL) {
+        fprintf(stderr, "eddy2d: error: out of memory\n");
+        rc = 1;
+        goto out;
+    }
+    int first = a.run_one >= 0 ? (int)a.run_one : 0;
+    int last = a.run_one >= 0 ? (int)a.run_one + 1 : p->ncase;
+    int ntodo = 0;
+    r.total = last - first;
+    for (int k = first; k < last; k++) {
+        int done = post_batch_case_state(a.outdir, &p->cases[k]) == POST_CASE_OK;
+        if (!done && !p->cases[k].invalid)
+            todo[ntodo++] = k;
+    }
+    /* N cases at once, each with its share of the cores */
+    r.jobs = a.jobs > 0 ? a.jobs : ncore;
+    if (r.jobs > ntodo)
+        r.jobs = ntodo > 0 ? ntodo : 1;
+    if (r.jobs > MAX_JOBS)
+        r.jobs = MAX_JOBS;
+    if (a.threads > 0) {
+        r.threads = a.threads;
+    } else if (a.run_one >= 0 && getenv("SLURM_CPUS_PER_TASK") != NULL) {
+        long n = 0;
+        r.threads = parse_long(getenv("SLURM_CPUS_PER_TASK"), 1, 4096, &n) == 0 ? (int)n : 1;
+    } else {
+        r.threads = ncore / r.jobs > 0 ? ncore / r.jobs : 1;
+    }
+    if (!a.quiet && !r.tty && a.run_one < 0)
+        fprintf(stderr, "eddy2d batch: %d cases, %d to solve, %d at a time, %d thread%s each\n",
+                p->ncase, ntodo, r.jobs, r.threads, r.threads == 1 ? "" : "s");
+    for (int k = first; k < last; k++) {
+        if (post_batch_case_state(a.outdir, &p->cases[k]) == POST_CASE_OK) {
+            r.skipped++;
+            r.ok++;
+            report_case(&r, k, "up to date, skipped", NULL, NAN);
+        } else if (p->cases[k].invalid) {
+            record_failure(&r, k, POST_CASE_INVALID, p->cases[k].error, NAN);
+        }
+    }
+    run_cases(&r, todo, ntodo);
+    free(todo);
+    if (a.run_one >= 0) {
+        rc = r.failed > 0 ? 1 : 0;
+        goto out;
+    }
+    rc = finish_summary(&a, p, r.ran, r.skipped);
+out:
+    if (lock_fd >= 0)
+        close(lock_fd);
+    free(r.slots);
+    post_batch_plan_free(p);
+    free(a.inputs);
+    free(a.slurm_opts);
+    return rc;
+}

@@ -1,0 +1,218 @@
+/*
+ * post_design.c - from the force-speed curve of a run to brake-design
+ * answers: the drag peak, where to add speeds in an adaptive sweep, the
+ * conductor heating per speed, the stop of a load, the finite-width (end
+ * effect) correction, and the torque and power of a disc brake.
+ */
+#include "post/post.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Tolerances of the adaptive sweep (issue text): interpolation between
+ * neighbours off by more than ADAPT_TOL adds points; the drag peak is
+ * refined until its neighbours predict it to PEAK_TOL. */
+#define ADAPT_TOL 0.005
+#define PEAK_TOL 0.001
+#define STOP_TABLE_TOL 0.005
+
+static int cmp_speed(const void *pa, const void *pb)
+{
+    double a = *(const double *)pa, b = *(const double *)pb;
+    return (a > b) - (a < b);
+}
+
+/* Sort the points of a report by speed (forces, infos, speeds together). */
+void post_design_sort(post_report *r)
+{
+    int n = r->npoint;
+    for (int i = 1; i < n; i++)
+        for (int j = i; j > 0 && r->f[j - 1].speed > r->f[j].speed; j--) {
+            post_forces tf = r->f[j];
+            r->f[j] = r->f[j - 1];
+            r->f[j - 1] = tf;
+            post_point_info ti = r->info[j];
+            r->info[j] = r->info[j - 1];
+            r->info[j - 1] = ti;
+            double ts = r->c->speeds[j];
+            r->c->speeds[j] = r->c->speeds[j - 1];
+            r->c->speeds[j - 1] = ts;
+        }
+}
+
+/* Relative error of predicting point i from the monotone cubic (in log v,
+ * log F) through the others. */
+static double leave_one_out(int n, const double *lv, const double *lf, int i, double *work)
+{
+    double *x = work, *y = work + n, *d = work + 2 * n;
+    int m = 0;
+    for (int k = 0; k < n; k++)
+        if (k != i) {
+            x[m] = lv[k];
+            y[m] = lf[k];
+            m++;
+        }
+    if (post_pchip_slopes(m, x, y, d, NULL) != EDDY_OK)
+        return INFINITY;
+    return fabs(expm1(post_pchip_eval(m, x, y, d, lv[i]) - lf[i]));
+}
+
+int post_design_refine(const post_report *r, double *speeds, int max_new)
+{
+    int n = r->npoint, nn = 0;
+    if (n < 3 || max_new <= 0)
+        return 0;
+    double *lv = malloc((size_t)n * 5 * sizeof *lv);
+    if (lv == NULL)
+        return 0;
+    double *lf = lv + n, *work = lv + 2 * n;
+    for (int k = 0; k < n; k++) {
+        if (!(r->f[k].speed > 0 && r->f[k].drag > 0)) {
+            free(lv);
+            return 0;
+        }
+        lv[k] = log(r->f[k].speed);
+        lf[k] = log(r->f[k].drag);
+    }
+    int imax = 0;
+    for (int k = 1; k < n; k++)
+        if (lf[k] > lf[imax])
+            imax = k;
+    for (int i = 1; i + 1 < n && nn + 2 <= max_new; i++) {
+        double e = leave_one_out(n, lv, lf, i, work);
+        double tol = i == imax ? PEAK_TOL : ADAPT_TOL;
+        if (e > tol) {
+            speeds[nn++] = exp(0.5 * (lv[i - 1] + lv[i]));
+            speeds[nn++] = exp(0.5 * (lv[i] + lv[i + 1]));
+        }
+    }
+    free(lv);
+    /* drop duplicates (a midpoint shared by two flagged points) */
+    qsort(speeds, (size_t)nn, sizeof *speeds, cmp_speed);
+    int m = 0;
+    for (int k = 0; k < nn; k++)
+        if (m == 0 || speeds[k] > speeds[m - 1] * (1 + 1e-9))
+            speeds[m++] = speeds[k];
+    return m;
+}
+
+/* Density x specific heat of the moving conductors, area-weighted, J/(m^3 K);
+ * 0 if unknown. */
+static double rho_cp(const post_report *r)
+{
+    const mesh_case *c = r->c;
+    double sum = 0.0, area = 0.0;
+    for (int k = 0; k < c->nreg; k++) {
+        const mesh_region *g = &c->regions[k];
+        if (!g->moving || g->material < 0)
+            continue;
+        const mesh_material *m = &c->materials[g->material];
+        if (m->sigma <= 0)
+            continue;
+        double a = (g->box[2] - g->box[0]) * (g->box[3] - g->box[1]);
+        if (m->density <= 0 || m->specific_heat <= 0)
+            return 0.0;
+        sum += a * m->density * m->specific_heat;
+        area += a;
+    }
+    return area > 0 ? sum / area : 0.0;
+}
+
+eddy_status post_design_evaluate(post_report *r, eddy_error *err)
+{
+    const mesh_case *c = r->c;
+    int n = r->npoint;
+    double rc = rho_cp(r);
+    /* per point: heating, disc, end effect */
+    r->end_factor = NAN;
+    if (c->end_effect.present) {
+        eddy_status s = post_end_effect_factor(c->end_effect.active_width,
+                                               c->end_effect.plate_width,
+                                               c->end_effect.pole_pitch, &r->end_factor, err);
+        if (s != EDDY_OK)
+            return s;
+    }
+    for (int k = 0; k < n; k++) {
+        post_forces *f = &r->f[k];
+        f->heating_rate = NAN;
+        if (rc > 0 && f->conductor_area > 0)
+            f->heating_rate = f->loss / (rc * f->conductor_area);
+        f->rpm = f->torque = f->power = NAN;
+        if (c->disc.present) {
+            double total = f->drag * c->disc.active_length * c->disc.periods; /* N */
+            f->rpm = 60.0 * f->speed / (2.0 * 3.14159265358979323846 * c->disc.mean_radius);
+            f->torque = post_disc_torque(total, c->disc.mean_radius);
+            f->power = post_brake_power(total, fabs(f->speed));
+        }
+        f->drag_end_corrected = isfinite(r->end_factor) ? f->drag * r->end_factor : NAN;
+    }
+    /* the drag peak over the positive speeds */
+    double *sp = malloc((size_t)(n > 0 ? n : 1) * 2 * sizeof *sp);
+    if (sp == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    double *dr = sp + n;
+    int m = 0;
+    for (int k = 0; k < n; k++)
+        if (r->f[k].speed > 0) {
+            sp[m] = r->f[k].speed;
+            dr[m] = r->f[k].drag;
+            m++;
+        }
+    r->has_peak = 0;
+    if (m >= 1) {
+        int logv = m >= 2 && sp[m - 1] > 10.0 * sp[0];
+        if (post_force_peak(m, sp, dr, logv, &r->peak_speed, &r->peak_drag, &r->peak_refined,
+                            NULL) == EDDY_OK) {
+            r->has_peak = 1;
+            int imax = 0;
+            for (int k = 1; k < m; k++)
+                if (dr[k] > dr[imax])
+                    imax = k;
+            r->peak_at_end = imax == 0 || imax == m - 1;
+        }
+    }
+    /* the stop of a load */
+    r->has_stop = 0;
+    r->stop_temperature_rise = NAN;
+    eddy_status s = EDDY_OK;
+    if (c->vehicle.present) {
+        const mesh_vehicle *h = &c->vehicle;
+        double *force = malloc((size_t)(m > 0 ? m : 1) * sizeof *force);
+        if (force == NULL) {
+            free(sp);
+            return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+        }
+        for (int k = 0; k < m; k++)
+            force[k] = fmax(dr[k], 0.0) * h->depth * h->repeat;
+        post_stop_input in;
+        post_stop_defaults(&in);
+        in.mass = h->mass;
+        in.extra_force = h->extra_force;
+        in.from_speed = h->from_speed;
+        in.to_speed = h->to_speed;
+        in.interp = POST_INTERP_LOGLOG;
+        in.n_samples = 201;
+        s = post_stop_compute(m, sp, force, &in, &r->stop, err);
+        if (s == EDDY_OK) {
+            r->has_stop = 1;
+            double dt = 0.0;
+            if (post_stop_table_change(m, sp, force, &in, &dt, NULL, NULL) != EDDY_OK)
+                r->stop_table_change = NAN;
+            else
+                r->stop_table_change = dt;
+            double cp = 0.0;
+            for (int k = 0; k < c->nreg; k++)
+                if (c->regions[k].moving && c->regions[k].material >= 0)
+                    cp = c->materials[c->regions[k].material].specific_heat;
+            if (h->conductor_mass > 0 && cp > 0)
+                post_stop_temperature_rise(r->stop.brake_energy, h->conductor_mass, cp,
+                                           &r->stop_temperature_rise, NULL);
+        }
+        free(force);
+    }
+    free(sp);
+    return s;
+}
+
+double post_design_stop_tolerance(void) { return STOP_TABLE_TOL; }
