@@ -182,6 +182,10 @@ eddy_status mesh_case_parse(const char *text, const char *fname, mesh_case **out
 /* Free a case; accepts NULL. */
 void mesh_case_free(mesh_case *c);
 
+/* 1 if s can name a case (and its result folder) or a profile file: 1 to 63
+ * characters from [A-Za-z0-9._-], not starting with '.'; else 0. */
+int mesh_name_is_safe(const char *s);
+
 /* ------------------------------------------------------------------------ */
 /* Grid                                                                      */
 /* ------------------------------------------------------------------------ */

@@ -579,7 +579,7 @@ static eddy_status read_mesh(reader *r, const cJSON *root)
     return EDDY_OK;
 }
 
-static int safe_name(const char *s)
+int mesh_name_is_safe(const char *s)
 {
     size_t len = strlen(s);
     if (len == 0 || len >= 64 || s[0] == '.')
@@ -620,7 +620,7 @@ static eddy_status read_profiles(reader *r, const cJSON *root)
         const char *s = NULL;
         TRY(get_string(r, e, "name", p, 0, &s));
         snprintf(q, sizeof q, "%s.name", p);
-        if (s != NULL && !safe_name(s))
+        if (s != NULL && !mesh_name_is_safe(s))
             return bad(r, q, "may hold only letters, digits, '_', '-' and '.' (it names a file)");
         snprintf(m->name, sizeof m->name, "%s", s != NULL ? s : "profile");
         if (s == NULL)
@@ -829,7 +829,7 @@ static eddy_status parse_root(reader *r, const cJSON *root)
     const char *s = NULL;
     TRY(get_string(r, root, "name", "", 0, &s));
     if (s != NULL) {
-        if (!safe_name(s))
+        if (!mesh_name_is_safe(s))
             return bad(r, "name", "must have 1 to 63 characters, only letters, digits, '_', '-' "
                                   "and '.' (it names the result folder), and not start with '.'");
         snprintf(c->name, sizeof c->name, "%s", s);

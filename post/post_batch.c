@@ -124,22 +124,6 @@ static char *dup_str(const char *s)
     return d;
 }
 
-/* The same rule as a case's "name" (mesh_case.c): 1..63 characters from
- * [A-Za-z0-9._-], not starting with '.'. */
-static int safe_name(const char *s)
-{
-    size_t len = strlen(s);
-    if (len == 0 || len >= POST_BATCH_NAME_MAX || s[0] == '.')
-        return 0;
-    for (size_t k = 0; k < len; k++) {
-        char ch = s[k];
-        if (!((ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') || (ch >= '0' && ch <= '9') ||
-              ch == '_' || ch == '-' || ch == '.'))
-            return 0;
-    }
-    return 1;
-}
-
 static int name_char(char ch)
 {
     return (ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') || (ch >= '0' && ch <= '9') ||
@@ -630,7 +614,7 @@ static int variant_names(const char *base, vkey *keys, int nkey, long total,
                 return 0;
             len += (size_t)w;
         }
-        if (len >= POST_BATCH_NAME_MAX || !safe_name(name))
+        if (len >= POST_BATCH_NAME_MAX || !mesh_name_is_safe(name))
             return 0;
         memcpy(names[t], name, len + 1);
     }
@@ -681,7 +665,7 @@ eddy_status post_batch_expand(const char *text, const char *source, int images,
     char basename[POST_BATCH_NAME_MAX];
     const cJSON *nm = cJSON_GetObjectItemCaseSensitive(root, "name");
     if (nm != NULL) {
-        if (!cJSON_IsString(nm) || nm->valuestring == NULL || !safe_name(nm->valuestring))
+        if (!cJSON_IsString(nm) || nm->valuestring == NULL || !mesh_name_is_safe(nm->valuestring))
             FAIL_INPUT("%s: name: must have 1 to 63 characters, only letters, digits, '_', '-' "
                        "and '.' (it names the result folder), and not start with '.'",
                        source);
@@ -1006,7 +990,7 @@ static eddy_status invalid_source(const char *path, const char *text, size_t len
         cJSON *root = cJSON_Parse(text);
         const cJSON *nm = cJSON_GetObjectItemCaseSensitive(root, "name");
         if (cJSON_IsObject(root) && cJSON_IsString(nm) && nm->valuestring != NULL &&
-            safe_name(nm->valuestring))
+            mesh_name_is_safe(nm->valuestring))
             snprintf(c->name, sizeof c->name, "%s", nm->valuestring);
         cJSON_Delete(root);
     }
@@ -1295,7 +1279,7 @@ eddy_status post_batch_plan_load(const char *outdir, post_batch_plan **out, eddy
         const cJSON *var = cJSON_GetObjectItemCaseSensitive(e, "variant");
         const cJSON *inv = cJSON_GetObjectItemCaseSensitive(e, "invalid");
         const cJSON *msg = cJSON_GetObjectItemCaseSensitive(e, "error");
-        if (!cJSON_IsString(nm) || !safe_name(nm->valuestring) || !cJSON_IsString(src) ||
+        if (!cJSON_IsString(nm) || !mesh_name_is_safe(nm->valuestring) || !cJSON_IsString(src) ||
             !cJSON_IsString(hash) || strlen(hash->valuestring) != 16 || !cJSON_IsObject(var) ||
             !cJSON_IsBool(inv)) {
             s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: cases[%d]: damaged entry", path, k);
@@ -1435,18 +1419,27 @@ static int run_output(const char *f)
     return 0;
 }
 
-eddy_status post_batch_case_prepare(const char *outdir, const post_batch_case *c,
-                                    eddy_error *err)
+/* Create OUTDIR/<case>/ (its path into dir) and remove its completion
+ * marker, so that whatever happens next leaves an unfinished case. */
+static eddy_status case_dir_unmark(const char *outdir, const post_batch_case *c, char *dir,
+                                   size_t dir_size, eddy_error *err)
 {
-    char dir[4200], path[4600];
-    if (!join(dir, sizeof dir, outdir, c->name, NULL))
+    char path[4600];
+    if (!join(dir, dir_size, outdir, c->name, NULL))
         return EDDY_RAISE(err, EDDY_ERR_IO, "%s/%s: path too long", outdir, c->name);
     eddy_status s = post_make_dir(dir, err);
     if (s != EDDY_OK)
         return s;
-    /* the completion marker first, so that an interruption leaves an unfinished case */
     snprintf(path, sizeof path, "%s/%s", dir, HASH_FILE);
-    s = remove_file(path, err);
+    return remove_file(path, err);
+}
+
+eddy_status post_batch_case_prepare(const char *outdir, const post_batch_case *c,
+                                    eddy_error *err)
+{
+    char dir[4200], path[4600];
+    /* the completion marker first, so that an interruption leaves an unfinished case */
+    eddy_status s = case_dir_unmark(outdir, c, dir, sizeof dir, err);
     if (s != EDDY_OK)
         return s;
     DIR *d = opendir(dir);
@@ -1534,13 +1527,7 @@ eddy_status post_batch_case_failed(const char *outdir, const post_batch_case *c,
                                    eddy_error *err)
 {
     char dir[4200], path[4400];
-    if (!join(dir, sizeof dir, outdir, c->name, NULL))
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s/%s: path too long", outdir, c->name);
-    eddy_status s = post_make_dir(dir, err);
-    if (s != EDDY_OK)
-        return s;
-    snprintf(path, sizeof path, "%s/%s", dir, HASH_FILE);
-    s = remove_file(path, err);
+    eddy_status s = case_dir_unmark(outdir, c, dir, sizeof dir, err);
     if (s != EDDY_OK)
         return s;
     if (state == POST_CASE_OK || state == POST_CASE_NOT_RUN)
