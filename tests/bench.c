@@ -301,8 +301,9 @@ int main(int argc, char **argv)
             snprintf(one, sizeof one, "%s%.4g", k ? "," : "", 0.5 * pow(10.0, k / 6.0));
             strcat(speeds, one);
         }
-        char path[600], out[600], json[4096];
+        char path[600], spath[600], out[600], json[4096];
         snprintf(path, sizeof path, "%s/sweep.json", export_dir);
+        snprintf(spath, sizeof spath, "%s/single.json", export_dir);
         snprintf(out, sizeof out, "%s/sweep_out", export_dir);
         snprintf(json, sizeof json, case_fmt, speeds, rs, 0.0);
         FILE *f = fopen(path, "w");
@@ -330,14 +331,14 @@ int main(int argc, char **argv)
                 char one[4096], sp[32];
                 snprintf(sp, sizeof sp, "%.4g", 0.5 * pow(10.0, k / 6.0));
                 snprintf(one, sizeof one, case_fmt, sp, rs, 0.5 * pow(10.0, 15 / 6.0));
-                f = fopen(path, "w");
+                f = fopen(spath, "w");
                 if (f == NULL || fputs(one, f) < 0)
                     return 1;
                 fclose(f);
                 post_run_opts o1 = o;
                 o1.threads = 1;
                 r = NULL;
-                if (post_run_solve(path, &o1, &r, NULL) != EDDY_OK)
+                if (post_run_solve(spath, &o1, &r, NULL) != EDDY_OK)
                     return 1;
                 post_report_free(r);
             }
