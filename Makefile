@@ -62,6 +62,7 @@ test: $(B)/eddy2d $(TEST_BIN)
 
 # Installs the Debian packages listed in .ci/debian-packages (needs root).
 deps:
+	apt-get update
 	apt-get install -y $$(grep -v '^#' .ci/debian-packages)
 
 demo: $(B)/eddy2d
