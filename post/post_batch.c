@@ -1154,6 +1154,20 @@ static int add_variant_object(cJSON *obj, const char *key, const post_batch_case
     return 1;
 }
 
+/* root.variant_keys = the plan's variant paths; 0 on an allocation failure. */
+static int add_variant_keys(cJSON *root, const post_batch_plan *p)
+{
+    cJSON *keys = cJSON_AddArrayToObject(root, "variant_keys");
+    int ok = keys != NULL;
+    for (int k = 0; ok && k < p->nkey; k++) {
+        cJSON *x = cJSON_CreateString(p->keys[k]);
+        ok = x != NULL && cJSON_AddItemToArray(keys, x);
+        if (!ok)
+            cJSON_Delete(x);
+    }
+    return ok;
+}
+
 eddy_status post_batch_plan_save(const post_batch_plan *p, const char *outdir, eddy_error *err)
 {
     eddy_status s = post_make_dir(outdir, err);
@@ -1188,14 +1202,7 @@ eddy_status post_batch_plan_save(const post_batch_plan *p, const char *outdir, e
     ok = ok && cJSON_AddStringToObject(root, "tool", "eddy2d " EDDY_VERSION) != NULL;
     ok = ok && cJSON_AddNumberToObject(root, "format", 1) != NULL;
     ok = ok && cJSON_AddBoolToObject(root, "images", p->images) != NULL;
-    cJSON *keys = ok ? cJSON_AddArrayToObject(root, "variant_keys") : NULL;
-    ok = keys != NULL;
-    for (int k = 0; ok && k < p->nkey; k++) {
-        cJSON *x = cJSON_CreateString(p->keys[k]);
-        ok = x != NULL && cJSON_AddItemToArray(keys, x);
-        if (!ok)
-            cJSON_Delete(x);
-    }
+    ok = ok && add_variant_keys(root, p);
     cJSON *cases = ok ? cJSON_AddArrayToObject(root, "cases") : NULL;
     ok = cases != NULL;
     for (int k = 0; ok && k < p->ncase; k++) {
@@ -1795,14 +1802,7 @@ static eddy_status write_summary_json(const char *outdir, const post_batch_plan 
          cJSON_AddNumberToObject(cnt, "ok", n->ok) != NULL &&
          cJSON_AddNumberToObject(cnt, "failed", n->failed) != NULL &&
          cJSON_AddNumberToObject(cnt, "not_run", n->not_run) != NULL;
-    cJSON *keys = ok ? cJSON_AddArrayToObject(root, "variant_keys") : NULL;
-    ok = keys != NULL;
-    for (int k = 0; ok && k < p->nkey; k++) {
-        cJSON *x = cJSON_CreateString(p->keys[k]);
-        ok = x != NULL && cJSON_AddItemToArray(keys, x);
-        if (!ok)
-            cJSON_Delete(x);
-    }
+    ok = ok && add_variant_keys(root, p);
     cJSON *rows = ok ? cJSON_AddArrayToObject(root, "rows") : NULL;
     ok = rows != NULL;
     for (int c = 0; ok && c < p->ncase; c++) {

@@ -160,7 +160,7 @@ static double face_value(double al, double ar, double pe)
 {
     if (fabs(pe) < 1e-6)
         return 0.5 * (al + ar) + pe * (al - ar) / 12.0;
-    double bp = pe > 700 ? pe * exp(-pe) : pe / expm1(pe), bm = bp + pe;
+    double bp = sol_bernoulli(pe), bm = bp + pe; /* the solver's own B(z) */
     return ((bm - 1.0) * al - (bp - 1.0) * ar) / pe;
 }
 
