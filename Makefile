@@ -23,7 +23,7 @@ LIB_OBJ    = $(LIB_SRC:%.c=$(B)/%.o)
 TESTS = test_mesh test_solver test_ref test_validation test_post_img test_post_fields test_outputs test_sweep test_design test_brake test_nonlinear test_batch test_batch_alloc test_fuzz_corpus
 TEST_BIN = $(TESTS:%=$(B)/tests/%)
 
-.PHONY: all test demo deps clean asan sanitize fuzz valgrind valgrind-case slurm-test browser-test convergence bench
+.PHONY: all test demo deps clean asan sanitize fuzz valgrind valgrind-case slurm-test browser-test convergence bench same-outputs
 .SECONDARY:
 all: $(B)/eddy2d
 
@@ -59,6 +59,17 @@ $(B)/tests/test_fuzz_corpus: $(B)/tests/fuzz_case_replay.o $(B)/libeddy2d.a
 # ends with "N passed, N failed".
 test: $(B)/eddy2d $(TEST_BIN)
 	@sh tests/run.sh $(B) $(TESTS) test_cli.sh test_batch.sh
+
+# Every output file of the demos and of tests/golden/*.json against the stored
+# digests (timings and version removed): the check that a restructuring changed
+# no behaviour.  UPDATE=1 stores the new digests instead.
+same-outputs: $(B)/eddy2d
+	@sh tests/same_outputs.sh $(B) $(B)/same-outputs > $(B)/same-outputs.txt
+	@if [ -n "$(UPDATE)" ]; then cp $(B)/same-outputs.txt tests/golden/digests.txt; \
+	  echo "stored $$(wc -l < tests/golden/digests.txt) digests in tests/golden/digests.txt"; \
+	elif diff tests/golden/digests.txt $(B)/same-outputs.txt; then \
+	  echo "same outputs: $$(wc -l < tests/golden/digests.txt) files identical"; \
+	else echo "outputs differ from tests/golden/digests.txt (lines above)"; exit 1; fi
 
 # Installs the Debian packages listed in .ci/debian-packages (needs root).
 deps:
