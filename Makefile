@@ -13,12 +13,15 @@ LDFLAGS += $(SAN)
 
 B = build
 
-MESH_SRC   = mesh/eddy_status.c mesh/mesh_lib.c mesh/mesh_case.c mesh/mesh_grid.c
-SOLVER_SRC = solver/sol.c solver/sol_bh.c solver/sol_ref.c solver/sol_ref_case.c
-POST_SRC   = post/post_forces.c post/post_report.c post/post_img.c post/post_run.c \
-             post/post_fields.c post/post_brake.c post/post_design.c post/post_batch.c
-LIB_SRC    = $(MESH_SRC) $(SOLVER_SRC) $(POST_SRC)
+# One folder per module; every .c file of a folder belongs to its library,
+# except the two command-line files of app/ (they hold main and the batch
+# runner's process handling).  Dependencies point one way:
+#   mesh -> solver -> post -> app, and design (numbers only) -> app.
+CLI_SRC    = app/app_main.c app/app_batch_cli.c
+LIB_SRC    = $(wildcard mesh/*.c) $(wildcard solver/*.c) $(wildcard post/*.c) \
+             $(wildcard design/*.c) $(filter-out $(CLI_SRC),$(wildcard app/*.c))
 LIB_OBJ    = $(LIB_SRC:%.c=$(B)/%.o)
+CLI_OBJ    = $(CLI_SRC:%.c=$(B)/%.o)
 
 TESTS = test_mesh test_solver test_ref test_validation test_post_img test_post_fields test_outputs test_sweep test_design test_brake test_nonlinear test_batch test_batch_alloc test_fuzz_corpus
 TEST_BIN = $(TESTS:%=$(B)/tests/%)
@@ -35,7 +38,7 @@ $(B)/%.o: %.c $(wildcard */*.h)
 $(B)/libeddy2d.a: $(LIB_OBJ)
 	ar rcs $@ $^
 
-$(B)/eddy2d: $(B)/post/cli.o $(B)/post/cli_batch.o $(B)/libeddy2d.a
+$(B)/eddy2d: $(CLI_OBJ) $(B)/libeddy2d.a
 	$(CC) $(LDFLAGS) -o $@ $^ $(LDLIBS)
 
 $(B)/tests/%: $(B)/tests/%.o $(B)/libeddy2d.a

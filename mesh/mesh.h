@@ -19,12 +19,7 @@
 
 #include <stddef.h>
 
-#include "mesh/eddy_status.h"
-
-#define EDDY_VERSION "0.1.0"
-
-/* mu0 in H/m.  The exact pre-2019 value; the 2019 SI value differs by < 1e-9. */
-#define EDDY_MU0 (4.0e-7 * 3.14159265358979323846)
+#include "mesh/eddy.h"
 
 /* ------------------------------------------------------------------------ */
 /* Materials                                                                 */

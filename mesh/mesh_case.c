@@ -407,7 +407,7 @@ static eddy_status read_regions(reader *r, const cJSON *root)
         double deg = 90.0;
         int has_angle = 0;
         TRY(get_number(r, e, "magnetization_angle", p, 0, &deg, &has_angle));
-        g->mag_angle = deg * 3.14159265358979323846 / 180.0;
+        g->mag_angle = deg * EDDY_PI / 180.0;
         if (mat != NULL && mat->br > 0.0 && !has_angle) {
             snprintf(q, sizeof q, "%s.magnetization_angle", p);
             return bad(r, q, "missing: material \"%s\" has a remanence, so the direction "
@@ -762,7 +762,7 @@ static eddy_status read_disc(reader *r, const cJSON *root)
     if (!has) {
         if (!c->x_periodic)
             return bad(r, "disc.periods", "missing: required unless the domain is periodic");
-        h->periods = 2.0 * 3.14159265358979323846 * h->mean_radius / (c->x1 - c->x0);
+        h->periods = 2.0 * EDDY_PI * h->mean_radius / (c->x1 - c->x0);
     }
     const cJSON *rpm = cJSON_GetObjectItemCaseSensitive(d, "rpm");
     if (rpm == NULL)
@@ -781,7 +781,7 @@ static eddy_status read_disc(reader *r, const cJSON *root)
         if (!cJSON_IsNumber(e) || !isfinite(e->valuedouble))
             return bad(r, p, "must be a finite number");
         h->rpm[k] = e->valuedouble;
-        c->speeds[k] = 2.0 * 3.14159265358979323846 * h->mean_radius * h->rpm[k] / 60.0;
+        c->speeds[k] = 2.0 * EDDY_PI * h->mean_radius * h->rpm[k] / 60.0;
     }
     c->nspeed = n;
     return EDDY_OK;
@@ -887,23 +887,6 @@ static void line_col(const char *text, size_t off, int *line, int *col)
     }
 }
 
-/* Default case name from a file name: the stem, made safe. */
-static void name_from_path(const char *fname, char *name, size_t size)
-{
-    const char *base = strrchr(fname, '/');
-    base = base != NULL ? base + 1 : fname;
-    size_t k = 0;
-    for (; base[k] != '\0' && base[k] != '.' && k + 1 < size; k++) {
-        char ch = base[k];
-        int ok = (ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') ||
-                 (ch >= '0' && ch <= '9') || ch == '_' || ch == '-';
-        name[k] = ok ? ch : '_';
-    }
-    name[k] = '\0';
-    if (k == 0)
-        snprintf(name, size, "case");
-}
-
 eddy_status mesh_case_parse(const char *text, const char *fname, mesh_case **out,
                             eddy_error *err)
 {
@@ -914,7 +897,7 @@ eddy_status mesh_case_parse(const char *text, const char *fname, mesh_case **out
     if (c == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
     snprintf(c->path, sizeof c->path, "%s", fname);
-    name_from_path(fname, c->name, sizeof c->name);
+    eddy_name_from_path(fname, c->name, sizeof c->name);
     reader r = {fname, err, c};
     const char *end = NULL;
     cJSON *root = cJSON_ParseWithOpts(text, &end, 1);
@@ -947,32 +930,11 @@ eddy_status mesh_case_parse(const char *text, const char *fname, mesh_case **out
 eddy_status mesh_case_load(const char *path, mesh_case **out, eddy_error *err)
 {
     *out = NULL;
-    FILE *f = fopen(path, "rb");
-    if (f == NULL)
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot open: %s", path, strerror(errno));
-    char *text = malloc((size_t)MAX_CASE_BYTES + 1);
-    if (text == NULL) {
-        fclose(f);
-        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-    }
-    size_t n = fread(text, 1, (size_t)MAX_CASE_BYTES + 1, f);
-    int failed = ferror(f);
-    fclose(f);
-    if (failed) {
-        free(text);
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: read error", path);
-    }
-    if (n > (size_t)MAX_CASE_BYTES) {
-        free(text);
-        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: larger than %ld bytes; not a case file",
-                          path, MAX_CASE_BYTES);
-    }
-    text[n] = '\0';
-    if (strlen(text) != n) {
-        free(text);
-        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: contains a NUL byte; not a JSON text", path);
-    }
-    eddy_status s = mesh_case_parse(text, path, out, err);
+    char *text = NULL;
+    eddy_status s = eddy_read_file(path, MAX_CASE_BYTES, &text, NULL, err);
+    if (s != EDDY_OK)
+        return s;
+    s = mesh_case_parse(text, path, out, err);
     free(text);
     return s;
 }

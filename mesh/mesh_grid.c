@@ -46,7 +46,6 @@
 #define PECLET_TARGET 2.0
 #define MAX_PECLET_REFINE 4.0
 #define MAX_AXIS_NODES 200000
-#define PI 3.14159265358979323846
 
 static double memory_limit_override = 0.0;
 
@@ -327,7 +326,7 @@ static int plan_build(const mesh_case *c, grid_plan *p)
         wsrc = fmin(2.0 * gap, c->x1 - c->x0);
     if (!isfinite(gap))
         gap = 0.0;
-    p->k_dominant = PI / wsrc;
+    p->k_dominant = EDDY_PI / wsrc;
     p->h_skin = INFINITY;
     for (int k = 0; k < c->nreg; k++) {
         const mesh_region *r = &c->regions[k];

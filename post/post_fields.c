@@ -202,63 +202,6 @@ eddy_status post_fields_compute(const mesh_grid *g, const double *a, double v, p
 }
 
 /* ------------------------------------------------------------------------ */
-/* A growing text buffer                                                     */
-/* ------------------------------------------------------------------------ */
-
-typedef struct {
-    char *p;
-    size_t len, cap;
-    int oom;
-} text_buf;
-
-static int tb_reserve(text_buf *b, size_t extra)
-{
-    if (b->oom)
-        return 0;
-    if (b->len + extra + 1 <= b->cap)
-        return 1;
-    size_t cap = b->cap ? b->cap : 4096;
-    while (cap < b->len + extra + 1) {
-        if (cap > ((size_t)-1) / 2) {
-            b->oom = 1;
-            return 0;
-        }
-        cap *= 2;
-    }
-    char *q = realloc(b->p, cap);
-    if (q == NULL) {
-        b->oom = 1;
-        return 0;
-    }
-    b->p = q;
-    b->cap = cap;
-    return 1;
-}
-
-static void tb_printf(text_buf *b, const char *fmt, ...)
-#if defined(__GNUC__)
-    __attribute__((format(printf, 2, 3)))
-#endif
-    ;
-static void tb_printf(text_buf *b, const char *fmt, ...)
-{
-    va_list ap;
-    va_start(ap, fmt);
-    int n = vsnprintf(NULL, 0, fmt, ap);
-    va_end(ap);
-    if (n < 0) {
-        b->oom = 1;
-        return;
-    }
-    if (!tb_reserve(b, (size_t)n))
-        return;
-    va_start(ap, fmt);
-    vsnprintf(b->p + b->len, b->cap - b->len, fmt, ap);
-    va_end(ap);
-    b->len += (size_t)n;
-}
-
-/* ------------------------------------------------------------------------ */
 /* VTK XML RectilinearGrid                                                   */
 /* ------------------------------------------------------------------------ */
 
@@ -267,21 +210,21 @@ static void tb_printf(text_buf *b, const char *fmt, ...)
 /* <DataArray> of n tuples of ncomp components; value(k, c) via the getter. */
 typedef double (*vtr_getter)(const void *ctx, size_t k, int c);
 
-static void vtr_array(text_buf *b, const char *indent, const char *name, int ncomp, size_t n,
+static void vtr_array(eddy_text *b, const char *indent, const char *name, int ncomp, size_t n,
                       const char *fmt, vtr_getter get, const void *ctx)
 {
-    tb_printf(b, "%s<DataArray type=\"Float64\" Name=\"%s\"", indent, name);
+    eddy_text_printf(b, "%s<DataArray type=\"Float64\" Name=\"%s\"", indent, name);
     if (ncomp > 1)
-        tb_printf(b, " NumberOfComponents=\"%d\"", ncomp);
-    tb_printf(b, " format=\"ascii\">\n");
+        eddy_text_printf(b, " NumberOfComponents=\"%d\"", ncomp);
+    eddy_text_printf(b, " format=\"ascii\">\n");
     size_t total = n * (size_t)ncomp;
     for (size_t m = 0; m < total; m++) {
         if (m % VTR_PER_LINE == 0)
-            tb_printf(b, "%s  ", indent);
-        tb_printf(b, fmt, get(ctx, m / (size_t)ncomp, (int)(m % (size_t)ncomp)));
-        tb_printf(b, (m % VTR_PER_LINE == VTR_PER_LINE - 1 || m + 1 == total) ? "\n" : " ");
+            eddy_text_printf(b, "%s  ", indent);
+        eddy_text_printf(b, fmt, get(ctx, m / (size_t)ncomp, (int)(m % (size_t)ncomp)));
+        eddy_text_printf(b, (m % VTR_PER_LINE == VTR_PER_LINE - 1 || m + 1 == total) ? "\n" : " ");
     }
-    tb_printf(b, "%s</DataArray>\n", indent);
+    eddy_text_printf(b, "%s</DataArray>\n", indent);
 }
 
 static double get_plain(const void *ctx, size_t k, int c)
@@ -335,9 +278,9 @@ eddy_status post_write_vtr(const char *path, const mesh_grid *g, const double *a
             !isfinite(f->bmag[k]) || !isfinite(f->jz[k]) || !isfinite(f->loss[k]))
             return EDDY_RAISE(err, EDDY_ERR_NUMERIC, "%s: non-finite value at node %zu", path, k);
 
-    text_buf b = {0};
+    eddy_text b = {0};
     int ext_x = g->nx - 1, ext_y = g->ny - 1;
-    tb_printf(&b, "<?xml version=\"1.0\"?>\n");
+    eddy_text_printf(&b, "<?xml version=\"1.0\"?>\n");
     if (length_unit_label != NULL) {
         /* keep the comment text to a safe set (no "--" inside a comment) */
         char safe[64];
@@ -348,59 +291,59 @@ eddy_status post_write_vtr(const char *path, const mesh_grid *g, const double *a
             safe[n] = ok ? *c : '_';
         }
         safe[n] = '\0';
-        tb_printf(&b, "<!-- eddy2d %s: coordinates in metres; case length unit: %s -->\n",
+        eddy_text_printf(&b, "<!-- eddy2d %s: coordinates in metres; case length unit: %s -->\n",
                   EDDY_VERSION, safe);
     }
-    tb_printf(&b, "<VTKFile type=\"RectilinearGrid\" version=\"0.1\" "
+    eddy_text_printf(&b, "<VTKFile type=\"RectilinearGrid\" version=\"0.1\" "
                   "byte_order=\"LittleEndian\">\n");
-    tb_printf(&b, "  <RectilinearGrid WholeExtent=\"0 %d 0 %d 0 0\">\n", ext_x, ext_y);
-    tb_printf(&b, "    <FieldData>\n");
-    tb_printf(&b,
+    eddy_text_printf(&b, "  <RectilinearGrid WholeExtent=\"0 %d 0 %d 0 0\">\n", ext_x, ext_y);
+    eddy_text_printf(&b, "    <FieldData>\n");
+    eddy_text_printf(&b,
               "      <DataArray type=\"Float64\" Name=\"speed_m_per_s\" NumberOfTuples=\"1\" "
               "format=\"ascii\">\n        %.17g\n      </DataArray>\n",
               speed);
     double um = length_unit_label != NULL ? unit_metres(length_unit_label) : 0.0;
     if (um > 0.0)
-        tb_printf(&b,
+        eddy_text_printf(&b,
                   "      <DataArray type=\"Float64\" Name=\"metres_per_case_length_unit\" "
                   "NumberOfTuples=\"1\" format=\"ascii\">\n        %.17g\n      </DataArray>\n",
                   um);
-    tb_printf(&b, "    </FieldData>\n");
-    tb_printf(&b, "    <Piece Extent=\"0 %d 0 %d 0 0\">\n", ext_x, ext_y);
+    eddy_text_printf(&b, "    </FieldData>\n");
+    eddy_text_printf(&b, "    <Piece Extent=\"0 %d 0 %d 0 0\">\n", ext_x, ext_y);
 
     const char *in = "        ";
-    tb_printf(&b, "      <PointData Scalars=\"B_magnitude_T\" Vectors=\"B_T\">\n");
+    eddy_text_printf(&b, "      <PointData Scalars=\"B_magnitude_T\" Vectors=\"B_T\">\n");
     vtr_array(&b, in, "A_Wb_per_m", 1, nn, "%.9g", get_plain, a);
     vtr_array(&b, in, "B_T", 3, nn, "%.9g", get_b, f);
     vtr_array(&b, in, "B_magnitude_T", 1, nn, "%.9g", get_plain, f->bmag);
     vtr_array(&b, in, "Jz_A_per_m2", 1, nn, "%.9g", get_plain, f->jz);
     vtr_array(&b, in, "loss_density_W_per_m3", 1, nn, "%.9g", get_plain, f->loss);
-    tb_printf(&b, "      </PointData>\n");
+    eddy_text_printf(&b, "      </PointData>\n");
 
-    tb_printf(&b, "      <CellData Scalars=\"region_id\">\n");
-    tb_printf(&b, "%s<DataArray type=\"Int32\" Name=\"region_id\" format=\"ascii\">\n", in);
+    eddy_text_printf(&b, "      <CellData Scalars=\"region_id\">\n");
+    eddy_text_printf(&b, "%s<DataArray type=\"Int32\" Name=\"region_id\" format=\"ascii\">\n", in);
     for (size_t k = 0; k < nc; k++) {
         if (k % 20 == 0)
-            tb_printf(&b, "%s  ", in);
-        tb_printf(&b, "%d%s", f->region[k], (k % 20 == 19 || k + 1 == nc) ? "\n" : " ");
+            eddy_text_printf(&b, "%s  ", in);
+        eddy_text_printf(&b, "%d%s", f->region[k], (k % 20 == 19 || k + 1 == nc) ? "\n" : " ");
     }
-    tb_printf(&b, "%s</DataArray>\n", in);
-    tb_printf(&b, "      </CellData>\n");
+    eddy_text_printf(&b, "%s</DataArray>\n", in);
+    eddy_text_printf(&b, "      </CellData>\n");
 
-    tb_printf(&b, "      <Coordinates>\n");
+    eddy_text_printf(&b, "      <Coordinates>\n");
     vtr_array(&b, in, "x_m", 1, (size_t)g->nx, "%.15g", get_plain, g->x);
     vtr_array(&b, in, "y_m", 1, (size_t)g->ny, "%.15g", get_plain, g->y);
     vtr_array(&b, in, "z_m", 1, 1, "%.15g", get_zero, NULL);
-    tb_printf(&b, "      </Coordinates>\n");
-    tb_printf(&b, "    </Piece>\n");
-    tb_printf(&b, "  </RectilinearGrid>\n");
-    tb_printf(&b, "</VTKFile>\n");
+    eddy_text_printf(&b, "      </Coordinates>\n");
+    eddy_text_printf(&b, "    </Piece>\n");
+    eddy_text_printf(&b, "  </RectilinearGrid>\n");
+    eddy_text_printf(&b, "</VTKFile>\n");
 
     if (b.oom) {
         free(b.p);
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "%s: out of memory building the file", path);
     }
-    eddy_status s = post_write_atomic(path, b.p, b.len, err);
+    eddy_status s = eddy_write_atomic(path, b.p, b.len, err);
     free(b.p);
     return s;
 }
@@ -505,8 +448,8 @@ eddy_status post_line_profile(const mesh_grid *g, const double *a, double v, con
         return s;
     }
 
-    text_buf b = {0};
-    tb_printf(&b, "s_m,x_m,y_m,Bx_T,By_T,Jz_A_per_m2\n");
+    eddy_text b = {0};
+    eddy_text_printf(&b, "s_m,x_m,y_m,Bx_T,By_T,Jz_A_per_m2\n");
     double length = fabs(dx) + fabs(dy); /* one of them is 0 */
     double lo_x = fmin(p0[0], p1[0]), hi_x = fmax(p0[0], p1[0]);
     double lo_y = fmin(p0[1], p1[1]), hi_y = fmax(p0[1], p1[1]);
@@ -526,7 +469,7 @@ eddy_status post_line_profile(const mesh_grid *g, const double *a, double v, con
             break;
         }
         double j = profile_current(g, jz, x, y);
-        tb_printf(&b, "%.9g,%.9g,%.9g,%.9g,%.9g,%.9g\n", t * length, x, y, bx, by, j);
+        eddy_text_printf(&b, "%.9g,%.9g,%.9g,%.9g,%.9g,%.9g\n", t * length, x, y, bx, by, j);
     }
     free(jz);
     if (s == EDDY_OK && b.oom)

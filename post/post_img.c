@@ -8,7 +8,7 @@
  */
 #include <png.h>
 
-#include "post/post.h"
+#include "post/post_img.h"
 
 #include <cairo.h>
 #include <errno.h>
@@ -18,9 +18,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-#ifndef M_PI
-#define M_PI 3.14159265358979323846
-#endif
 
 /* ================================================================== */
 /* Colour maps                                                         */
@@ -136,7 +133,7 @@ static double adjust_hue(const double msh[3], double m_unsat)
     if (msh[0] >= m_unsat)
         return msh[2];
     double spin = msh[1] * sqrt(m_unsat * m_unsat - msh[0] * msh[0]) / (msh[0] * sin(msh[1]));
-    return msh[2] > -M_PI / 3.0 ? msh[2] + spin : msh[2] - spin;
+    return msh[2] > -EDDY_PI / 3.0 ? msh[2] + spin : msh[2] - spin;
 }
 
 /* Moreland's interpolation between two colours, t in [0, 1]. */
@@ -145,7 +142,7 @@ static void diverging_rgb(const double c1[3], const double c2[3], double t, doub
     double m1[3], m2[3], m[3];
     rgb_to_msh(c1, m1);
     rgb_to_msh(c2, m2);
-    if (m1[1] > 0.05 && m2[1] > 0.05 && fabs(m1[2] - m2[2]) > M_PI / 3.0) {
+    if (m1[1] > 0.05 && m2[1] > 0.05 && fabs(m1[2] - m2[2]) > EDDY_PI / 3.0) {
         /* two saturated, distinct colours: pass through an unsaturated white */
         double mmid = fmax(fmax(m1[0], m2[0]), 88.0);
         if (t < 0.5) {
@@ -1227,7 +1224,7 @@ static void draw_map_axes(cairo_t *cr, const map_layout *L, const post_map_opts 
     double ylab_x = 12.0 * s + CAP_FRAC * L->f_label;
     cairo_save(cr);
     cairo_translate(cr, ylab_x, g->plot_y + g->plot_h / 2.0);
-    cairo_rotate(cr, -M_PI / 2.0);
+    cairo_rotate(cr, -EDDY_PI / 2.0);
     draw_text(cr, 0.0, 0.0, lab, 0.5, 1.0);
     cairo_restore(cr);
 }
@@ -1282,7 +1279,7 @@ static eddy_status draw_colour_bar(cairo_t *cr, const map_layout *L, const post_
     cairo_stroke(cr);
     set_font(cr, L->f_bar_label, 0);
     draw_rich(cr, label_x + wmax + 10.0 * s + CAP_FRAC * L->f_bar_label,
-              g->bar_y + g->bar_h / 2.0, L->bar_label, L->f_bar_label, 0.5, 1.0, -M_PI / 2.0);
+              g->bar_y + g->bar_h / 2.0, L->bar_label, L->f_bar_label, 0.5, 1.0, -EDDY_PI / 2.0);
     return EDDY_OK;
 }
 
@@ -1374,7 +1371,7 @@ void post_plot_opts_defaults(post_plot_opts *o)
         memset(o, 0, sizeof *o);
 }
 
-eddy_status post_force_peak(int n, const double *speed, const double *drag, int log_speed,
+eddy_status design_peak(int n, const double *speed, const double *drag, int log_speed,
                             double *v_peak, double *f_peak, int *refined, eddy_error *err)
 {
     if (n < 1 || speed == NULL || drag == NULL)
@@ -1601,7 +1598,7 @@ static void draw_marker(cairo_t *cr, double X, double Y, int square, double r)
         cairo_rectangle(cr, X - r, Y - r, 2.0 * r, 2.0 * r);
     else {
         cairo_new_sub_path(cr);
-        cairo_arc(cr, X, Y, r, 0.0, 2.0 * M_PI);
+        cairo_arc(cr, X, Y, r, 0.0, 2.0 * EDDY_PI);
     }
 }
 
@@ -1800,7 +1797,7 @@ static void draw_value_title(cairo_t *cr, const plot_axes *ax, const plot_style 
     if (label == NULL)
         return;
     set_font(cr, ps->f_label, 0);
-    draw_rich(cr, base_x, ax->py + ax->ph / 2.0, label, ps->f_label, 0.5, 1.0, -M_PI / 2.0);
+    draw_rich(cr, base_x, ax->py + ax->ph / 2.0, label, ps->f_label, 0.5, 1.0, -EDDY_PI / 2.0);
 }
 
 /* A drawn curve, for keeping the legend off it. */
@@ -1989,7 +1986,7 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
 
     double vpk, fpk;
     int refined;
-    st = post_force_peak(n, xs, drag, ax.xlog, &vpk, &fpk, &refined, err);
+    st = design_peak(n, xs, drag, ax.xlog, &vpk, &fpk, &refined, err);
     if (st != EDDY_OK) {
         free(xs);
         free(order);
@@ -2129,7 +2126,7 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
              vnum);
     cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
     cairo_new_sub_path(cr);
-    cairo_arc(cr, PX, PY, 8.0 * s, 0.0, 2.0 * M_PI);
+    cairo_arc(cr, PX, PY, 8.0 * s, 0.0, 2.0 * EDDY_PI);
     cairo_set_line_width(cr, 1.3 * s);
     cairo_stroke(cr);
     set_font(cr, ps.f_leg, 0);

@@ -88,13 +88,6 @@ struct sol_system {
     double memory_limit;                       /* bytes; <= 0: no limit */
 };
 
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
 double sol_bernoulli(double z)
 {
     if (fabs(z) < 1e-8)
@@ -459,7 +452,7 @@ eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err)
 {
     if (s->symbolic != NULL)
         return EDDY_OK;
-    double t0 = now(), uinfo[UMFPACK_INFO];
+    double t0 = eddy_now(), uinfo[UMFPACK_INFO];
     long st;
     if (s->ordering == SOL_ORDER_GRID_ND) {
         long *perm = malloc((size_t)s->n * sizeof *perm);
@@ -475,7 +468,7 @@ eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err)
             s->ordering == SOL_ORDER_METIS ? UMFPACK_ORDERING_METIS : UMFPACK_ORDERING_AMD;
         st = umfpack_dl_symbolic(s->n, s->n, s->Ap, s->Ai, NULL, &s->symbolic, s->control, uinfo);
     }
-    s->t_analyse = now() - t0;
+    s->t_analyse = eddy_now() - t0;
     /* Memory of one numeric factorisation: the L and U entries the symbolic
      * analysis predicts for diagonal pivoting (which the fitted scheme's
      * M-matrix allows), at a value and an index each, plus workspace.
@@ -630,13 +623,13 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "speed must be finite");
     if (s->symbolic == NULL)
         return EDDY_RAISE(err, EDDY_ERR_INTERNAL, "sol_solve_work before sol_analyse");
-    double t0 = now();
+    double t0 = eddy_now();
     assemble(s, w, v);
-    double t1 = now();
+    double t1 = eddy_now();
     void *numeric = NULL;
     double uinfo[UMFPACK_INFO];
     long ust = umfpack_dl_numeric(s->Ap, s->Ai, w->Ax, s->symbolic, &numeric, s->control, uinfo);
-    double t2 = now();
+    double t2 = eddy_now();
     if (info != NULL) {
         info->n = s->n;
         info->nnz = s->Ap[s->n];
@@ -660,7 +653,7 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
                             uinfo, w->Wi, w->W);
     umfpack_dl_free_numeric(&numeric);
     if (info != NULL)
-        info->t_solve = now() - t2;
+        info->t_solve = eddy_now() - t2;
     st = umf_status(ust, "solve", err);
     if (st != EDDY_OK)
         return st;
@@ -912,12 +905,12 @@ eddy_status sol_solve_newton(const sol_system *s, sol_work *w, double v, double 
         }
     else
         memset(w->x, 0, (size_t)s->n * sizeof *w->x);
-    double t_asm = 0.0, t_fac = 0.0, t_sol = 0.0, t0 = now(), bmax = 0.0;
+    double t_asm = 0.0, t_fac = 0.0, t_sol = 0.0, t0 = eddy_now(), bmax = 0.0;
     double rn = residual(s, w, v, w->x, w->res, &bmax), fn = 0.0;
     for (long r = 0; r < s->n; r++)
         fn += w->rhs[r] * w->rhs[r];
     fn = sqrt(fn);
-    t_asm += now() - t0;
+    t_asm += eddy_now() - t0;
     eddy_status st = EDDY_OK;
     if (fn == 0.0) { /* no sources: A = 0 */
         memset(w->x, 0, (size_t)s->n * sizeof *w->x);
@@ -945,14 +938,14 @@ eddy_status sol_solve_newton(const sol_system *s, sol_work *w, double v, double 
                             v, rn / fn, nli->iterations, SOL_NEWTON_TOL);
             break;
         }
-        t0 = now();
+        t0 = eddy_now();
         add_jacobian(s, w, v, w->x);
-        double t1 = now();
+        double t1 = eddy_now();
         t_asm += t1 - t0;
         void *numeric = NULL;
         long ust = umfpack_dl_numeric(s->Ap, s->Ai, w->Ax, s->symbolic, &numeric, s->control,
                                       uinfo);
-        double t2 = now();
+        double t2 = eddy_now();
         t_fac += t2 - t1;
         if (info != NULL) {
             info->lnz = uinfo[UMFPACK_LNZ];
@@ -968,7 +961,7 @@ eddy_status sol_solve_newton(const sol_system *s, sol_work *w, double v, double 
             st = umf_status(ust, "solve with the Newton Jacobian", err);
         }
         umfpack_dl_free_numeric(&numeric);
-        t0 = now();
+        t0 = eddy_now();
         t_sol += t0 - t2;
         if (st != EDDY_OK)
             break;
@@ -985,7 +978,7 @@ eddy_status sol_solve_newton(const sol_system *s, sol_work *w, double v, double 
                 break;
             t *= 0.5;
         }
-        t_asm += now() - t0;
+        t_asm += eddy_now() - t0;
         if (cuts > MAX_HALVINGS) {
             st = EDDY_RAISE(err, EDDY_ERR_NUMERIC,
                             "Newton-Raphson did not converge at %g m/s: the line search could "

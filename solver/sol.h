@@ -32,7 +32,7 @@ typedef enum {
     SOL_ORDER_GRID_ND    /* geometric nested dissection of the tensor grid (sol.c) */
 } sol_ordering;
 
-/* The default of a new system (cheapest analysis); the runner (post_run.c)
+/* The default of a new system (cheapest analysis); the runner (app_run.c)
  * picks METIS for sweeps, from the measurements of `make bench` (README). */
 #define SOL_ORDER_DEFAULT SOL_ORDER_GRID_ND
 

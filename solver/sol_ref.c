@@ -101,8 +101,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define REF_PI 3.14159265358979323846
-#define REF_MU0 (4.0e-7 * REF_PI)
 
 #define REF_MAX_INTERVALS 4000  /* adaptive quadrature budget (x 30 evaluations) */
 #define REF_MAX_HARMONICS 4000000L
@@ -159,7 +157,7 @@ static double complex ref_cexpm1(double complex z)
 static void ref_eval(ref_ctx *c, double k, double g[REF_NCOMP])
 {
     double complex P = 0.0, Pq = 0.0;
-    double mu0 = REF_MU0;
+    double mu0 = EDDY_MU0;
     c->n_eval++;
     for (int i = 0; i < c->ns; i++) {
         const ref_src *s = &c->s[i];
@@ -202,10 +200,10 @@ static void ref_eval(ref_ctx *c, double k, double g[REF_NCOMP])
     double ihat = (c2 + d2) * L1 + 2.0 * Z * creal(dcc);
     double complex i2 = conj(gam) * CMPLX((c2 - d2) * L1, 2.0 * Z * cimag(dcc));
 
-    g[0] = mu0 / (2.0 * REF_PI) * q2 * cimag(R);
-    g[1] = mu0 / (2.0 * REF_PI) * q2 * creal(R);
-    g[2] = mu0 * mu0 * c->sigma * c->v * c->v / (4.0 * REF_PI) * q2 * ihat;
-    g[3] = mu0 * mu0 * c->sigma * c->v / (4.0 * REF_PI * k) * q2 * cimag(i2);
+    g[0] = mu0 / (2.0 * EDDY_PI) * q2 * cimag(R);
+    g[1] = mu0 / (2.0 * EDDY_PI) * q2 * creal(R);
+    g[2] = mu0 * mu0 * c->sigma * c->v * c->v / (4.0 * EDDY_PI) * q2 * ihat;
+    g[3] = mu0 * mu0 * c->sigma * c->v / (4.0 * EDDY_PI * k) * q2 * cimag(i2);
 }
 
 /* Upper bound of every force density at k (|g_x|, |g_y|, |g_yl|; g_l <= |v| times
@@ -227,7 +225,7 @@ static double ref_envelope(const ref_ctx *c, double k)
     }
     pb *= fac;
     double rbound = fmin(1.0, fabs(c->kappa) / (2.0 * k));
-    return REF_MU0 / (2.0 * REF_PI) * pb * pb * rbound;
+    return EDDY_MU0 / (2.0 * EDDY_PI) * pb * pb * rbound;
 }
 
 /* ---------------------------------------------------------------- quadrature */
@@ -439,7 +437,7 @@ static eddy_status ref_isolated(ref_ctx *c, const ref_src *s, double rel_tol,
 static eddy_status ref_periodic(ref_ctx *c, double lambda, double rel_tol,
                                 double res[REF_NCOMP], double errs[REF_NCOMP], eddy_error *err)
 {
-    double dk = 2.0 * REF_PI / lambda;
+    double dk = 2.0 * EDDY_PI / lambda;
     double ratio = c->y0min > 0.0 ? exp(-2.0 * dk * c->y0min) : 1.0;
     double geo = ratio < 1.0 ? ratio / (1.0 - ratio) : INFINITY;
     double kpow = 1.0 / c->hmin, kcut = 0.5 * fabs(c->kappa);
@@ -575,7 +573,7 @@ eddy_status sol_ref_solve(const sol_ref_problem *p, const sol_ref_source *src, i
     c.d = p->y_top - p->y_bot;
     c.sigma = p->sigma;
     c.v = v;
-    c.kappa = REF_MU0 * p->sigma * v;
+    c.kappa = EDDY_MU0 * p->sigma * v;
     c.yoke = p->has_yoke;
     c.yb = p->has_yoke ? p->y_yoke - p->y_top : 0.0;
     c.y0min = INFINITY;
@@ -588,7 +586,7 @@ eddy_status sol_ref_solve(const sol_ref_problem *p, const sol_ref_source *src, i
         rs[i].y0 = s->y0 - p->y_top;
         rs[i].y1 = s->y1 - p->y_top;
         rs[i].h = s->y1 - s->y0;
-        rs[i].amp = rs[i].magnet ? s->br_y / REF_MU0 : s->jz;
+        rs[i].amp = rs[i].magnet ? s->br_y / EDDY_MU0 : s->jz;
         c.y0min = fmin(c.y0min, rs[i].y0);
         c.hmin = fmin(c.hmin, rs[i].h);
     }

@@ -20,7 +20,7 @@
 #include <umfpack.h>
 
 #include "mesh/mesh.h"
-#include "post/post.h"
+#include "app/app.h"
 #include "solver/sol.h"
 
 static double now(void)
@@ -288,7 +288,7 @@ int main(int argc, char **argv)
         setup_free(&b);
     }
 
-    /* 16-speed sweep vs 16 single-speed runs of the whole job (post_run_solve:
+    /* 16-speed sweep vs 16 single-speed runs of the whole job (app_run_solve:
      * mesh, analysis, static field, speeds, forces, result.json), middle
      * size, the same mesh (each single run lists all 16 speeds for the
      * mesher but solves one); the sweep uses both cores */
@@ -310,8 +310,8 @@ int main(int argc, char **argv)
         if (f == NULL || fputs(json, f) < 0)
             return 1;
         fclose(f);
-        post_run_opts o;
-        post_run_opts_defaults(&o);
+        app_run_opts o;
+        app_run_opts_defaults(&o);
         o.images = 0;
         o.reference = 0;
         o.outdir = out;
@@ -319,11 +319,11 @@ int main(int argc, char **argv)
         int threads = 0;
         for (int rep = 0; rep < repeat; rep++) {
             double t0 = now();
-            post_report *r = NULL;
-            if (post_run_solve(path, &o, &r, NULL) != EDDY_OK)
+            app_report *r = NULL;
+            if (app_run_solve(path, &o, &r, NULL) != EDDY_OK)
                 return 1;
             threads = r->threads;
-            post_report_free(r);
+            app_report_free(r);
             tsw[rep] = now() - t0;
             t0 = now();
             for (int k = 0; k < 16; k++) {
@@ -335,12 +335,12 @@ int main(int argc, char **argv)
                 if (f == NULL || fputs(one, f) < 0)
                     return 1;
                 fclose(f);
-                post_run_opts o1 = o;
+                app_run_opts o1 = o;
                 o1.threads = 1;
                 r = NULL;
-                if (post_run_solve(spath, &o1, &r, NULL) != EDDY_OK)
+                if (app_run_solve(spath, &o1, &r, NULL) != EDDY_OK)
                     return 1;
-                post_report_free(r);
+                app_report_free(r);
             }
             tsi[rep] = now() - t0;
         }

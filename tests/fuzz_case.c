@@ -1,7 +1,7 @@
 /*
  * fuzz_case.c - libFuzzer harness for the case reader and validator
  * (mesh_case_parse, then mesh_grid_estimate on success) and the variant
- * expansion of the batch runner (post_batch_expand, which validates every
+ * expansion of the batch runner (app_batch_expand, which validates every
  * expanded case in turn).  Any input must give a clean status: no crash, no
  * sanitizer report, no leak, no hang.
  *
@@ -22,7 +22,7 @@
 #include <string.h>
 
 #include "mesh/mesh.h"
-#include "post/post.h"
+#include "app/app.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
 
@@ -46,11 +46,11 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
         mesh_grid_estimate(c, &est, &err);
     }
     mesh_case_free(c);
-    post_batch_case *cs = NULL;
+    app_batch_case *cs = NULL;
     int n = 0;
     memset(&err, 0, sizeof err);
-    if (post_batch_expand(text, "fuzz.json", 1, &cs, &n, &err) == EDDY_OK)
-        post_batch_cases_free(cs, n);
+    if (app_batch_expand(text, "fuzz.json", 1, &cs, &n, &err) == EDDY_OK)
+        app_batch_cases_free(cs, n);
     free(text);
     return 0;
 }

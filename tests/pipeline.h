@@ -9,7 +9,7 @@
 #include <stdlib.h>
 
 #include "mesh/mesh.h"
-#include "post/post.h"
+#include "app/app.h"
 #include "solver/sol.h"
 
 typedef struct {

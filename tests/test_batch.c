@@ -1,5 +1,5 @@
 /*
- * test_batch.c - the batch library (post/post_batch.c): content hash,
+ * test_batch.c - the batch library (app/app_batch.c): content hash,
  * variant expansion and naming, case discovery, resume decisions, status
  * files, summaries and Slurm scripts.  No solve happens here (the command
  * line test tests/test_batch.sh runs real batches).
@@ -23,7 +23,7 @@
 #include <unistd.h>
 
 #include "mesh/mesh.h"
-#include "post/post.h"
+#include "app/app.h"
 #include "tests/check.h"
 
 /* Peak of a parabola in log10(speed) through three samples: exact. */
@@ -80,11 +80,11 @@ static int exists(const char *path)
 }
 
 /* Expand a text; return the status and the cases. */
-static eddy_status expand(const char *extra, post_batch_case **cs, int *n, eddy_error *err)
+static eddy_status expand(const char *extra, app_batch_case **cs, int *n, eddy_error *err)
 {
     char *text = with(extra);
     memset(err, 0, sizeof *err);
-    eddy_status s = post_batch_expand(text, "dir/plate.json", 1, cs, n, err);
+    eddy_status s = app_batch_expand(text, "dir/plate.json", 1, cs, n, err);
     free(text);
     return s;
 }
@@ -92,20 +92,20 @@ static eddy_status expand(const char *extra, post_batch_case **cs, int *n, eddy_
 static void test_hash(void)
 {
     /* published FNV-1a 64 test vectors */
-    check(post_fnv1a64("", 0, POST_FNV1A64_BASIS) == 0xcbf29ce484222325ULL, "FNV-1a 64 of \"\"",
+    check(app_fnv1a64("", 0, APP_FNV1A64_BASIS) == 0xcbf29ce484222325ULL, "FNV-1a 64 of \"\"",
           "offset basis");
-    check(post_fnv1a64("a", 1, POST_FNV1A64_BASIS) == 0xaf63dc4c8601ec8cULL, "FNV-1a 64 of \"a\"",
+    check(app_fnv1a64("a", 1, APP_FNV1A64_BASIS) == 0xaf63dc4c8601ec8cULL, "FNV-1a 64 of \"a\"",
           "0xaf63dc4c8601ec8c");
-    check(post_fnv1a64("foobar", 6, POST_FNV1A64_BASIS) == 0x85944171f73967e8ULL,
+    check(app_fnv1a64("foobar", 6, APP_FNV1A64_BASIS) == 0x85944171f73967e8ULL,
           "FNV-1a 64 of \"foobar\"", "0x85944171f73967e8");
-    uint64_t h = post_fnv1a64("foo", 3, POST_FNV1A64_BASIS);
-    check(post_fnv1a64("bar", 3, h) == 0x85944171f73967e8ULL, "FNV-1a 64 continues across calls",
+    uint64_t h = app_fnv1a64("foo", 3, APP_FNV1A64_BASIS);
+    check(app_fnv1a64("bar", 3, h) == 0x85944171f73967e8ULL, "FNV-1a 64 continues across calls",
           "foo + bar = foobar");
 }
 
 static void test_expand_plain(void)
 {
-    post_batch_case *cs = NULL;
+    app_batch_case *cs = NULL;
     int n = 0;
     eddy_error err;
     eddy_status s = expand("", &cs, &n, &err);
@@ -130,34 +130,34 @@ static void test_expand_plain(void)
             spaced[q++] = '\n';
     }
     spaced[q] = '\0';
-    post_batch_case *c2 = NULL, *c3 = NULL;
+    app_batch_case *c2 = NULL, *c3 = NULL;
     int n2 = 0, n3 = 0;
-    post_batch_expand(spaced, "dir/plate.json", 1, &c2, &n2, &err);
-    post_batch_expand(text, "dir/plate.json", 0, &c3, &n3, &err);
+    app_batch_expand(spaced, "dir/plate.json", 1, &c2, &n2, &err);
+    app_batch_expand(text, "dir/plate.json", 0, &c3, &n3, &err);
     check(n2 == 1 && strcmp(c2[0].hash, cs[0].hash) == 0, "layout of the source does not change "
           "the hash", "%s vs %s", n2 == 1 ? c2[0].hash : "-", cs[0].hash);
     check(n3 == 1 && strcmp(c3[0].hash, cs[0].hash) != 0, "the picture option changes the hash",
           "%s vs %s", n3 == 1 ? c3[0].hash : "-", cs[0].hash);
-    post_batch_cases_free(c2, n2);
-    post_batch_cases_free(c3, n3);
+    app_batch_cases_free(c2, n2);
+    app_batch_cases_free(c3, n3);
     free(spaced);
     free(text);
     /* a case without "name" is named after its file */
-    post_batch_case *c4 = NULL;
+    app_batch_case *c4 = NULL;
     int n4 = 0;
     const char *noname = "{\"domain\":{\"x\":[0,1],\"y\":[0,1]},\"regions\":[{\"box\":[0,0,1,1],"
                          "\"material\":\"copper_annealed\",\"moving\":true}],\"speeds\":[1]}";
-    s = post_batch_expand(noname, "some/dir/My case.v2.json", 1, &c4, &n4, &err);
+    s = app_batch_expand(noname, "some/dir/My case.v2.json", 1, &c4, &n4, &err);
     check(s == EDDY_OK && n4 == 1 && strcmp(c4[0].name, "My_case") == 0,
           "a case without a name is named after its file's stem", "%s",
           n4 == 1 ? c4[0].name : err.msg);
-    post_batch_cases_free(c4, n4);
-    post_batch_cases_free(cs, n);
+    app_batch_cases_free(c4, n4);
+    app_batch_cases_free(cs, n);
 }
 
 static void test_expand_variants(void)
 {
-    post_batch_case *cs = NULL;
+    app_batch_case *cs = NULL;
     int n = 0;
     eddy_error err;
     eddy_status s = expand(",\"variants\":{\"regions.fin.box\":[[0,-4,40,0],[0,-6,40,0]],"
@@ -205,10 +205,10 @@ static void test_expand_variants(void)
     }
     check(clean, "every expanded case reads without a warning", "%s", "");
     check(distinct, "every expanded case has its own hash", "%s", "");
-    post_batch_cases_free(cs, n);
+    app_batch_cases_free(cs, n);
 
     /* index and element name address the same value */
-    post_batch_case *a = NULL, *b = NULL;
+    app_batch_case *a = NULL, *b = NULL;
     int na = 0, nb = 0;
     expand(",\"variants\":{\"regions.1.magnetization_angle\":[80]}", &a, &na, &err);
     expand(",\"variants\":{\"regions.n.magnetization_angle\":[80]}", &b, &nb, &err);
@@ -216,8 +216,8 @@ static void test_expand_variants(void)
               strstr(a[0].text, "\"magnetization_angle\":\t80") != NULL,
           "a path may use an index or an element's name", "%s / %s", na ? a[0].name : "-",
           nb ? b[0].name : "-");
-    post_batch_cases_free(a, na);
-    post_batch_cases_free(b, nb);
+    app_batch_cases_free(a, na);
+    app_batch_cases_free(b, nb);
 
     /* a variant value the reader rejects makes that case invalid, not the others */
     expand(",\"variants\":{\"regions.fin.box\":[[0,-4,40,0],[0,-4,40,-5]]}", &cs, &n, &err);
@@ -226,7 +226,7 @@ static void test_expand_variants(void)
               strstr(cs[1].error, "regions[0].box: y1 must be greater than y0") != NULL,
           "an invalid variant is recorded with the file, the variant and the JSON path", "%s",
           n == 2 ? cs[1].error : err.msg);
-    post_batch_cases_free(cs, n);
+    app_batch_cases_free(cs, n);
 
     /* names too long for a folder name: <name>__v001 ... */
     expand(",\"variants\":{\"domain\":[{\"x\":[0,40],\"y\":[-60,60],\"x_boundary\":\"periodic\"}],"
@@ -236,13 +236,13 @@ static void test_expand_variants(void)
               strcmp(cs[1].name, "plate__v002") == 0,
           "an object value or a long name falls back to <name>__v001", "%s %s",
           n > 0 ? cs[0].name : err.msg, n > 1 ? cs[1].name : "");
-    post_batch_cases_free(cs, n);
+    app_batch_cases_free(cs, n);
     /* two values that look alike once made safe */
     expand(",\"variants\":{\"regions.fin.name\":[\"a b\",\"a_b\"]}", &cs, &n, &err);
     check(n == 2 && strcmp(cs[0].name, "plate__v001") == 0,
           "values that would give the same name fall back to numbers", "%s",
           n > 0 ? cs[0].name : err.msg);
-    post_batch_cases_free(cs, n);
+    app_batch_cases_free(cs, n);
     /* equal last segments: the labels grow until they differ */
     expand(",\"variants\":{\"regions.n.magnetization_angle\":[90],"
            "\"regions.s.magnetization_angle\":[-90]}",
@@ -251,12 +251,12 @@ static void test_expand_variants(void)
                         == 0,
           "labels are the shortest suffixes that tell the paths apart", "%s",
           n > 0 ? cs[0].name : err.msg);
-    post_batch_cases_free(cs, n);
+    app_batch_cases_free(cs, n);
 }
 
 static void bad_variant(const char *name, const char *extra, const char *fragment)
 {
-    post_batch_case *cs = NULL;
+    app_batch_case *cs = NULL;
     int n = 0;
     eddy_error err;
     eddy_status s = expand(extra, &cs, &n, &err);
@@ -265,7 +265,7 @@ static void bad_variant(const char *name, const char *extra, const char *fragmen
     check(s == EDDY_ERR_INPUT && cs == NULL && strstr(err.msg, "dir/plate.json") != NULL &&
               strstr(err.msg, fragment) != NULL,
           label, "status %d: %s", (int)s, err.msg);
-    post_batch_cases_free(cs, n);
+    app_batch_cases_free(cs, n);
 }
 
 static void test_expand_errors(void)
@@ -306,14 +306,14 @@ static void test_expand_errors(void)
                 "more than 10000 combinations");
     bad_variant("an infinite number", ",\"mesh\":{\"growth\":1e999}",
                 "mesh.growth: must be a finite number");
-    post_batch_case *cs = NULL;
+    app_batch_case *cs = NULL;
     int n = 0;
     eddy_error err = {0};
-    eddy_status s = post_batch_expand("{\"name\":\"x\",", "t.json", 1, &cs, &n, &err);
+    eddy_status s = app_batch_expand("{\"name\":\"x\",", "t.json", 1, &cs, &n, &err);
     check(s == EDDY_ERR_INPUT && strstr(err.msg, "t.json: line 1, column") != NULL,
           "malformed JSON gives the plain solve's message", "%s", err.msg);
     memset(&err, 0, sizeof err);
-    s = post_batch_expand("[1,2]", "t.json", 1, &cs, &n, &err);
+    s = app_batch_expand("[1,2]", "t.json", 1, &cs, &n, &err);
     check(s == EDDY_ERR_INPUT && strstr(err.msg, "(top level): must be a JSON object") != NULL,
           "a top-level array is rejected", "%s", err.msg);
 }
@@ -341,7 +341,7 @@ static void test_collect_and_plan(void)
     char **files = NULL;
     int nf = 0;
     const char *args[1] = {dir};
-    eddy_status s = post_batch_collect(1, args, &files, &nf, NULL);
+    eddy_status s = app_batch_collect(1, args, &files, &nf, NULL);
     check(s == EDDY_OK && nf == 2 && strstr(files[0], "/a.json") != NULL &&
               strstr(files[1], "/b.json") != NULL,
           "a folder gives its *.json sorted, no hidden files, no sub-folders", "%d files", nf);
@@ -349,9 +349,9 @@ static void test_collect_and_plan(void)
         free(files[k]);
     free(files);
 
-    post_batch_plan *p = NULL;
+    app_batch_plan *p = NULL;
     eddy_error err = {0};
-    s = post_batch_plan_build(1, args, 1, &p, &err);
+    s = app_batch_plan_build(1, args, 1, &p, &err);
     check(s == EDDY_OK && p->ncase == 3 && p->cases[0].invalid &&
               strcmp(p->cases[0].name, "a") == 0 && strstr(p->cases[0].error, "a.json") != NULL &&
               !p->cases[1].invalid && p->nkey == 1 && strcmp(p->keys[0], "speeds.0") == 0,
@@ -361,13 +361,13 @@ static void test_collect_and_plan(void)
     /* resume decisions */
     char out[512];
     snprintf(out, sizeof out, "%s/out", tmpdir);
-    s = post_batch_plan_save(p, out, &err);
+    s = app_batch_plan_save(p, out, &err);
     snprintf(path, sizeof path, "%s/%s/case.json", out, p->cases[1].name);
     char *saved = read_file(path);
     check(s == EDDY_OK && saved != NULL && strcmp(saved, p->cases[1].text) == 0,
           "the plan writes each expanded case as case.json", "%s", err.msg);
     free(saved);
-    check(post_batch_case_state(out, &p->cases[1]) == POST_CASE_NOT_RUN,
+    check(app_batch_case_state(out, &p->cases[1]) == APP_CASE_NOT_RUN,
           "a case without results is not run", "%s", "");
     /* a finished run: result.json, then the marker */
     snprintf(path, sizeof path, "%s/%s/result.json", out, p->cases[1].name);
@@ -375,45 +375,45 @@ static void test_collect_and_plan(void)
                "{\"points\":[{\"speed\":1,\"drag_force\":1,\"force_y\":-1,\"loss\":1},"
                "{\"speed\":10,\"drag_force\":2,\"force_y\":-3,\"loss\":20},"
                "{\"speed\":100,\"drag_force\":1,\"force_y\":-4,\"loss\":100}],\"notice\":\"n\"}");
-    check(post_batch_case_state(out, &p->cases[1]) == POST_CASE_NOT_RUN,
+    check(app_batch_case_state(out, &p->cases[1]) == APP_CASE_NOT_RUN,
           "result.json without input.hash is not finished", "%s", "");
-    s = post_batch_case_done(out, &p->cases[1], 2.5, &err);
-    check(s == EDDY_OK && post_batch_case_state(out, &p->cases[1]) == POST_CASE_OK,
+    s = app_batch_case_done(out, &p->cases[1], 2.5, &err);
+    check(s == EDDY_OK && app_batch_case_state(out, &p->cases[1]) == APP_CASE_OK,
           "result.json and a matching input.hash: finished", "%s", err.msg);
-    s = post_batch_case_done(out, &p->cases[2], 1.0, &err);
+    s = app_batch_case_done(out, &p->cases[2], 1.0, &err);
     check(s == EDDY_ERR_IO, "no completion marker without result.json", "status %d", (int)s);
     /* a result.json cut short (no notice, a point without its force) is not finished */
     snprintf(path, sizeof path, "%s/%s", out, p->cases[2].name);
     mkdir(path, 0777);
     snprintf(path, sizeof path, "%s/%s/result.json", out, p->cases[2].name);
     write_file(path, "{\"points\":[{\"speed\":1,\"drag_force\":1,\"force_y\":-1,\"loss\":1}]}");
-    s = post_batch_case_done(out, &p->cases[2], 1.0, &err);
+    s = app_batch_case_done(out, &p->cases[2], 1.0, &err);
     int no_notice = s == EDDY_ERR_IO;
     write_file(path, "{\"points\":[{\"speed\":1,\"loss\":1}],\"notice\":\"n\"}");
-    s = post_batch_case_done(out, &p->cases[2], 1.0, &err);
+    s = app_batch_case_done(out, &p->cases[2], 1.0, &err);
     check(no_notice && s == EDDY_ERR_IO &&
-              post_batch_case_state(out, &p->cases[2]) == POST_CASE_NOT_RUN,
+              app_batch_case_state(out, &p->cases[2]) == APP_CASE_NOT_RUN,
           "an incomplete result.json gets no completion marker", "status %d", (int)s);
     unlink(path);
     /* a changed input is not finished */
-    post_batch_case changed = p->cases[1];
+    app_batch_case changed = p->cases[1];
     snprintf(changed.hash, sizeof changed.hash, "0123456789abcdef");
-    check(post_batch_case_state(out, &changed) == POST_CASE_NOT_RUN,
+    check(app_batch_case_state(out, &changed) == APP_CASE_NOT_RUN,
           "a different input hash: not finished", "%s", "");
     /* failures */
-    s = post_batch_case_failed(out, &p->cases[2], POST_CASE_TIMEOUT, "too slow, \"really\"", 3.0,
+    s = app_batch_case_failed(out, &p->cases[2], APP_CASE_TIMEOUT, "too slow, \"really\"", 3.0,
                                &err);
-    check(s == EDDY_OK && post_batch_case_state(out, &p->cases[2]) == POST_CASE_TIMEOUT,
+    check(s == EDDY_OK && app_batch_case_state(out, &p->cases[2]) == APP_CASE_TIMEOUT,
           "error.json records a timeout", "%s", err.msg);
-    s = post_batch_case_failed(out, &p->cases[0], POST_CASE_INVALID, p->cases[0].error, NAN, &err);
-    check(s == EDDY_OK && post_batch_case_state(out, &p->cases[0]) == POST_CASE_INVALID,
+    s = app_batch_case_failed(out, &p->cases[0], APP_CASE_INVALID, p->cases[0].error, NAN, &err);
+    check(s == EDDY_OK && app_batch_case_state(out, &p->cases[0]) == APP_CASE_INVALID,
           "error.json records an invalid case", "%s", err.msg);
-    check(post_batch_case_state(out, &changed) == POST_CASE_NOT_RUN,
+    check(app_batch_case_state(out, &changed) == APP_CASE_NOT_RUN,
           "an error.json for another input hash does not count", "%s", "");
 
     /* the summary */
-    post_batch_counts cnt = {0};
-    s = post_batch_write_summary(out, p, &cnt, &err);
+    app_batch_counts cnt = {0};
+    s = app_batch_write_summary(out, p, &cnt, &err);
     check(s == EDDY_OK && cnt.cases == 3 && cnt.ok == 1 && cnt.failed == 2 && cnt.not_run == 0,
           "summary counts", "%d cases, %d ok, %d failed, %d not run", cnt.cases, cnt.ok,
           cnt.failed, cnt.not_run);
@@ -478,7 +478,7 @@ static void test_collect_and_plan(void)
     write_file(path, "x");
     snprintf(path, sizeof path, "%s/%s/forces.png.tmp", out, p->cases[1].name);
     write_file(path, "x");
-    s = post_batch_case_prepare(out, &p->cases[1], &err);
+    s = app_batch_case_prepare(out, &p->cases[1], &err);
     char f1[700], f2[700], f3[700], f4[700];
     snprintf(f1, sizeof f1, "%s/%s/input.hash", out, p->cases[1].name);
     snprintf(f2, sizeof f2, "%s/%s/result.json", out, p->cases[1].name);
@@ -488,8 +488,8 @@ static void test_collect_and_plan(void)
           "prepare clears earlier outputs, keeps case.json and foreign files", "%s", err.msg);
 
     /* the plan reads back as saved */
-    post_batch_plan *q = NULL;
-    s = post_batch_plan_load(out, &q, &err);
+    app_batch_plan *q = NULL;
+    s = app_batch_plan_load(out, &q, &err);
     int same = s == EDDY_OK && q->ncase == p->ncase && q->nkey == p->nkey;
     for (int k = 0; same && k < p->ncase; k++)
         same = strcmp(q->cases[k].name, p->cases[k].name) == 0 &&
@@ -498,20 +498,20 @@ static void test_collect_and_plan(void)
                q->cases[k].nvalue == p->cases[k].nvalue &&
                (p->cases[k].invalid || strcmp(q->cases[k].text, p->cases[k].text) == 0);
     check(same, "batch.json reads back as the same plan", "%s", err.msg);
-    post_batch_plan_free(q);
+    app_batch_plan_free(q);
     /* a case.json changed behind the plan's back is refused */
     write_file(f4, "{\"name\":\"tampered\"}");
     q = NULL;
     memset(&err, 0, sizeof err);
-    s = post_batch_plan_load(out, &q, &err);
+    s = app_batch_plan_load(out, &q, &err);
     check(s == EDDY_ERR_INPUT && q == NULL &&
               strstr(err.msg, "changed since the batch was planned"),
           "a changed case.json is refused by a task", "%s", err.msg);
 
     /* Slurm scripts */
     int tasks[4] = {0, 1, 2};
-    post_batch_slurm_opts so;
-    post_batch_slurm_opts_defaults(&so);
+    app_batch_slurm_opts so;
+    app_batch_slurm_opts_defaults(&so);
     so.exe = "/opt/it's here/eddy2d";
     so.ntask = 2;
     so.tasks = tasks + 1;
@@ -526,7 +526,7 @@ static void test_collect_and_plan(void)
         char cwd[512];
         snprintf(absout, sizeof absout, "%s/%s", getcwd(cwd, sizeof cwd) ? cwd : ".", out);
     }
-    s = post_batch_write_slurm(absout, p, &so, &err);
+    s = app_batch_write_slurm(absout, p, &so, &err);
     snprintf(path, sizeof path, "%s/batch.sbatch", absout);
     char *sb = read_file(path);
     check(s == EDDY_OK && sb != NULL && strstr(sb, "#SBATCH --array=1-2\n") != NULL &&
@@ -541,12 +541,12 @@ static void test_collect_and_plan(void)
     tasks[2] = 3;
     so.tasks = tasks;
     so.ntask = 3;
-    s = post_batch_write_slurm(absout, p, &so, &err);
+    s = app_batch_write_slurm(absout, p, &so, &err);
     check(s == EDDY_ERR_INPUT, "task indices beyond the plan are refused", "status %d", (int)s);
     int t2[3] = {0, 2, 1};
     so.tasks = t2;
     so.ntask = 2;
-    s = post_batch_write_slurm(absout, p, &so, &err);
+    s = app_batch_write_slurm(absout, p, &so, &err);
     snprintf(path, sizeof path, "%s/batch.sbatch", absout);
     sb = read_file(path);
     check(s == EDDY_OK && sb != NULL && strstr(sb, "#SBATCH --array=0,2\n") != NULL,
@@ -557,19 +557,19 @@ static void test_collect_and_plan(void)
     check(sb != NULL && strstr(sb, "--dependency=afterany:") != NULL,
           "submit.sh queues the summary after every task has ended", "%s", "");
     free(sb);
-    post_batch_plan_free(p);
+    app_batch_plan_free(p);
 
     /* command-line level problems */
     const char *missing[1] = {"/nonexistent/dir"};
     p = NULL;
-    s = post_batch_plan_build(1, missing, 1, &p, &err);
+    s = app_batch_plan_build(1, missing, 1, &p, &err);
     check(s == EDDY_ERR_INPUT && p == NULL, "a missing argument is an input error", "status %d",
           (int)s);
     snprintf(path, sizeof path, "%s/empty", tmpdir);
     mkdir(path, 0777);
     const char *empty[1] = {path};
     memset(&err, 0, sizeof err);
-    s = post_batch_plan_build(1, empty, 1, &p, &err);
+    s = app_batch_plan_build(1, empty, 1, &p, &err);
     check(s == EDDY_ERR_INPUT && strstr(err.msg, "no case files") != NULL,
           "a folder without cases is an input error", "%s", err.msg);
     char p1[1200], p2[1200];
@@ -579,14 +579,14 @@ static void test_collect_and_plan(void)
     write_file(p2, "{\"name\":\"same\"}");
     const char *dups[2] = {p1, p2};
     memset(&err, 0, sizeof err);
-    s = post_batch_plan_build(2, dups, 1, &p, &err);
+    s = app_batch_plan_build(2, dups, 1, &p, &err);
     check(s == EDDY_ERR_INPUT && strstr(err.msg, "dup1.json and") != NULL &&
               strstr(err.msg, "dup2.json: two cases named \"same\"") != NULL,
           "two cases with one name are refused, naming both files", "%s", err.msg);
     write_file(p1, "{\"name\":\"summary.csv\"}");
     const char *res[1] = {p1};
     memset(&err, 0, sizeof err);
-    s = post_batch_plan_build(1, res, 1, &p, &err);
+    s = app_batch_plan_build(1, res, 1, &p, &err);
     check(s == EDDY_ERR_INPUT && strstr(err.msg, "name of a file of the batch folder") != NULL,
           "a case named like a batch file is refused", "%s", err.msg);
 }

@@ -7,7 +7,7 @@
 #   - SIGKILL midway, run again: nothing finished is rewritten (inode and mtime),
 #     the rest completes, no temporary file and no orphan process is left
 #   - crash isolation and the time limit (fault injection through
-#     EDDY2D_TEST_FAULT, see post/cli_batch.c)
+#     EDDY2D_TEST_FAULT, see post/app_batch_main.c)
 #   - the Slurm scripts (--slurm --dry-run), run by hand task by task as Slurm
 #     would, give the same summary as the local batch
 #   - command-line errors exit 2 and write nothing

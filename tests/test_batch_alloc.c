@@ -1,7 +1,7 @@
 /*
  * test_batch_alloc.c - allocation failures: make the N-th allocation fail,
  * for N = 1, 2, 3, ... until a run needs no more, over
- *   (a) a small solve with every output on (post_run_solve: pictures, VTK
+ *   (a) a small solve with every output on (app_run_solve: pictures, VTK
  *       field files, line profiles, result.json, forces.csv), and
  *   (b) the batch library (plan, case files, status files, summaries),
  * and check that each failure comes back as a clean status with a message,
@@ -32,7 +32,7 @@
 
 #include "SuiteSparse_config.h"
 #include "mesh/mesh.h"
-#include "post/post.h"
+#include "app/app.h"
 #include "tests/check.h"
 
 /* ------------------------------------------------------------------------ */
@@ -331,16 +331,16 @@ static int count_of(const char *text, const char *key)
 static eddy_status solve_once(const char *casefile, const char *outdir, eddy_error *err,
                               int *complete)
 {
-    post_run_opts o;
-    post_run_opts_defaults(&o);
+    app_run_opts o;
+    app_run_opts_defaults(&o);
     o.outdir = outdir;
     o.images = 1;
     o.vtk = 1;
     o.threads = 1;
-    post_report *r = NULL;
+    app_report *r = NULL;
     memset(err, 0, sizeof *err);
-    eddy_status s = post_run_solve(casefile, &o, &r, err);
-    post_report_free(r);
+    eddy_status s = app_run_solve(casefile, &o, &r, err);
+    app_report_free(r);
     char path[600];
     struct stat st;
     snprintf(path, sizeof path, "%s/result.json", outdir);
@@ -410,16 +410,16 @@ static eddy_status batch_once(const char *indir, const char *outdir, eddy_error 
     memset(err, 0, sizeof *err);
     *complete = 0;
     const char *args[1] = {indir};
-    post_batch_plan *p = NULL;
-    eddy_status s = post_batch_plan_build(1, args, 1, &p, err);
+    app_batch_plan *p = NULL;
+    eddy_status s = app_batch_plan_build(1, args, 1, &p, err);
     if (s == EDDY_OK)
-        s = post_batch_plan_save(p, outdir, err);
+        s = app_batch_plan_save(p, outdir, err);
     if (s == EDDY_OK)
-        s = post_batch_case_prepare(outdir, &p->cases[1], err);
+        s = app_batch_case_prepare(outdir, &p->cases[1], err);
     if (s == EDDY_OK) {
         char path[800];
         snprintf(path, sizeof path, "%s/%s/result.json", outdir, p->cases[1].name);
-        s = post_write_atomic(path, "{\"points\":[{\"speed\":1,\"drag_force\":2,\"force_y\":1,"
+        s = eddy_write_atomic(path, "{\"points\":[{\"speed\":1,\"drag_force\":2,\"force_y\":1,"
                                     "\"loss\":2},{\"speed\":3,\"drag_force\":3,\"force_y\":1,"
                                     "\"loss\":9}],\"notice\":\"n\"}",
                               strlen("{\"points\":[{\"speed\":1,\"drag_force\":2,\"force_y\":1,"
@@ -428,26 +428,26 @@ static eddy_status batch_once(const char *indir, const char *outdir, eddy_error 
                               err);
     }
     if (s == EDDY_OK)
-        s = post_batch_case_done(outdir, &p->cases[1], 1.5, err);
+        s = app_batch_case_done(outdir, &p->cases[1], 1.5, err);
     if (s == EDDY_OK)
-        s = post_batch_case_failed(outdir, &p->cases[0], POST_CASE_INVALID, p->cases[0].error,
+        s = app_batch_case_failed(outdir, &p->cases[0], APP_CASE_INVALID, p->cases[0].error,
                                    0.0, err);
     if (s == EDDY_OK)
-        s = post_batch_write_summary(outdir, p, NULL, err);
+        s = app_batch_write_summary(outdir, p, NULL, err);
     if (s == EDDY_OK) {
         int tasks[1] = {2};
-        post_batch_slurm_opts so;
-        post_batch_slurm_opts_defaults(&so);
+        app_batch_slurm_opts so;
+        app_batch_slurm_opts_defaults(&so);
         so.exe = "/usr/bin/eddy2d";
         so.ntask = 1;
         so.tasks = tasks;
-        s = post_batch_write_slurm(outdir, p, &so, err);
+        s = app_batch_write_slurm(outdir, p, &so, err);
     }
-    post_batch_plan_free(p);
-    post_batch_plan *q = NULL;
+    app_batch_plan_free(p);
+    app_batch_plan *q = NULL;
     if (s == EDDY_OK)
-        s = post_batch_plan_load(outdir, &q, err);
-    post_batch_plan_free(q);
+        s = app_batch_plan_load(outdir, &q, err);
+    app_batch_plan_free(q);
     char path[800];
     struct stat st;
     snprintf(path, sizeof path, "%s/summary.html", outdir);

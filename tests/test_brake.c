@@ -39,7 +39,7 @@
  *   - Disc: v = 2 pi r n / 60, T = F r, P = F v (definitions).
  *   - Standard gravity 9.80665 m/s^2: 3rd CGPM (1901).
  */
-#include "post/post.h"
+#include "app/app.h"
 #include "tests/check.h"
 
 #include <math.h>
@@ -78,11 +78,11 @@ static void test_pchip_exact(void)
     double err_lin = 0.0, err_dlin = 0.0, err_quad = 0.0;
     for (int i = 0; i < N; i++)
         y[i] = 3.0 * x[i] - 2.0;
-    check(post_pchip_slopes(N, x, y, d, NULL) == EDDY_OK, "pchip linear slopes", "%s", "");
+    check(design_pchip_slopes(N, x, y, d, NULL) == EDDY_OK, "pchip linear slopes", "%s", "");
     for (int j = 0; j <= 1000; j++) {
         double xq = 0.1 + 6.9 * j / 1000.0;
-        err_lin = fmax(err_lin, fabs(post_pchip_eval(N, x, y, d, xq) - (3.0 * xq - 2.0)));
-        err_dlin = fmax(err_dlin, fabs(post_pchip_deriv(N, x, y, d, xq) - 3.0));
+        err_lin = fmax(err_lin, fabs(design_pchip_eval(N, x, y, d, xq) - (3.0 * xq - 2.0)));
+        err_dlin = fmax(err_dlin, fabs(design_pchip_deriv(N, x, y, d, xq) - 3.0));
     }
     check(err_lin <= EXACT_TOL * 20.0, "pchip reproduces linear data",
           "max |error| %.3g (values up to 19)", err_lin);
@@ -91,10 +91,10 @@ static void test_pchip_exact(void)
     /* y = 2 x^2 for x > 0: monotone, three-point derivatives exact */
     for (int i = 0; i < N; i++)
         yq[i] = 2.0 * x[i] * x[i];
-    post_pchip_slopes(N, x, yq, d, NULL);
+    design_pchip_slopes(N, x, yq, d, NULL);
     for (int j = 0; j <= 1000; j++) {
         double xq = 0.1 + 6.9 * j / 1000.0;
-        err_quad = fmax(err_quad, fabs(post_pchip_eval(N, x, yq, d, xq) - 2.0 * xq * xq) / (2.0 * xq * xq));
+        err_quad = fmax(err_quad, fabs(design_pchip_eval(N, x, yq, d, xq) - 2.0 * xq * xq) / (2.0 * xq * xq));
     }
     check(err_quad <= EXACT_TOL * 10.0, "pchip reproduces monotone quadratic data",
           "max rel. error %.3g", err_quad);
@@ -107,17 +107,17 @@ static void check_no_overshoot(const char *name, int n, const double *x, const d
     double d[64];
     int bad_range = 0, bad_mono = 0, bad_knot = 0;
     double worst = 0.0;
-    post_pchip_slopes(n, x, y, d, NULL);
+    design_pchip_slopes(n, x, y, d, NULL);
     for (int k = 0; k < n - 1; k++) {
         double lo = fmin(y[k], y[k + 1]), hi = fmax(y[k], y[k + 1]);
         double slack = 1e-14 * fmax(fabs(lo), fabs(hi));
-        double prev = post_pchip_eval(n, x, y, d, x[k]);
+        double prev = design_pchip_eval(n, x, y, d, x[k]);
         int up = y[k + 1] >= y[k];
         if (fabs(prev - y[k]) > slack)
             bad_knot++;
         for (int j = 1; j <= 400; j++) {
             double xq = x[k] + (x[k + 1] - x[k]) * j / 400.0;
-            double v = post_pchip_eval(n, x, y, d, xq);
+            double v = design_pchip_eval(n, x, y, d, xq);
             if (v < lo - slack || v > hi + slack) {
                 bad_range++;
                 worst = fmax(worst, fmax(lo - v, v - hi));
@@ -163,10 +163,10 @@ static double pchip_sin_error(int n)
         x[i] = 0.5 * M_PI * i / (n - 1);
         y[i] = sin(x[i]);
     }
-    post_pchip_slopes(n, x, y, d, NULL);
+    design_pchip_slopes(n, x, y, d, NULL);
     for (int j = 0; j <= 4000; j++) {
         double xq = 0.5 * M_PI * j / 4000.0;
-        e = fmax(e, fabs(post_pchip_eval(n, x, y, d, xq) - sin(xq)));
+        e = fmax(e, fabs(design_pchip_eval(n, x, y, d, xq) - sin(xq)));
     }
     return e;
 }
@@ -184,14 +184,14 @@ static void test_pchip_input(void)
     double x[3] = {0, 1, 1}, y[3] = {0, 1, 2}, d[3];
     eddy_error e;
     memset(&e, 0, sizeof e);
-    check(post_pchip_slopes(3, x, y, d, &e) == EDDY_ERR_INPUT && e.msg[0] != '\0',
+    check(design_pchip_slopes(3, x, y, d, &e) == EDDY_ERR_INPUT && e.msg[0] != '\0',
           "pchip rejects repeated abscissae", "%s", e.msg);
     x[2] = 2.0;
     y[1] = NAN;
     memset(&e, 0, sizeof e);
-    check(post_pchip_slopes(3, x, y, d, &e) == EDDY_ERR_INPUT, "pchip rejects NaN", "%s", e.msg);
+    check(design_pchip_slopes(3, x, y, d, &e) == EDDY_ERR_INPUT, "pchip rejects NaN", "%s", e.msg);
     memset(&e, 0, sizeof e);
-    check(post_pchip_slopes(1, x, y, d, &e) == EDDY_ERR_INPUT, "pchip rejects n < 2", "%s", e.msg);
+    check(design_pchip_slopes(1, x, y, d, &e) == EDDY_ERR_INPUT, "pchip rejects n < 2", "%s", e.msg);
 }
 
 /* ------------------------------------------------------------------------ */
@@ -209,7 +209,7 @@ static void table_log(int n, double vlo, double vhi)
     tv[n - 1] = vhi;
 }
 
-static void check_energy(const char *name, const post_stop_result *r)
+static void check_energy(const char *name, const design_stop_result *r)
 {
     double sum = r->brake_energy + r->extra_work;
     check_close(name, sum, r->kinetic_energy, ENERGY_TOL, 0.0);
@@ -218,19 +218,19 @@ static void check_energy(const char *name, const post_stop_result *r)
 static void test_stop_linear(void)
 {
     const double m = 1000.0, b = 200.0, v0 = 30.0, v1 = 0.3;
-    post_stop_input in;
-    post_stop_result r;
+    design_stop_input in;
+    design_stop_result r;
     char name[128];
 
     table_log(50, 1.0, 30.0); /* v1 below the table: the linear low-speed law */
     for (int i = 0; i < 50; i++)
         tf[i] = b * tv[i];
-    post_stop_defaults(&in);
+    design_stop_defaults(&in);
     in.mass = m;
     in.from_speed = v0;
     in.to_speed = v1;
     in.n_samples = 101;
-    eddy_status st = post_stop_compute(50, tv, tf, &in, &r, NULL);
+    eddy_status st = design_stop_compute(50, tv, tf, &in, &r, NULL);
     check(st == EDDY_OK, "stop linear drag: computed", "status %d", (int)st);
     if (st != EDDY_OK)
         return;
@@ -255,23 +255,23 @@ static void test_stop_linear(void)
     check(ex < QUAD_TOL && et < QUAD_TOL && ea < 1e-12 && r.s_speed[0] == v0 &&
               r.s_speed[r.n_samples - 1] == v1,
           name, "max rel. errors %.3g %.3g %.3g", ex, et, ea);
-    post_stop_result_free(&r);
-    post_stop_result_free(&r); /* twice is harmless */
+    design_stop_result_free(&r);
+    design_stop_result_free(&r); /* twice is harmless */
 }
 
 static void test_stop_constant(void)
 {
     const double m = 1000.0, fc = 5000.0, v0 = 30.0, v1 = 5.0;
-    post_stop_input in;
-    post_stop_result r;
+    design_stop_input in;
+    design_stop_result r;
     table_log(20, 1.0, 30.0);
     for (int i = 0; i < 20; i++)
         tf[i] = fc;
-    post_stop_defaults(&in);
+    design_stop_defaults(&in);
     in.mass = m;
     in.from_speed = v0;
     in.to_speed = v1;
-    if (post_stop_compute(20, tv, tf, &in, &r, NULL) != EDDY_OK) {
+    if (design_stop_compute(20, tv, tf, &in, &r, NULL) != EDDY_OK) {
         check(0, "stop constant force", "failed");
         return;
     }
@@ -286,7 +286,7 @@ static void test_stop_constant(void)
         tf[i] = 0.0;
     in.extra_force = fc;
     in.to_speed = 0.0;
-    if (post_stop_compute(20, tv, tf, &in, &r, NULL) != EDDY_OK) {
+    if (design_stop_compute(20, tv, tf, &in, &r, NULL) != EDDY_OK) {
         check(0, "stop extra force only", "failed");
         return;
     }
@@ -302,16 +302,16 @@ static void test_stop_constant(void)
 static void test_stop_quadratic(void)
 {
     const double m = 1000.0, c = 2.0, v0 = 40.0, v1 = 4.0;
-    post_stop_input in;
-    post_stop_result r;
+    design_stop_input in;
+    design_stop_result r;
     table_log(100, v1, v0);
     for (int i = 0; i < 100; i++)
         tf[i] = c * tv[i] * tv[i];
-    post_stop_defaults(&in);
+    design_stop_defaults(&in);
     in.mass = m;
     in.from_speed = v0;
     in.to_speed = v1;
-    if (post_stop_compute(100, tv, tf, &in, &r, NULL) != EDDY_OK) {
+    if (design_stop_compute(100, tv, tf, &in, &r, NULL) != EDDY_OK) {
         check(0, "stop quadratic drag", "failed");
         return;
     }
@@ -325,17 +325,17 @@ static void test_stop_quadratic(void)
 static void test_stop_linear_extra_to_rest(void)
 {
     const double m = 800.0, b = 150.0, fe = 1000.0, v0 = 25.0;
-    post_stop_input in;
-    post_stop_result r;
+    design_stop_input in;
+    design_stop_result r;
     table_log(30, 2.0, 25.0); /* below 2 m/s: the linear law, here exact */
     for (int i = 0; i < 30; i++)
         tf[i] = b * tv[i];
-    post_stop_defaults(&in);
+    design_stop_defaults(&in);
     in.mass = m;
     in.extra_force = fe;
     in.from_speed = v0;
     in.to_speed = 0.0;
-    if (post_stop_compute(30, tv, tf, &in, &r, NULL) != EDDY_OK) {
+    if (design_stop_compute(30, tv, tf, &in, &r, NULL) != EDDY_OK) {
         check(0, "stop linear drag + extra force", "failed");
         return;
     }
@@ -367,29 +367,29 @@ static double ts_time(double v0, double v1)
     return TS_M / (TS_F0 * TS_W) * ((v0 * v0 - v1 * v1) / 2.0 + TS_W * TS_W * log(v0 / v1));
 }
 
-static int ts_stop(int n, post_interp interp, post_stop_result *r)
+static int ts_stop(int n, design_interp interp, design_stop_result *r)
 {
-    post_stop_input in;
+    design_stop_input in;
     table_log(n, 0.1 * TS_W, 10.0 * TS_W);
     for (int i = 0; i < n; i++)
         tf[i] = ts_force(tv[i]);
-    post_stop_defaults(&in);
+    design_stop_defaults(&in);
     in.mass = TS_M;
     in.from_speed = 10.0 * TS_W;
     in.to_speed = 0.1 * TS_W;
     in.interp = interp;
-    return post_stop_compute(n, tv, tf, &in, r, NULL) == EDDY_OK;
+    return design_stop_compute(n, tv, tf, &in, r, NULL) == EDDY_OK;
 }
 
 static void test_stop_thin_sheet(void)
 {
-    post_stop_result r;
+    design_stop_result r;
     char name[160];
     const double v0 = 10.0 * TS_W, v1 = 0.1 * TS_W;
     const double xa = ts_distance(v0, v1), ta = ts_time(v0, v1);
 
     /* dense: 2001 log-spaced points, the middle one at the peak v = w */
-    if (!ts_stop(2001, POST_INTERP_LIN, &r)) {
+    if (!ts_stop(2001, DESIGN_INTERP_LIN, &r)) {
         check(0, "stop thin-sheet drag dense", "failed");
         return;
     }
@@ -404,7 +404,7 @@ static void test_stop_thin_sheet(void)
     const char *mode[3] = {"F(v)", "F(ln v)", "ln F(ln v)"};
     const double tol[3] = {SPARSE_LIN_TOL, SPARSE_TOL, SPARSE_TOL};
     for (int im = 0; im < 3; im++) {
-        if (!ts_stop(10, (post_interp)im, &r)) {
+        if (!ts_stop(10, (design_interp)im, &r)) {
             check(0, "stop thin-sheet drag sparse", "failed");
             return;
         }
@@ -419,16 +419,16 @@ static void test_stop_thin_sheet(void)
     /* log-log interpolation is exact for power laws: b v and c v^2 from
      * 10 points over two decades */
     for (int pw = 1; pw <= 2; pw++) {
-        post_stop_input in;
+        design_stop_input in;
         table_log(10, 0.3, 30.0);
         for (int i = 0; i < 10; i++)
             tf[i] = pw == 1 ? 200.0 * tv[i] : 2.0 * tv[i] * tv[i];
-        post_stop_defaults(&in);
+        design_stop_defaults(&in);
         in.mass = 1000.0;
         in.from_speed = 30.0;
         in.to_speed = 0.3;
-        in.interp = POST_INTERP_LOGLOG;
-        if (post_stop_compute(10, tv, tf, &in, &r, NULL) != EDDY_OK) {
+        in.interp = DESIGN_INTERP_LOGLOG;
+        if (design_stop_compute(10, tv, tf, &in, &r, NULL) != EDDY_OK) {
             check(0, "stop log-log power law", "failed");
             continue;
         }
@@ -442,15 +442,15 @@ static void test_stop_thin_sheet(void)
 
     /* sparse linear drag: the interpolation is exact, only quadrature error */
     {
-        post_stop_input in;
+        design_stop_input in;
         table_log(10, 0.3, 30.0);
         for (int i = 0; i < 10; i++)
             tf[i] = 200.0 * tv[i];
-        post_stop_defaults(&in);
+        design_stop_defaults(&in);
         in.mass = 1000.0;
         in.from_speed = 30.0;
         in.to_speed = 0.3;
-        if (post_stop_compute(10, tv, tf, &in, &r, NULL) == EDDY_OK)
+        if (design_stop_compute(10, tv, tf, &in, &r, NULL) == EDDY_OK)
             check_close("stop linear drag, 10 points / 2 decades: distance (PCHIP exact on lines)",
                         r.distance, 5.0 * 29.7, QUAD_TOL, 0.0);
         else
@@ -460,14 +460,14 @@ static void test_stop_thin_sheet(void)
 
 static void test_table_change(void)
 {
-    post_stop_input in;
-    post_stop_result r;
+    design_stop_input in;
+    design_stop_result r;
     double dx = 0.0, dt = 0.0;
     const double v0 = 10.0 * TS_W, v1 = 0.1 * TS_W, xa = ts_distance(v0, v1);
     const int sizes[5] = {7, 10, 13, 19, 25};
     int bounded = 0, total = 0;
     double worst_ratio = 0.0;
-    post_stop_defaults(&in);
+    design_stop_defaults(&in);
     in.mass = TS_M;
     in.from_speed = v0;
     in.to_speed = v1;
@@ -480,9 +480,9 @@ static void test_table_change(void)
         for (int i = 0; i < n; i++)
             tf[i] = ts_force(tv[i]);
         for (int im = 0; im < 3; im++) {
-            in.interp = (post_interp)im;
-            if (post_stop_table_change(n, tv, tf, &in, &dx, &dt, NULL) != EDDY_OK ||
-                post_stop_compute(n, tv, tf, &in, &r, NULL) != EDDY_OK)
+            in.interp = (design_interp)im;
+            if (design_stop_table_change(n, tv, tf, &in, &dx, &dt, NULL) != EDDY_OK ||
+                design_stop_compute(n, tv, tf, &in, &r, NULL) != EDDY_OK)
                 continue;
             double e = fabs(r.distance - xa) / xa;
             total++;
@@ -500,20 +500,20 @@ static void test_table_change(void)
     table_log(41, v1, v0);
     for (int i = 0; i < 41; i++)
         tf[i] = ts_force(tv[i]);
-    in.interp = POST_INTERP_LOGLOG;
-    eddy_status st = post_stop_table_change(41, tv, tf, &in, &dx, &dt, NULL);
+    in.interp = DESIGN_INTERP_LOGLOG;
+    eddy_status st = design_stop_table_change(41, tv, tf, &in, &dx, &dt, NULL);
     check(st == EDDY_OK && fabs(dx) < CHANGE_LIMIT && fabs(dt) < CHANGE_LIMIT,
           "table check: 41 log-log points over two decades change < 0.5 %",
           "distance change %.3g, time change %.3g", dx, dt);
 }
 
 static void expect_input_error(const char *name, int n, const double *v, const double *f,
-                               const post_stop_input *in, const char *word)
+                               const design_stop_input *in, const char *word)
 {
-    post_stop_result r;
+    design_stop_result r;
     eddy_error e;
     memset(&e, 0, sizeof e);
-    eddy_status st = post_stop_compute(n, v, f, in, &r, &e);
+    eddy_status st = design_stop_compute(n, v, f, in, &r, &e);
     check(st == EDDY_ERR_INPUT && strstr(e.msg, word) != NULL && r.s_speed == NULL, name, "%s",
           e.msg);
 }
@@ -521,8 +521,8 @@ static void expect_input_error(const char *name, int n, const double *v, const d
 static void test_stop_input(void)
 {
     double v[5] = {1, 2, 3, 4, 5}, f[5] = {1, 2, 3, 4, 5};
-    post_stop_input in, bad;
-    post_stop_defaults(&in);
+    design_stop_input in, bad;
+    design_stop_defaults(&in);
     in.mass = 10.0;
     in.from_speed = 5.0;
     in.to_speed = 1.0;
@@ -567,9 +567,9 @@ static void test_stop_input(void)
     f[1] = 0.0;
     bad = in;
     bad.extra_force = 1.0;
-    bad.interp = POST_INTERP_LOGLOG;
+    bad.interp = DESIGN_INTERP_LOGLOG;
     expect_input_error("stop rejects a zero force with log-log interpolation", 5, v, f, &bad, "log-log");
-    bad.interp = (post_interp)7;
+    bad.interp = (design_interp)7;
     expect_input_error("stop rejects an unknown interpolation", 5, v, f, &bad, "interpolation");
     f[1] = 2.0;
     v[0] = 0.0;
@@ -577,8 +577,8 @@ static void test_stop_input(void)
     v[0] = 1.0;
     expect_input_error("stop rejects a one-point table", 1, v, f, &in, "at least 2");
     {
-        post_stop_result r;
-        check(post_stop_compute(5, v, f, &in, &r, NULL) == EDDY_OK, "stop accepts the valid case",
+        design_stop_result r;
+        check(design_stop_compute(5, v, f, &in, &r, NULL) == EDDY_OK, "stop accepts the valid case",
               "%s", "");
     }
 }
@@ -595,25 +595,25 @@ static void test_heating(void)
     /* Energy balances (definition of the specific heat capacity).
      * Copper 8960 kg/m^3, 385 J/(kg K); aluminium 2700 kg/m^3, 900 J/(kg K)
      * (handbook values near 20 C, from memory). */
-    st = post_heating_rate(1.0e4, 1.0e-4, 8960.0, 385.0, &r, NULL);
+    st = design_heating_rate(1.0e4, 1.0e-4, 8960.0, 385.0, &r, NULL);
     check(st == EDDY_OK && fabs(r - 1.0e4 / (8960.0 * 385.0 * 1.0e-4)) <= 1e-12 * r,
           "heating rate P / (rho c_p A): 10 kW/m into 1 cm^2 of copper", "%.6g K/s", r);
     /* material flows through the field at rho t v kg/s per metre of depth
      * and takes P with it: dT = P / (rho t v c_p) */
-    st = post_heating_per_pass(1.0e4, 0.01, 20.0, 2700.0, 900.0, &rp, NULL);
+    st = design_heating_per_pass(1.0e4, 0.01, 20.0, 2700.0, 900.0, &rp, NULL);
     check(st == EDDY_OK && fabs(rp - 1.0e4 / (2700.0 * 900.0 * 0.01 * 20.0)) <= 1e-12 * rp,
           "heating per pass P / (rho c_p t v): 10 kW/m, 10 mm aluminium at 20 m/s", "%.6g K", rp);
-    st = post_stop_temperature_rise(1.0e6, 10.0, 385.0, &dt, NULL);
+    st = design_stop_temperature_rise(1.0e6, 10.0, 385.0, &dt, NULL);
     check(st == EDDY_OK && fabs(dt - 1.0e6 / 3850.0) <= 1e-12 * dt,
           "temperature rise E / (M c_p): 1 MJ into 10 kg copper", "%.6g K", dt);
     memset(&e, 0, sizeof e);
-    check(post_heating_rate(-1.0, 1.0, 1.0, 1.0, &r, &e) == EDDY_ERR_INPUT, "heating rejects negative loss",
+    check(design_heating_rate(-1.0, 1.0, 1.0, 1.0, &r, &e) == EDDY_ERR_INPUT, "heating rejects negative loss",
           "%s", e.msg);
     memset(&e, 0, sizeof e);
-    check(post_heating_per_pass(1.0, 1.0, 0.0, 1.0, 1.0, &r, &e) == EDDY_ERR_INPUT,
+    check(design_heating_per_pass(1.0, 1.0, 0.0, 1.0, 1.0, &r, &e) == EDDY_ERR_INPUT,
           "heating per pass rejects speed 0", "%s", e.msg);
     memset(&e, 0, sizeof e);
-    check(post_stop_temperature_rise(1.0, NAN, 1.0, &r, &e) == EDDY_ERR_INPUT,
+    check(design_stop_temperature_rise(1.0, NAN, 1.0, &r, &e) == EDDY_ERR_INPUT,
           "temperature rise rejects NaN mass", "%s", e.msg);
 }
 
@@ -622,21 +622,21 @@ static void test_sigma(void)
     double s = 0.0;
     eddy_error e;
     const double sigma20 = 58.0e6; /* IEC 60028: 1/58 ohm mm^2/m at 20 C */
-    check(post_sigma_at_temperature(sigma20, POST_ALPHA_COPPER, 75.0, &s, NULL) == EDDY_OK,
+    check(design_sigma_at_temperature(sigma20, DESIGN_ALPHA_COPPER, 75.0, &s, NULL) == EDDY_OK,
           "sigma(T) copper at 75 C computed", "%s", "");
     check_close("sigma(75 C)/sigma_20 copper (IEC 60028: 1/(1 + 0.00393 x 55))", s / sigma20,
                 1.0 / 1.21615, SIGMA_TOL, 0.0);
     check(fabs(s / sigma20 - 0.8223) < 1e-4, "sigma(75 C)/sigma_20 copper ~ 0.8223", "%.6f", s / sigma20);
-    post_sigma_at_temperature(sigma20, POST_ALPHA_ALUMINIUM, 20.0, &s, NULL);
+    design_sigma_at_temperature(sigma20, DESIGN_ALPHA_ALUMINIUM, 20.0, &s, NULL);
     check(s == sigma20, "sigma(20 C) = sigma_20", "%.9g", s);
     memset(&e, 0, sizeof e);
-    check(post_sigma_at_temperature(sigma20, POST_ALPHA_COPPER, -250.0, &s, &e) == EDDY_ERR_INPUT,
+    check(design_sigma_at_temperature(sigma20, DESIGN_ALPHA_COPPER, -250.0, &s, &e) == EDDY_ERR_INPUT,
           "sigma(T) rejects T < -200 C", "%s", e.msg);
     memset(&e, 0, sizeof e);
-    check(post_sigma_at_temperature(sigma20, 0.01, -90.0, &s, &e) == EDDY_ERR_INPUT,
+    check(design_sigma_at_temperature(sigma20, 0.01, -90.0, &s, &e) == EDDY_ERR_INPUT,
           "sigma(T) rejects 1 + alpha (T - 20) <= 0", "%s", e.msg);
     memset(&e, 0, sizeof e);
-    check(post_sigma_at_temperature(sigma20, POST_ALPHA_COPPER, NAN, &s, &e) == EDDY_ERR_INPUT,
+    check(design_sigma_at_temperature(sigma20, DESIGN_ALPHA_COPPER, NAN, &s, &e) == EDDY_ERR_INPUT,
           "sigma(T) rejects NaN temperature", "%s", e.msg);
 }
 
@@ -692,7 +692,7 @@ static void test_end_effect(void)
     const double cases[][2] = {{0.04, 0.0}, {0.04, 0.01}, {0.04, 0.05}, {0.10, 0.02}, {0.01, 0.02}};
     for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
         double wa = cases[c][0], ov = cases[c][1];
-        post_end_effect_factor(wa, wa + 2.0 * ov, tau, &k, NULL);
+        design_end_effect_factor(wa, wa + 2.0 * ov, tau, &k, NULL);
         int na = 4000;
         double f1 = end_factor_fv(0.5 * wa, 0.5 * wa + ov, tau, na);
         double f2 = end_factor_fv(0.5 * wa, 0.5 * wa + ov, tau, 2 * na);
@@ -706,16 +706,16 @@ static void test_end_effect(void)
 
     /* limits */
     double p = M_PI * 0.04 / (2.0 * tau);
-    post_end_effect_factor(0.04, 0.04, tau, &k, NULL);
+    design_end_effect_factor(0.04, 0.04, tau, &k, NULL);
     check_close("end-effect factor, no overhang: 1 - tanh(p)/p", k, 1.0 - tanh(p) / p, 1e-12, 0.0);
-    post_end_effect_factor(0.04, 0.04 + 100.0 * tau, tau, &k, NULL);
+    design_end_effect_factor(0.04, 0.04 + 100.0 * tau, tau, &k, NULL);
     check_close("end-effect factor, endless overhang: 1 - tanh(p)/(p (1 + tanh p))", k,
                 1.0 - tanh(p) / (p * (1.0 + tanh(p))), 1e-12, 0.0);
     double prev = 0.0;
     int mono = 1, inside = 1;
     for (int i = 0; i <= 200; i++) {
         double ov = 0.001 * i;
-        post_end_effect_factor(0.04, 0.04 + 2.0 * ov, tau, &k, NULL);
+        design_end_effect_factor(0.04, 0.04 + 2.0 * ov, tau, &k, NULL);
         if (!(k > 0.0 && k < 1.0))
             inside = 0;
         if (i > 0 && !(k > prev))
@@ -726,29 +726,29 @@ static void test_end_effect(void)
           "k from %.6f (no overhang) to %.6f (0.2 m per side)",
           1.0 - tanh(p) / p, prev);
     double k_wide;
-    post_end_effect_factor(100.0, 100.0 + 0.02, tau, &k_wide, NULL);
+    design_end_effect_factor(100.0, 100.0 + 0.02, tau, &k_wide, NULL);
     check(k_wide > 0.999 && k_wide < 1.0, "end-effect factor -> 1 for active width >> pole pitch",
           "w_a = 2000 tau: k = %.9f", k_wide);
     /* small p: k = p^2/3 - 2 p^4/15 + ... with no overhang (series of tanh) */
     double ps = M_PI * 1e-6 / (2.0 * tau);
-    post_end_effect_factor(1e-6, 1e-6, tau, &k, NULL);
+    design_end_effect_factor(1e-6, 1e-6, tau, &k, NULL);
     check_close("end-effect factor, narrow magnet: p^2/3 (no cancellation)", k,
                 ps * ps / 3.0 - 2.0 * pow(ps, 4) / 15.0, 1e-9, 0.0);
     eddy_error e;
     memset(&e, 0, sizeof e);
-    check(post_end_effect_factor(0.04, 0.03, tau, &k, &e) == EDDY_ERR_INPUT,
+    check(design_end_effect_factor(0.04, 0.03, tau, &k, &e) == EDDY_ERR_INPUT,
           "end-effect factor rejects a plate narrower than the magnets", "%s", e.msg);
     memset(&e, 0, sizeof e);
-    check(post_end_effect_factor(0.04, 0.05, 0.0, &k, &e) == EDDY_ERR_INPUT,
+    check(design_end_effect_factor(0.04, 0.05, 0.0, &k, &e) == EDDY_ERR_INPUT,
           "end-effect factor rejects pole pitch 0", "%s", e.msg);
 }
 
 static void test_disc(void)
 {
-    double v = post_disc_speed(0.1, 3000.0);
+    double v = design_disc_speed(0.1, 3000.0);
     check_close("disc: 3000 rpm at r = 0.1 m is 10 pi m/s", v, 10.0 * M_PI, 1e-15, 0.0);
-    check_close("disc: torque F r", post_disc_torque(250.0, 0.1), 25.0, 1e-15, 0.0);
-    check_close("disc: power F v", post_brake_power(250.0, v), 2500.0 * M_PI, 1e-15, 0.0);
+    check_close("disc: torque F r", design_disc_torque(250.0, 0.1), 25.0, 1e-15, 0.0);
+    check_close("disc: power F v", design_brake_power(250.0, v), 2500.0 * M_PI, 1e-15, 0.0);
 }
 
 int main(void)

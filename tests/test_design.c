@@ -23,7 +23,7 @@
 
 static char dir[256];
 
-static post_report *solve_text(const char *name, const char *json, eddy_status *s,
+static app_report *solve_text(const char *name, const char *json, eddy_status *s,
                                eddy_error *err)
 {
     char path[400], out[400];
@@ -35,13 +35,13 @@ static post_report *solve_text(const char *name, const char *json, eddy_status *
         return NULL;
     }
     fclose(f);
-    post_run_opts o;
-    post_run_opts_defaults(&o);
+    app_run_opts o;
+    app_run_opts_defaults(&o);
     o.outdir = out;
     o.reference = 0;
     o.images = 1;
-    post_report *r = NULL;
-    *s = post_run_solve(path, &o, &r, err);
+    app_report *r = NULL;
+    *s = app_run_solve(path, &o, &r, err);
     return r;
 }
 
@@ -75,10 +75,10 @@ static void test_adaptive_peak_and_stop(void)
              SIGMA, I_LINE, 0.05 * w, 5.0 * w, mass, depth / 1e-3, v0, v1);
     eddy_error err = {0};
     eddy_status s;
-    post_report *r = solve_text("thin_auto", json, &s, &err);
+    app_report *r = solve_text("thin_auto", json, &s, &err);
     check(s == EDDY_OK, "adaptive sweep with a vehicle solves", "%s", err.msg);
     if (s != EDDY_OK) {
-        post_report_free(r);
+        app_report_free(r);
         return;
     }
     check(r->npoint > 7 && r->adapt_rounds >= 1, "the adaptive sweep added speeds",
@@ -116,7 +116,7 @@ static void test_adaptive_peak_and_stop(void)
     int csv = stat(path, &st) == 0 && st.st_size > 1000;
     snprintf(path, sizeof path, "%s/thin_auto/stopping.png", dir);
     check(csv && stat(path, &st) == 0, "stopping.csv and stopping.png written", "%s", path);
-    post_report_free(r);
+    app_report_free(r);
 }
 
 /* sigma(T) = sigma_20 / (1 + alpha (T - 20)) (IEC 60028 form, alpha of
@@ -138,11 +138,11 @@ static void test_temperature(void)
     snprintf(j80, sizeof j80, fmt, 80.0);
     eddy_error err = {0};
     eddy_status s1, s2;
-    post_report *a = solve_text("t20", j20, &s1, &err), *b = solve_text("t80", j80, &s2, &err);
+    app_report *a = solve_text("t20", j20, &s1, &err), *b = solve_text("t80", j80, &s2, &err);
     if (s1 != EDDY_OK || s2 != EDDY_OK) {
         check(0, "temperature cases solve", "%s", err.msg);
-        post_report_free(a);
-        post_report_free(b);
+        app_report_free(a);
+        app_report_free(b);
         return;
     }
     double want = 1.0 / (1.0 + 0.00393 * 60.0);
@@ -167,8 +167,8 @@ static void test_temperature(void)
               fabs(f->heating_rate - f->loss / (8890.0 * 385.0 * f->conductor_area)) <
                   1e-9 * f->heating_rate,
           "adiabatic heating rate = loss / (rho c_p A)", "%.4g K/s", f->heating_rate);
-    post_report_free(a);
-    post_report_free(b);
+    app_report_free(a);
+    app_report_free(b);
 }
 
 static void test_bad_vehicle(void)

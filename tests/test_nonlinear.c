@@ -513,21 +513,21 @@ static void test_pipeline(void)
         return;
     }
     fclose(f);
-    post_run_opts o;
-    post_run_opts_defaults(&o);
+    app_run_opts o;
+    app_run_opts_defaults(&o);
     o.outdir = dir;
     o.images = 0;
     o.reference = 0;
-    post_report *r = NULL;
+    app_report *r = NULL;
     eddy_error err = {0};
-    eddy_status s = post_run_solve(casefile, &o, &r, &err);
+    eddy_status s = app_run_solve(casefile, &o, &r, &err);
     int ok = s == EDDY_OK && r != NULL && r->npoint == 2;
     for (int k = 0; ok && k < r->npoint; k++)
         ok = r->info[k].newton.converged && r->info[k].newton.n_residual >= 1 &&
              r->f[k].force_method != NULL && strcmp(r->f[k].force_method, "stress_tensor") == 0;
     check(ok, "solve of a steel plate: every point converged, forces from the stress tensor",
           "%s", s == EDDY_OK ? "" : err.msg);
-    post_report_free(r);
+    app_report_free(r);
     char path[400], text[65536] = "";
     snprintf(path, sizeof path, "%s/result.json", dir);
     f = fopen(path, "r");
@@ -543,12 +543,12 @@ static void test_pipeline(void)
     o.max_newton = 1;
     r = NULL;
     memset(&err, 0, sizeof err);
-    s = post_run_solve(casefile, &o, &r, &err);
+    s = app_run_solve(casefile, &o, &r, &err);
     check(s == EDDY_ERR_NUMERIC && strstr(err.msg, "Newton-Raphson did not converge") != NULL &&
               strstr(err.msg, "m/s") != NULL && eddy_exit_code(s) == 1,
           "a Newton failure is an error with a clear message and exit status 1", "%s (exit %d)",
           err.msg, eddy_exit_code(s));
-    post_report_free(r);
+    app_report_free(r);
     char cmd[700];
     snprintf(cmd, sizeof cmd, "rm -rf '%s' '%s'", dir, casefile);
     if (system(cmd) != 0)

@@ -109,7 +109,7 @@ static int j_geometry(pipe_run *p, double v, post_map_geom *geo, double *jz)
     mo.value_scale = 1e-6;
     mo.length_unit = p->c->length_unit;
     mo.length_scale = 1.0 / p->c->length_scale;
-    post_view_window(p->c, 0, mo.view);
+    app_view_window(p->c, 0, mo.view);
     eddy_status s = post_map_geometry(g->nx, g->ny, g->x, g->y, jz, mask, &mo, geo, NULL);
     free(mask);
     return s == EDDY_OK ? 0 : -1;
@@ -287,15 +287,15 @@ int main(void)
         return check_summary();
     }
     fclose(f);
-    post_run_opts o;
-    post_run_opts_defaults(&o);
+    app_run_opts o;
+    app_run_opts_defaults(&o);
     o.outdir = dir;
     o.vtk = 1;
-    post_report *r = NULL;
+    app_report *r = NULL;
     eddy_error err = {0};
-    eddy_status s = post_run_solve(casefile, &o, &r, &err);
+    eddy_status s = app_run_solve(casefile, &o, &r, &err);
     check(s == EDDY_OK, "solve with pictures, VTK and a profile", "%s", err.msg);
-    post_report_free(r);
+    app_report_free(r);
     if (s == EDDY_OK) {
         pipe_run p;
         if (pipe_open(&p, case_text) == 0) {

@@ -10,7 +10,7 @@
 #include <string.h>
 #include <unistd.h>
 
-#include "post/post.h"
+#include "app/app.h"
 #include "tests/check.h"
 #include "tests/pipeline.h"
 

@@ -24,7 +24,7 @@
 #define _POSIX_C_SOURCE 200809L
 #include <png.h>
 
-#include "post/post.h"
+#include "app/app.h"
 #include "tests/check.h"
 
 #include <cairo.h>
@@ -517,7 +517,7 @@ static void test_peak(void)
     }
     double vp, fp;
     int refined;
-    eddy_status st = post_force_peak(N, v, fd, 1, &vp, &fp, &refined, NULL);
+    eddy_status st = design_peak(N, v, fd, 1, &vp, &fp, &refined, NULL);
     int ks = 0;
     for (int k = 1; k < N; k++)
         if (fd[k] > fd[ks])
@@ -532,10 +532,10 @@ static void test_peak(void)
           fp, fd[ks]);
     /* maximum at the end of the sweep: the sample, not refined */
     double v2[3] = {1.0, 2.0, 3.0}, f2[3] = {1.0, 2.0, 3.0};
-    st = post_force_peak(3, v2, f2, 0, &vp, &fp, &refined, NULL);
+    st = design_peak(3, v2, f2, 0, &vp, &fp, &refined, NULL);
     check(st == EDDY_OK && !refined && vp == 3.0 && fp == 3.0, "peak_at_end_is_sample",
           "v %g f %g refined %d", vp, fp, refined);
-    st = post_force_peak(3, (double[]){0.0, 1.0, 2.0}, f2, 1, &vp, &fp, &refined, NULL);
+    st = design_peak(3, (double[]){0.0, 1.0, 2.0}, f2, 1, &vp, &fp, &refined, NULL);
     check(st == EDDY_ERR_INPUT, "peak_log_needs_positive_speed", "status %d", st);
 }
 

@@ -25,19 +25,19 @@ static const char *case_text =
 
 static char dir[256];
 
-static post_report *run(int threads, double max_memory, eddy_status *s, eddy_error *err)
+static app_report *run(int threads, double max_memory, eddy_status *s, eddy_error *err)
 {
     char casefile[300], out[300];
     snprintf(casefile, sizeof casefile, "%s/case.json", dir);
     snprintf(out, sizeof out, "%s/out_%d_%g", dir, threads, max_memory);
-    post_run_opts o;
-    post_run_opts_defaults(&o);
+    app_run_opts o;
+    app_run_opts_defaults(&o);
     o.outdir = out;
     o.images = 0;
     o.threads = threads;
     o.max_memory = max_memory;
-    post_report *r = NULL;
-    *s = post_run_solve(casefile, &o, &r, err);
+    app_report *r = NULL;
+    *s = app_run_solve(casefile, &o, &r, err);
     return r;
 }
 
@@ -45,7 +45,7 @@ static void test_threads(void)
 {
     eddy_error e1 = {0}, e2 = {0};
     eddy_status s1, s2;
-    post_report *r1 = run(1, 0, &s1, &e1), *r2 = run(2, 0, &s2, &e2);
+    app_report *r1 = run(1, 0, &s1, &e1), *r2 = run(2, 0, &s2, &e2);
     check(s1 == EDDY_OK && s2 == EDDY_OK, "sweep on one and on two threads", "%s %s", e1.msg,
           e2.msg);
     if (s1 == EDDY_OK && s2 == EDDY_OK) {
@@ -66,22 +66,22 @@ static void test_threads(void)
               "%d points, %d threads, largest relative difference %.2g", r1->npoint,
               r2->threads, worst);
     }
-    post_report_free(r1);
-    post_report_free(r2);
+    app_report_free(r1);
+    app_report_free(r2);
 }
 
 static void test_memory_guard(void)
 {
     eddy_error err = {0};
     eddy_status s;
-    post_report *r = run(1, 1024.0, &s, &err);
+    app_report *r = run(1, 1024.0, &s, &err);
     char res[400];
     snprintf(res, sizeof res, "%s/out_1_1024/result.json", dir);
     struct stat st;
     check(s == EDDY_ERR_TOO_LARGE && strstr(err.msg, "GiB") != NULL && stat(res, &st) != 0,
           "the memory guard refuses a factorisation above --max-memory, writing nothing", "%s",
           err.msg);
-    post_report_free(r);
+    app_report_free(r);
 }
 
 static void test_orderings_and_export(void)

@@ -1,5 +1,5 @@
 /*
- * post_brake.c - brake-design answers from a force-speed curve.
+ * design.c - brake-design answers from a force-speed curve.
  *
  * Monotone cubic interpolation (Fritsch and Carlson 1980), stopping
  * integrals, heating, conductivity at temperature, the finite-width
@@ -35,7 +35,7 @@
  * Written as [(p - tanh p) + p tanh p tanh q] / (p [1 + tanh p tanh q]) it
  * is evaluated without cancellation, p - tanh p by its series for small p.
  */
-#include "post/post.h"
+#include "design/design.h"
 
 #include <float.h>
 #include <math.h>
@@ -43,9 +43,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-#ifndef M_PI
-#define M_PI 3.14159265358979323846
-#endif
 
 #define DEFAULT_REL_TOL 1e-9
 #define MIN_REL_TOL 1e-13
@@ -59,7 +56,7 @@
 /* 1. Monotone cubic interpolation                                           */
 /* ------------------------------------------------------------------------ */
 
-eddy_status post_pchip_slopes(int n, const double *x, const double *y, double *d,
+eddy_status design_pchip_slopes(int n, const double *x, const double *y, double *d,
                               eddy_error *err)
 {
     if (n < 2)
@@ -138,7 +135,7 @@ static int find_interval(int n, const double *x, double xq)
     return lo;
 }
 
-double post_pchip_eval(int n, const double *x, const double *y, const double *d, double xq)
+double design_pchip_eval(int n, const double *x, const double *y, const double *d, double xq)
 {
     int k = find_interval(n, x, xq);
     double h = x[k + 1] - x[k];
@@ -149,7 +146,7 @@ double post_pchip_eval(int n, const double *x, const double *y, const double *d,
     return h00 * y[k] + h01 * y[k + 1] + h * (h10 * d[k] + h11 * d[k + 1]);
 }
 
-double post_pchip_deriv(int n, const double *x, const double *y, const double *d, double xq)
+double design_pchip_deriv(int n, const double *x, const double *y, const double *d, double xq)
 {
     int k = find_interval(n, x, xq);
     double h = x[k + 1] - x[k];
@@ -186,21 +183,21 @@ static eddy_status check_table(int n, const double *speed, const double *force, 
     return EDDY_OK;
 }
 
-eddy_status post_force_curve_build(int n, const double *speed, const double *force,
-                                   post_interp interp, post_force_curve **out,
+eddy_status design_force_curve_build(int n, const double *speed, const double *force,
+                                   design_interp interp, design_force_curve **out,
                                    eddy_error *err)
 {
     eddy_status st;
-    post_force_curve *c;
+    design_force_curve *c;
     if (out == NULL)
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "force curve: NULL output");
     *out = NULL;
     st = check_table(n, speed, force, err);
     if (st != EDDY_OK)
         return st;
-    if (interp != POST_INTERP_LIN && interp != POST_INTERP_LOGV && interp != POST_INTERP_LOGLOG)
+    if (interp != DESIGN_INTERP_LIN && interp != DESIGN_INTERP_LOGV && interp != DESIGN_INTERP_LOGLOG)
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "force curve: unknown interpolation %d", (int)interp);
-    if (interp == POST_INTERP_LOGLOG)
+    if (interp == DESIGN_INTERP_LOGLOG)
         for (int i = 0; i < n; i++)
             if (!(force[i] > 0.0))
                 return EDDY_RAISE(err, EDDY_ERR_INPUT,
@@ -223,19 +220,19 @@ eddy_status post_force_curve_build(int n, const double *speed, const double *for
     memcpy(c->speed, speed, (size_t)n * sizeof *speed);
     memcpy(c->force, force, (size_t)n * sizeof *force);
     for (int i = 0; i < n; i++) {
-        c->knot[i] = interp == POST_INTERP_LIN ? speed[i] : log(speed[i]);
-        c->value[i] = interp == POST_INTERP_LOGLOG ? log(force[i]) : force[i];
+        c->knot[i] = interp == DESIGN_INTERP_LIN ? speed[i] : log(speed[i]);
+        c->value[i] = interp == DESIGN_INTERP_LOGLOG ? log(force[i]) : force[i];
     }
-    st = post_pchip_slopes(n, c->knot, c->value, c->slope, err);
+    st = design_pchip_slopes(n, c->knot, c->value, c->slope, err);
     if (st != EDDY_OK) {
-        post_force_curve_free(c);
+        design_force_curve_free(c);
         return st;
     }
     *out = c;
     return EDDY_OK;
 }
 
-void post_force_curve_free(post_force_curve *c)
+void design_force_curve_free(design_force_curve *c)
 {
     if (c == NULL)
         return;
@@ -243,23 +240,23 @@ void post_force_curve_free(post_force_curve *c)
     free(c);
 }
 
-double post_force_curve_eval(const post_force_curve *c, double v)
+double design_force_curve_eval(const design_force_curve *c, double v)
 {
     if (!(v > 0.0))
         return 0.0;
     if (v < c->speed[0])
         return c->force[0] * (v / c->speed[0]);
-    if (c->interp == POST_INTERP_LIN)
-        return post_pchip_eval(c->n, c->knot, c->value, c->slope, v);
-    double y = post_pchip_eval(c->n, c->knot, c->value, c->slope, log(v));
-    return c->interp == POST_INTERP_LOGLOG ? exp(y) : y;
+    if (c->interp == DESIGN_INTERP_LIN)
+        return design_pchip_eval(c->n, c->knot, c->value, c->slope, v);
+    double y = design_pchip_eval(c->n, c->knot, c->value, c->slope, log(v));
+    return c->interp == DESIGN_INTERP_LOGLOG ? exp(y) : y;
 }
 
 /* ------------------------------------------------------------------------ */
 /* 3. Stopping                                                               */
 /* ------------------------------------------------------------------------ */
 
-void post_stop_defaults(post_stop_input *in)
+void design_stop_defaults(design_stop_input *in)
 {
     if (in == NULL)
         return;
@@ -267,7 +264,7 @@ void post_stop_defaults(post_stop_input *in)
     in->mass = 1.0;
 }
 
-void post_stop_result_free(post_stop_result *res)
+void design_stop_result_free(design_stop_result *res)
 {
     if (res == NULL)
         return;
@@ -285,7 +282,7 @@ typedef struct {
 static void gauss_rule_init(gauss_rule *g)
 {
     for (int i = 0; i < GL_N; i++) {
-        double z = cos(M_PI * (i + 0.75) / (GL_N + 0.5)), dp = 1.0;
+        double z = cos(EDDY_PI * (i + 0.75) / (GL_N + 0.5)), dp = 1.0;
         for (int it = 0; it < 100; it++) {
             double p0 = 1.0, p1 = z;
             for (int j = 2; j <= GL_N; j++) {
@@ -313,7 +310,7 @@ static void gauss_rule_init(gauss_rule *g)
 }
 
 typedef struct {
-    const post_force_curve *curve;
+    const design_force_curve *curve;
     double mass, extra, rel_tol;
     gauss_rule g;
     int evaluations;
@@ -323,7 +320,7 @@ typedef struct {
  * m / F_tot, [2] brake energy m v F / F_tot. */
 static void integrands(const stop_ctx *s, double v, double f[3])
 {
-    double fb = post_force_curve_eval(s->curve, v);
+    double fb = design_force_curve_eval(s->curve, v);
     double ft = fb + s->extra;
     f[0] = s->mass * v / ft;
     f[1] = s->mass / ft;
@@ -377,7 +374,7 @@ static int adapt(stop_ctx *s, double a, double b, const double whole[3], int dep
 /* Integrals over [a, b], split at the table speeds inside (a, b). */
 static int integrate_split(stop_ctx *s, double a, double b, double q[3])
 {
-    const post_force_curve *c = s->curve;
+    const design_force_curve *c = s->curve;
     q[0] = q[1] = q[2] = 0.0;
     if (!(b > a))
         return 0;
@@ -401,7 +398,7 @@ static int integrate_split(stop_ctx *s, double a, double b, double q[3])
 }
 
 static eddy_status check_stop_input(int n, const double *speed, const double *force,
-                                    const post_stop_input *in, eddy_error *err)
+                                    const design_stop_input *in, eddy_error *err)
 {
     eddy_status st = check_table(n, speed, force, err);
     if (st != EDDY_OK)
@@ -449,12 +446,12 @@ static eddy_status check_stop_input(int n, const double *speed, const double *fo
     return EDDY_OK;
 }
 
-eddy_status post_stop_compute(int n, const double *speed, const double *force,
-                              const post_stop_input *in, post_stop_result *res,
+eddy_status design_stop_compute(int n, const double *speed, const double *force,
+                              const design_stop_input *in, design_stop_result *res,
                               eddy_error *err)
 {
     eddy_status st;
-    post_force_curve *curve = NULL;
+    design_force_curve *curve = NULL;
     stop_ctx s;
     if (res == NULL)
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "stop: NULL result");
@@ -462,7 +459,7 @@ eddy_status post_stop_compute(int n, const double *speed, const double *force,
     st = check_stop_input(n, speed, force, in, err);
     if (st != EDDY_OK)
         return st;
-    st = post_force_curve_build(n, speed, force, in->interp, &curve, err);
+    st = design_force_curve_build(n, speed, force, in->interp, &curve, err);
     if (st != EDDY_OK)
         return st;
 
@@ -479,7 +476,7 @@ eddy_status post_stop_compute(int n, const double *speed, const double *force,
     if (ns > 0) {
         block = malloc(4 * (size_t)ns * sizeof *block);
         if (block == NULL) {
-            post_force_curve_free(curve);
+            design_force_curve_free(curve);
             return EDDY_RAISE(err, EDDY_ERR_NOMEM, "stop: out of memory for %d samples", ns);
         }
         res->s_speed = block;
@@ -498,14 +495,14 @@ eddy_status post_stop_compute(int n, const double *speed, const double *force,
         res->s_speed[0] = v0;
         res->s_distance[0] = 0.0;
         res->s_time[0] = 0.0;
-        res->s_decel[0] = (post_force_curve_eval(curve, v0) + s.extra) / s.mass;
+        res->s_decel[0] = (design_force_curve_eval(curve, v0) + s.extra) / s.mass;
     }
     for (int j = 1; j <= nseg; j++) {
         double v_lo = (j == nseg) ? v1 : v0 - (double)j * (v0 - v1) / (double)nseg;
         double q[3];
         if (integrate_split(&s, v_lo, v_hi, q) != 0) {
-            post_force_curve_free(curve);
-            post_stop_result_free(res);
+            design_force_curve_free(curve);
+            design_stop_result_free(res);
             return EDDY_RAISE(err, EDDY_ERR_NUMERIC,
                               "stop: the quadrature did not reach rel_tol = %g between %g and %g m/s",
                               s.rel_tol, v_lo, v_hi);
@@ -516,14 +513,14 @@ eddy_status post_stop_compute(int n, const double *speed, const double *force,
             res->s_speed[j] = v_lo;
             res->s_distance[j] = tot[0];
             res->s_time[j] = tot[1];
-            res->s_decel[j] = (post_force_curve_eval(curve, v_lo) + s.extra) / s.mass;
+            res->s_decel[j] = (design_force_curve_eval(curve, v_lo) + s.extra) / s.mass;
         }
         v_hi = v_lo;
     }
 
     /* Peak deceleration: ends and table speeds in between. */
-    double f_peak = post_force_curve_eval(curve, v0), v_peak = v0;
-    double f1 = post_force_curve_eval(curve, v1);
+    double f_peak = design_force_curve_eval(curve, v0), v_peak = v0;
+    double f1 = design_force_curve_eval(curve, v1);
     if (f1 > f_peak) {
         f_peak = f1;
         v_peak = v1;
@@ -538,15 +535,15 @@ eddy_status post_stop_compute(int n, const double *speed, const double *force,
     res->time = tot[1];
     res->brake_energy = tot[2];
     res->peak_decel = (f_peak + s.extra) / s.mass;
-    res->peak_decel_g = res->peak_decel / POST_STANDARD_GRAVITY;
+    res->peak_decel_g = res->peak_decel / DESIGN_STANDARD_GRAVITY;
     res->speed_at_peak = v_peak;
     res->kinetic_energy = 0.5 * s.mass * (v0 - v1) * (v0 + v1);
     res->extra_work = s.extra * res->distance;
-    post_force_curve_free(curve);
+    design_force_curve_free(curve);
 
     if (!isfinite(res->distance) || !isfinite(res->time) || !isfinite(res->brake_energy) ||
         !isfinite(res->peak_decel)) {
-        post_stop_result_free(res);
+        design_stop_result_free(res);
         return EDDY_RAISE(err, EDDY_ERR_NUMERIC, "stop: non-finite result (distance %g m, time %g s)",
                           res->distance, res->time);
     }
@@ -555,8 +552,8 @@ eddy_status post_stop_compute(int n, const double *speed, const double *force,
 
 /* Stop with the sub-table of the indices i0, i0 + 2, ... (plus 0 and n-1). */
 static eddy_status stop_subtable(int n, const double *speed, const double *force,
-                                 const post_stop_input *in, int i0, double *sv, double *sf,
-                                 post_stop_result *res, eddy_error *err)
+                                 const design_stop_input *in, int i0, double *sv, double *sf,
+                                 design_stop_result *res, eddy_error *err)
 {
     int m = 0;
     if (i0 != 0) {
@@ -571,16 +568,16 @@ static eddy_status stop_subtable(int n, const double *speed, const double *force
         sv[m] = speed[n - 1];
         sf[m++] = force[n - 1];
     }
-    return post_stop_compute(m, sv, sf, in, res, err);
+    return design_stop_compute(m, sv, sf, in, res, err);
 }
 
-eddy_status post_stop_table_change(int n, const double *speed, const double *force,
-                                   const post_stop_input *in, double *rel_change_distance,
+eddy_status design_stop_table_change(int n, const double *speed, const double *force,
+                                   const design_stop_input *in, double *rel_change_distance,
                                    double *rel_change_time, eddy_error *err)
 {
     eddy_status st;
-    post_stop_input one;
-    post_stop_result full, half;
+    design_stop_input one;
+    design_stop_result full, half;
     double dx = 0.0, dt = 0.0;
     if (n < 3)
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "table check: need at least 3 speeds, got %d", n);
@@ -589,7 +586,7 @@ eddy_status post_stop_table_change(int n, const double *speed, const double *for
         return st;
     one = *in;
     one.n_samples = 0;
-    st = post_stop_compute(n, speed, force, &one, &full, err);
+    st = design_stop_compute(n, speed, force, &one, &full, err);
     if (st != EDDY_OK)
         return st;
     double *sv = malloc(2 * (size_t)(n + 2) * sizeof *sv);
@@ -626,7 +623,7 @@ static int positive(double a)
     return isfinite(a) && a > 0.0;
 }
 
-eddy_status post_heating_rate(double loss, double area, double density, double heat_capacity,
+eddy_status design_heating_rate(double loss, double area, double density, double heat_capacity,
                               double *dtemp_dt, eddy_error *err)
 {
     if (dtemp_dt == NULL)
@@ -641,7 +638,7 @@ eddy_status post_heating_rate(double loss, double area, double density, double h
     return EDDY_OK;
 }
 
-eddy_status post_heating_per_pass(double loss, double thickness, double speed, double density,
+eddy_status design_heating_per_pass(double loss, double thickness, double speed, double density,
                                   double heat_capacity, double *dtemp, eddy_error *err)
 {
     if (dtemp == NULL)
@@ -658,7 +655,7 @@ eddy_status post_heating_per_pass(double loss, double thickness, double speed, d
     return EDDY_OK;
 }
 
-eddy_status post_stop_temperature_rise(double energy, double mass, double heat_capacity,
+eddy_status design_stop_temperature_rise(double energy, double mass, double heat_capacity,
                                        double *dtemp, eddy_error *err)
 {
     if (dtemp == NULL)
@@ -674,7 +671,7 @@ eddy_status post_stop_temperature_rise(double energy, double mass, double heat_c
     return EDDY_OK;
 }
 
-eddy_status post_sigma_at_temperature(double sigma_20, double alpha, double temp_c,
+eddy_status design_sigma_at_temperature(double sigma_20, double alpha, double temp_c,
                                       double *sigma, eddy_error *err)
 {
     if (sigma == NULL)
@@ -719,7 +716,7 @@ static double p_minus_tanh(double p)
     return p - tanh(p);
 }
 
-eddy_status post_end_effect_factor(double active_width, double plate_width, double pole_pitch,
+eddy_status design_end_effect_factor(double active_width, double plate_width, double pole_pitch,
                                    double *factor, eddy_error *err)
 {
     if (factor == NULL)
@@ -732,8 +729,8 @@ eddy_status post_end_effect_factor(double active_width, double plate_width, doub
         return EDDY_RAISE(err, EDDY_ERR_INPUT,
                           "end-effect factor: plate width %g m is narrower than the active (magnet) "
                           "width %g m", plate_width, active_width);
-    double p = M_PI * active_width / (2.0 * pole_pitch);
-    double q = M_PI * (plate_width - active_width) / (2.0 * pole_pitch);
+    double p = EDDY_PI * active_width / (2.0 * pole_pitch);
+    double q = EDDY_PI * (plate_width - active_width) / (2.0 * pole_pitch);
     double tp = tanh(p), tq = tanh(q);
     double den = 1.0 + tp * tq;
     *factor = (p_minus_tanh(p) + p * tp * tq) / (p * den);
@@ -744,17 +741,17 @@ eddy_status post_end_effect_factor(double active_width, double plate_width, doub
 /* 6. Disc brakes                                                            */
 /* ------------------------------------------------------------------------ */
 
-double post_disc_speed(double radius, double rpm)
+double design_disc_speed(double radius, double rpm)
 {
-    return 2.0 * M_PI * radius * rpm / 60.0;
+    return 2.0 * EDDY_PI * radius * rpm / 60.0;
 }
 
-double post_disc_torque(double force, double radius)
+double design_disc_torque(double force, double radius)
 {
     return force * radius;
 }
 
-double post_brake_power(double force, double speed)
+double design_brake_power(double force, double speed)
 {
     return force * speed;
 }

@@ -1,5 +1,5 @@
 /*
- * cli.c - the eddy2d command-line front end: the only place that prints to
+ * app_main.c - the eddy2d command-line front end: the only place that prints to
  * the user or chooses an exit status.  It calls the three modules in turn:
  * mesh (case -> grid), solver (grid -> A per speed), post (A -> forces,
  * reports).
@@ -14,11 +14,11 @@
 #include <unistd.h>
 
 #include "mesh/mesh.h"
-#include "post/post.h"
+#include "app/app.h"
 #include "solver/sol.h"
 
-/* The batch command (post/cli_batch.c). */
-int cli_batch(int argc, char **argv);
+/* The batch command (post/app_batch_main.c). */
+int app_batch_main(int argc, char **argv);
 
 
 static void usage(FILE *out)
@@ -137,7 +137,7 @@ static int cmd_export(const char *path, const char *dir)
     if (s == EDDY_OK)
         s = sol_system_alloc(g, &sys, &err);
     if (s == EDDY_OK)
-        s = post_make_dir(dir, &err);
+        s = eddy_make_dir(dir, &err);
     for (int k = 0; s == EDDY_OK && k < c->nspeed; k++) {
         char mp[4200], rp[4200];
         snprintf(mp, sizeof mp, "%s/matrix_%02d_%.6gmps.mtx", dir, k, c->speeds[k]);
@@ -158,7 +158,7 @@ static void progress_line(void *ctx, int k, int n, const post_forces *f)
         fprintf(stderr, "\n");
 }
 
-static void print_table(const post_report *r)
+static void print_table(const app_report *r)
 {
     int ref = r->ref_drag != NULL && r->g != NULL;
     printf("%12s %14s %14s %14s %14s %10s%s\n", "speed m/s", "drag N/m", "normal N/m", "loss W/m",
@@ -173,34 +173,34 @@ static void print_table(const post_report *r)
     }
 }
 
-static int cmd_solve(const char *path, int reference_only, const post_run_opts *o, int quiet)
+static int cmd_solve(const char *path, int reference_only, const app_run_opts *o, int quiet)
 {
     eddy_error err = {0};
-    post_report *r = NULL;
-    eddy_status s = reference_only ? post_run_reference(path, o, &r, &err)
-                                   : post_run_solve(path, o, &r, &err);
+    app_report *r = NULL;
+    eddy_status s = reference_only ? app_run_reference(path, o, &r, &err)
+                                   : app_run_solve(path, o, &r, &err);
     if (r != NULL && r->c != NULL)
         print_warnings(r->c);
     if (s != EDDY_OK) {
         /* a case that cannot be read is the user's input problem */
         int code = (r == NULL || r->c == NULL || s == EDDY_ERR_NOT_APPLICABLE) ? 2 : 0;
-        post_report_free(r);
+        app_report_free(r);
         int rc = fail(s, &err);
         return code ? code : rc;
     }
     if (!quiet) {
         print_table(r);
-        if (r->ref_state == POST_REF_NOT_APPLICABLE && !reference_only)
+        if (r->ref_state == APP_REF_NOT_APPLICABLE && !reference_only)
             printf("reference: the layered Fourier reference does not fit this case (%s)\n",
                    r->ref_note);
-        else if (r->ref_state == POST_REF_APPROXIMATE || r->ref_state == POST_REF_OK ||
-                 r->ref_state == POST_REF_FAILED)
+        else if (r->ref_state == APP_REF_APPROXIMATE || r->ref_state == APP_REF_OK ||
+                 r->ref_state == APP_REF_FAILED)
             printf("reference: %s\n", r->ref_note);
         printf("results in %s/ (result.json, forces.csv%s%s)\n", r->outdir,
                o->images ? ", pictures" : "", o->vtk && r->g != NULL ? ", .vtr fields" : "");
-        printf("note: %s\n", post_safety_notice());
+        printf("note: %s\n", app_safety_notice());
     }
-    post_report_free(r);
+    app_report_free(r);
     return 0;
 }
 
@@ -222,7 +222,7 @@ int main(int argc, char **argv)
     if (strcmp(cmd, "materials") == 0)
         return cmd_materials();
     if (strcmp(cmd, "batch") == 0)
-        return cli_batch(argc - 2, argv + 2);
+        return app_batch_main(argc - 2, argv + 2);
     if (strcmp(cmd, "solve") != 0 && strcmp(cmd, "check") != 0 &&
         strcmp(cmd, "reference") != 0) {
         fprintf(stderr, "eddy2d: error: unknown command \"%s\" (try eddy2d --help)\n", cmd);
@@ -230,8 +230,8 @@ int main(int argc, char **argv)
     }
     const char *casefile = NULL, *export_dir = NULL;
     int quiet = 0;
-    post_run_opts opts;
-    post_run_opts_defaults(&opts);
+    app_run_opts opts;
+    app_run_opts_defaults(&opts);
     for (int k = 2; k < argc; k++) {
         if (strcmp(argv[k], "-o") == 0 && k + 1 < argc && strcmp(cmd, "check") != 0) {
             opts.outdir = argv[++k];

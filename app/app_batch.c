@@ -1,22 +1,22 @@
 /*
- * post_batch.c - the library side of `eddy2d batch`: case discovery, variant
+ * app_batch.c - the library side of `eddy2d batch`: case discovery, variant
  * expansion, content hashes, resume decisions, per-case status files and
  * the batch summary (CSV, JSON, HTML).
  *
  * Layout of a batch folder OUT:
  *   OUT/batch.json              the plan: every case, its source and variant values
  *   OUT/<case>/case.json        the expanded case exactly as solved (input snapshot)
- *   OUT/<case>/result.json ...  the outputs of post_run_solve
+ *   OUT/<case>/result.json ...  the outputs of app_run_solve
  *   OUT/<case>/input.hash       completion marker, written after result.json
  *   OUT/<case>/error.json       a failed case: status, message, seconds
  *   OUT/summary.{csv,json,html} one row per case and speed
  *   OUT/batch.sbatch, summary.sbatch, submit.sh, slurm/   with --slurm
- * Every file is written to a temporary name and renamed (post_write_atomic).
+ * Every file is written to a temporary name and renamed (eddy_write_atomic).
  *
- * Nothing here prints, forks or exits; the front end (post/cli_batch.c)
+ * Nothing here prints, forks or exits; the front end (post/app_batch_main.c)
  * runs the cases.
  */
-#include "post/post.h"
+#include "app/app.h"
 
 #include <cJSON.h>
 #include <dirent.h>
@@ -40,7 +40,7 @@
 /* Small helpers                                                             */
 /* ------------------------------------------------------------------------ */
 
-uint64_t post_fnv1a64(const void *data, size_t size, uint64_t h)
+uint64_t app_fnv1a64(const void *data, size_t size, uint64_t h)
 {
     const unsigned char *p = data;
     for (size_t k = 0; k < size; k++) {
@@ -48,71 +48,6 @@ uint64_t post_fnv1a64(const void *data, size_t size, uint64_t h)
         h *= 0x100000001b3ULL; /* the 64-bit FNV prime, 2^40 + 2^8 + 0xb3 */
     }
     return h;
-}
-
-/* Growable text buffer; after an allocation failure it stays failed. */
-typedef struct {
-    char *p;
-    size_t len, cap;
-    int oom;
-} sbuf;
-
-static void sb_put(sbuf *b, const char *s, size_t n)
-{
-    if (b->oom)
-        return;
-    if (b->len + n + 1 > b->cap) {
-        size_t cap = b->cap ? b->cap : 1024;
-        while (cap < b->len + n + 1)
-            cap *= 2;
-        char *q = realloc(b->p, cap);
-        if (q == NULL) {
-            b->oom = 1;
-            return;
-        }
-        b->p = q;
-        b->cap = cap;
-    }
-    memcpy(b->p + b->len, s, n);
-    b->len += n;
-    b->p[b->len] = '\0';
-}
-
-static void sb_str(sbuf *b, const char *s)
-{
-    sb_put(b, s, strlen(s));
-}
-
-static void sb_printf(sbuf *b, const char *fmt, ...)
-#if defined(__GNUC__)
-    __attribute__((format(printf, 2, 3)))
-#endif
-    ;
-static void sb_printf(sbuf *b, const char *fmt, ...)
-{
-    char small[512];
-    va_list ap;
-    va_start(ap, fmt);
-    int n = vsnprintf(small, sizeof small, fmt, ap);
-    va_end(ap);
-    if (n < 0) {
-        b->oom = 1;
-        return;
-    }
-    if ((size_t)n < sizeof small) {
-        sb_put(b, small, (size_t)n);
-        return;
-    }
-    char *big = malloc((size_t)n + 1);
-    if (big == NULL) {
-        b->oom = 1;
-        return;
-    }
-    va_start(ap, fmt);
-    vsnprintf(big, (size_t)n + 1, fmt, ap);
-    va_end(ap);
-    sb_put(b, big, (size_t)n);
-    free(big);
 }
 
 static char *dup_str(const char *s)
@@ -130,66 +65,6 @@ static int name_char(char ch)
            ch == '-' || ch == '.';
 }
 
-/* A case's default name from its file name, as mesh_case_parse makes it:
- * the stem up to the first '.', other characters than [A-Za-z0-9_-] as '_'. */
-static void name_from_path(const char *fname, char *name, size_t size)
-{
-    const char *base = strrchr(fname, '/');
-    base = base != NULL ? base + 1 : fname;
-    size_t k = 0;
-    for (; base[k] != '\0' && base[k] != '.' && k + 1 < size; k++)
-        name[k] = (name_char(base[k]) && base[k] != '.') || base[k] == '_' ? base[k] : '_';
-    name[k] = '\0';
-    if (k == 0)
-        snprintf(name, size, "case");
-}
-
-/* Read a whole file as NUL-terminated text (at most max bytes). */
-static eddy_status read_text(const char *path, long max, char **out, size_t *len,
-                             eddy_error *err)
-{
-    *out = NULL;
-    FILE *f = fopen(path, "rb");
-    if (f == NULL)
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot open: %s", path, strerror(errno));
-    sbuf b = {0};
-    char chunk[65536];
-    size_t n;
-    while ((n = fread(chunk, 1, sizeof chunk, f)) > 0) {
-        sb_put(&b, chunk, n);
-        if (b.oom || b.len > (size_t)max)
-            break;
-    }
-    int failed = ferror(f);
-    fclose(f);
-    if (b.oom) {
-        free(b.p);
-        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory reading %s", path);
-    }
-    if (failed) {
-        free(b.p);
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: read error", path);
-    }
-    if (b.len > (size_t)max) {
-        free(b.p);
-        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: larger than %ld bytes", path, max);
-    }
-    if (b.p == NULL) { /* empty file */
-        b.p = malloc(1);
-        if (b.p == NULL)
-            return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory reading %s", path);
-        b.p[0] = '\0';
-    }
-    if (strlen(b.p) != b.len) {
-        free(b.p);
-        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: contains a NUL byte; not a JSON text", path);
-    }
-    *out = b.p;
-    if (len != NULL)
-        *len = b.len;
-    return EDDY_OK;
-}
-
 /* 1 if path holds exactly data (size bytes). */
 static int same_content(const char *path, const char *data, size_t size)
 {
@@ -198,7 +73,7 @@ static int same_content(const char *path, const char *data, size_t size)
         return 0;
     char *old = NULL;
     size_t len = 0;
-    if (read_text(path, (long)size + 1, &old, &len, NULL) != EDDY_OK)
+    if (eddy_read_file(path, (long)size + 1, &old, &len, NULL) != EDDY_OK)
         return 0;
     int same = len == size && memcmp(old, data, size) == 0;
     free(old);
@@ -220,25 +95,25 @@ static eddy_status remove_file(const char *path, eddy_error *err)
     return EDDY_OK;
 }
 
-const char *post_case_state_name(post_case_state s)
+const char *app_case_state_name(app_case_state s)
 {
     switch (s) {
-    case POST_CASE_NOT_RUN: return "not run";
-    case POST_CASE_OK: return "ok";
-    case POST_CASE_INVALID: return "invalid";
-    case POST_CASE_FAILED: return "failed";
-    case POST_CASE_TIMEOUT: return "timeout";
-    case POST_CASE_CRASHED: return "crashed";
+    case APP_CASE_NOT_RUN: return "not run";
+    case APP_CASE_OK: return "ok";
+    case APP_CASE_INVALID: return "invalid";
+    case APP_CASE_FAILED: return "failed";
+    case APP_CASE_TIMEOUT: return "timeout";
+    case APP_CASE_CRASHED: return "crashed";
     }
     return "unknown";
 }
 
-static post_case_state state_from_name(const char *s)
+static app_case_state state_from_name(const char *s)
 {
-    for (int k = POST_CASE_NOT_RUN; k <= POST_CASE_CRASHED; k++)
-        if (strcmp(s, post_case_state_name((post_case_state)k)) == 0)
-            return (post_case_state)k;
-    return POST_CASE_FAILED;
+    for (int k = APP_CASE_NOT_RUN; k <= APP_CASE_CRASHED; k++)
+        if (strcmp(s, app_case_state_name((app_case_state)k)) == 0)
+            return (app_case_state)k;
+    return APP_CASE_FAILED;
 }
 
 /* ------------------------------------------------------------------------ */
@@ -432,7 +307,7 @@ static int value_label(const cJSON *v, char *out, size_t size)
 /* Expansion of one case file                                                */
 /* ------------------------------------------------------------------------ */
 
-static void case_clear(post_batch_case *c)
+static void case_clear(app_batch_case *c)
 {
     free(c->source);
     free(c->text);
@@ -446,7 +321,7 @@ static void case_clear(post_batch_case *c)
     memset(c, 0, sizeof *c);
 }
 
-void post_batch_cases_free(post_batch_case *cases, int n)
+void app_batch_cases_free(app_batch_case *cases, int n)
 {
     if (cases == NULL)
         return;
@@ -460,8 +335,8 @@ static void case_hash(const char *text, int images, char out[17])
 {
     char head[128];
     int n = snprintf(head, sizeof head, "eddy2d %s\nimages=%d\n", EDDY_VERSION, images ? 1 : 0);
-    uint64_t h = post_fnv1a64(head, (size_t)n, POST_FNV1A64_BASIS);
-    h = post_fnv1a64(text, strlen(text), h);
+    uint64_t h = app_fnv1a64(head, (size_t)n, APP_FNV1A64_BASIS);
+    h = app_fnv1a64(text, strlen(text), h);
     snprintf(out, 17, "%016llx", (unsigned long long)h);
 }
 
@@ -496,7 +371,7 @@ static int find_nonfinite(const cJSON *x, char *path, size_t size, size_t len)
 }
 
 /* Validate an expanded case with the case reader; record the outcome. */
-static eddy_status validate_case(post_batch_case *c)
+static eddy_status validate_case(app_batch_case *c)
 {
     char label[4200];
     if (c->nvalue > 0)
@@ -524,10 +399,10 @@ static eddy_status validate_case(post_batch_case *c)
         return EDDY_OK;
     }
     if (mc->nwarn > 0) {
-        sbuf b = {0};
+        eddy_text b = {0};
         for (int k = 0; k < mc->nwarn; k++) {
-            sb_str(&b, mc->warnings[k]);
-            sb_str(&b, "\n");
+            eddy_text_str(&b, mc->warnings[k]);
+            eddy_text_str(&b, "\n");
         }
         if (b.oom) {
             free(b.p);
@@ -589,10 +464,10 @@ static void make_labels(vkey *keys, int nkey)
 
 /* Build the names of all combinations; 0 if they must fall back to vNNN. */
 static int variant_names(const char *base, vkey *keys, int nkey, long total,
-                         char (*names)[POST_BATCH_NAME_MAX])
+                         char (*names)[APP_BATCH_NAME_MAX])
 {
     for (long t = 0; t < total; t++) {
-        char name[POST_BATCH_NAME_MAX * 2];
+        char name[APP_BATCH_NAME_MAX * 2];
         size_t len = (size_t)snprintf(name, sizeof name, "%s", base);
         long rest = t;
         long stride = total;
@@ -600,7 +475,7 @@ static int variant_names(const char *base, vkey *keys, int nkey, long total,
             stride /= keys[k].n;
             int idx = (int)(rest / stride);
             rest %= stride;
-            char lab[POST_BATCH_NAME_MAX * 2], val[POST_BATCH_NAME_MAX * 2];
+            char lab[APP_BATCH_NAME_MAX * 2], val[APP_BATCH_NAME_MAX * 2];
             if (value_label(cJSON_GetArrayItem(keys[k].values, idx), val, sizeof val) != 1)
                 return 0;
             int m = snprintf(lab, sizeof lab, "%s", keys[k].path + keys[k].label_from);
@@ -614,7 +489,7 @@ static int variant_names(const char *base, vkey *keys, int nkey, long total,
                 return 0;
             len += (size_t)w;
         }
-        if (len >= POST_BATCH_NAME_MAX || !mesh_name_is_safe(name))
+        if (len >= APP_BATCH_NAME_MAX || !mesh_name_is_safe(name))
             return 0;
         memcpy(names[t], name, len + 1);
     }
@@ -636,8 +511,8 @@ static int variant_names(const char *base, vkey *keys, int nkey, long total,
         goto done;                                                                             \
     } while (0)
 
-eddy_status post_batch_expand(const char *text, const char *source, int images,
-                              post_batch_case **cases, int *ncase, eddy_error *err)
+eddy_status app_batch_expand(const char *text, const char *source, int images,
+                              app_batch_case **cases, int *ncase, eddy_error *err)
 {
     *cases = NULL;
     *ncase = 0;
@@ -647,8 +522,8 @@ eddy_status post_batch_expand(const char *text, const char *source, int images,
     cJSON *root = NULL, *base = NULL;
     vkey *keys = NULL;
     int nkey = 0;
-    char (*names)[POST_BATCH_NAME_MAX] = NULL;
-    post_batch_case *out = NULL;
+    char (*names)[APP_BATCH_NAME_MAX] = NULL;
+    app_batch_case *out = NULL;
     long total = 1;
 
     const char *end = NULL;
@@ -662,7 +537,7 @@ eddy_status post_batch_expand(const char *text, const char *source, int images,
     if (find_nonfinite(root, where, sizeof where, 0))
         FAIL_INPUT("%s: %s: must be a finite number", source, where[0] ? where : "(top level)");
     /* the base name */
-    char basename[POST_BATCH_NAME_MAX];
+    char basename[APP_BATCH_NAME_MAX];
     const cJSON *nm = cJSON_GetObjectItemCaseSensitive(root, "name");
     if (nm != NULL) {
         if (!cJSON_IsString(nm) || nm->valuestring == NULL || !mesh_name_is_safe(nm->valuestring))
@@ -671,7 +546,7 @@ eddy_status post_batch_expand(const char *text, const char *source, int images,
                        source);
         snprintf(basename, sizeof basename, "%s", nm->valuestring);
     } else {
-        name_from_path(source, basename, sizeof basename);
+        eddy_name_from_path(source, basename, sizeof basename);
     }
     /* the case without "variants" and "name": the base of every variant */
     base = cJSON_CreateObject();
@@ -701,8 +576,8 @@ eddy_status post_batch_expand(const char *text, const char *source, int images,
         FAIL_INPUT("%s: variants: must be an object {\"path.to.key\": [value, ...], ...}",
                    source);
     nkey = variants != NULL ? cJSON_GetArraySize(variants) : 0;
-    if (nkey > POST_BATCH_MAX_KEYS)
-        FAIL_INPUT("%s: variants: %d keys, at most %d", source, nkey, POST_BATCH_MAX_KEYS);
+    if (nkey > APP_BATCH_MAX_KEYS)
+        FAIL_INPUT("%s: variants: %d keys, at most %d", source, nkey, APP_BATCH_MAX_KEYS);
     if (nkey > 0) {
         keys = calloc((size_t)nkey, sizeof *keys);
         if (keys == NULL)
@@ -726,17 +601,17 @@ eddy_status post_batch_expand(const char *text, const char *source, int images,
         keys[k].n = cJSON_GetArraySize(e);
         if (keys[k].n == 0)
             FAIL_INPUT("%s: variants.%.300s: must not be empty", source, e->string);
-        if (keys[k].n > POST_BATCH_MAX_VALUES)
+        if (keys[k].n > APP_BATCH_MAX_VALUES)
             FAIL_INPUT("%s: variants.%.300s: %d values, at most %d", source, e->string,
-                       keys[k].n, POST_BATCH_MAX_VALUES);
+                       keys[k].n, APP_BATCH_MAX_VALUES);
         cJSON *parent = NULL, *item = NULL;
         char why[768];
         if (resolve_path(base, e->string, &parent, &item, why, sizeof why) != 0)
             FAIL_INPUT("%s: variants.%.300s: %s", source, e->string, why);
         total *= keys[k].n;
-        if (total > POST_BATCH_MAX_VARIANTS)
+        if (total > APP_BATCH_MAX_VARIANTS)
             FAIL_INPUT("%s: variants: more than %d combinations", source,
-                       POST_BATCH_MAX_VARIANTS);
+                       APP_BATCH_MAX_VARIANTS);
     }
     /* no two paths may name the same value or one inside another */
     for (int a = 0; a < nkey; a++)
@@ -768,13 +643,13 @@ eddy_status post_batch_expand(const char *text, const char *source, int images,
             char tail[32];
             int tl = snprintf(tail, sizeof tail, "__v%0*ld", width, t + 1);
             int keep = (int)strlen(basename);
-            if (keep + tl >= POST_BATCH_NAME_MAX)
-                keep = POST_BATCH_NAME_MAX - 1 - tl;
+            if (keep + tl >= APP_BATCH_NAME_MAX)
+                keep = APP_BATCH_NAME_MAX - 1 - tl;
             snprintf(names[t], sizeof names[t], "%.*s%s", keep, basename, tail);
         }
     }
     for (long t = 0; t < total; t++) {
-        post_batch_case *c = &out[t];
+        app_batch_case *c = &out[t];
         snprintf(c->name, sizeof c->name, "%s", names[t]);
         c->source = dup_str(source);
         if (c->source == NULL)
@@ -842,7 +717,7 @@ done:
     cJSON_Delete(base);
     cJSON_Delete(root);
     if (s != EDDY_OK) {
-        post_batch_cases_free(out, out != NULL ? (int)total : 0);
+        app_batch_cases_free(out, out != NULL ? (int)total : 0);
         return s;
     }
     *cases = out;
@@ -854,11 +729,11 @@ done:
 /* The plan                                                                  */
 /* ------------------------------------------------------------------------ */
 
-void post_batch_plan_free(post_batch_plan *p)
+void app_batch_plan_free(app_batch_plan *p)
 {
     if (p == NULL)
         return;
-    post_batch_cases_free(p->cases, p->ncase);
+    app_batch_cases_free(p->cases, p->ncase);
     for (int k = 0; k < p->nkey; k++)
         free(p->keys[k]);
     free(p->keys);
@@ -895,7 +770,7 @@ static eddy_status list_add(char ***list, int *n, int *cap, const char *s)
     return EDDY_OK;
 }
 
-eddy_status post_batch_collect(int nargs, const char *const *args, char ***files, int *nfiles,
+eddy_status app_batch_collect(int nargs, const char *const *args, char ***files, int *nfiles,
                                eddy_error *err)
 {
     *files = NULL;
@@ -974,9 +849,9 @@ static int reserved_name(const char *name)
 /* One invalid case for a source that cannot be read or expanded. */
 static eddy_status invalid_source(const char *path, const char *text, size_t len,
                                   eddy_status why, const char *msg, int images,
-                                  post_batch_case **cases, int *ncase)
+                                  app_batch_case **cases, int *ncase)
 {
-    post_batch_case *c = calloc(1, sizeof *c);
+    app_batch_case *c = calloc(1, sizeof *c);
     if (c == NULL)
         return EDDY_ERR_NOMEM;
     c->source = dup_str(path);
@@ -995,32 +870,32 @@ static eddy_status invalid_source(const char *path, const char *text, size_t len
         cJSON_Delete(root);
     }
     if (c->name[0] == '\0')
-        name_from_path(path, c->name, sizeof c->name);
+        eddy_name_from_path(path, c->name, sizeof c->name);
     c->invalid = 1;
     c->error_status = why;
     snprintf(c->error, sizeof c->error, "%s", msg);
     /* the hash of what was read, so a changed file is looked at again */
     char head[64];
     int n = snprintf(head, sizeof head, "invalid\neddy2d %s\n", EDDY_VERSION);
-    uint64_t h = post_fnv1a64(head, (size_t)n, POST_FNV1A64_BASIS);
-    h = text != NULL ? post_fnv1a64(text, len, h) : post_fnv1a64(msg, strlen(msg), h);
-    h = post_fnv1a64(images ? "1" : "0", 1, h);
+    uint64_t h = app_fnv1a64(head, (size_t)n, APP_FNV1A64_BASIS);
+    h = text != NULL ? app_fnv1a64(text, len, h) : app_fnv1a64(msg, strlen(msg), h);
+    h = app_fnv1a64(images ? "1" : "0", 1, h);
     snprintf(c->hash, sizeof c->hash, "%016llx", (unsigned long long)h);
     *cases = c;
     *ncase = 1;
     return EDDY_OK;
 }
 
-eddy_status post_batch_plan_build(int nargs, const char *const *args, int images,
-                                  post_batch_plan **out, eddy_error *err)
+eddy_status app_batch_plan_build(int nargs, const char *const *args, int images,
+                                  app_batch_plan **out, eddy_error *err)
 {
     *out = NULL;
     char **files = NULL;
     int nfiles = 0;
-    eddy_status s = post_batch_collect(nargs, args, &files, &nfiles, err);
+    eddy_status s = app_batch_collect(nargs, args, &files, &nfiles, err);
     if (s != EDDY_OK)
         return s;
-    post_batch_plan *p = calloc(1, sizeof *p);
+    app_batch_plan *p = calloc(1, sizeof *p);
     if (p == NULL) {
         free_list(files, nfiles);
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
@@ -1031,11 +906,11 @@ eddy_status post_batch_plan_build(int nargs, const char *const *args, int images
         char *text = NULL;
         size_t len = 0;
         eddy_error e = {0};
-        post_batch_case *cs = NULL;
+        app_batch_case *cs = NULL;
         int nc = 0;
-        eddy_status r = read_text(files[f], MAX_CASE_BYTES, &text, &len, &e);
+        eddy_status r = eddy_read_file(files[f], MAX_CASE_BYTES, &text, &len, &e);
         if (r == EDDY_OK)
-            r = post_batch_expand(text, files[f], p->images, &cs, &nc, &e);
+            r = app_batch_expand(text, files[f], p->images, &cs, &nc, &e);
         if (r != EDDY_OK && r != EDDY_ERR_NOMEM) {
             /* the reading error as the plain solve words it (e.g. a folder) */
             if (text == NULL) {
@@ -1057,9 +932,9 @@ eddy_status post_batch_plan_build(int nargs, const char *const *args, int images
             int ncap = cap ? 2 * cap : 16;
             while (ncap < p->ncase + nc)
                 ncap *= 2;
-            post_batch_case *q = realloc(p->cases, (size_t)ncap * sizeof *q);
+            app_batch_case *q = realloc(p->cases, (size_t)ncap * sizeof *q);
             if (q == NULL) {
-                post_batch_cases_free(cs, nc);
+                app_batch_cases_free(cs, nc);
                 s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory planning the batch");
                 break;
             }
@@ -1073,7 +948,7 @@ eddy_status post_batch_plan_build(int nargs, const char *const *args, int images
     free_list(files, nfiles);
     /* every case needs its own folder */
     for (int a = 0; a < p->ncase && s == EDDY_OK; a++) {
-        const post_batch_case *c = &p->cases[a];
+        const app_batch_case *c = &p->cases[a];
         if (reserved_name(c->name))
             s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: the case name \"%s\" is the name of a "
                            "file of the batch folder; rename the case", c->source, c->name);
@@ -1105,7 +980,7 @@ eddy_status post_batch_plan_build(int nargs, const char *const *args, int images
                 p->nkey++;
         }
     if (s != EDDY_OK) {
-        post_batch_plan_free(p);
+        app_batch_plan_free(p);
         return s;
     }
     *out = p;
@@ -1113,7 +988,7 @@ eddy_status post_batch_plan_build(int nargs, const char *const *args, int images
 }
 
 /* The value of case c for a variant path, or NULL. */
-static const char *case_value(const post_batch_case *c, const char *path)
+static const char *case_value(const app_batch_case *c, const char *path)
 {
     for (int q = 0; q < c->nvalue; q++)
         if (strcmp(c->paths[q], path) == 0)
@@ -1133,13 +1008,13 @@ static eddy_status write_json(const char *path, cJSON *root, eddy_error *err)
     size_t len = strlen(text);
     eddy_status s = EDDY_OK;
     if (!same_content(path, text, len))
-        s = post_write_atomic(path, text, len, err);
+        s = eddy_write_atomic(path, text, len, err);
     cJSON_free(text);
     return s;
 }
 
 /* Add a variant object {"path": value} for case c; 0 on failure. */
-static int add_variant_object(cJSON *obj, const char *key, const post_batch_case *c)
+static int add_variant_object(cJSON *obj, const char *key, const app_batch_case *c)
 {
     cJSON *v = cJSON_AddObjectToObject(obj, key);
     if (v == NULL)
@@ -1155,7 +1030,7 @@ static int add_variant_object(cJSON *obj, const char *key, const post_batch_case
 }
 
 /* root.variant_keys = the plan's variant paths; 0 on an allocation failure. */
-static int add_variant_keys(cJSON *root, const post_batch_plan *p)
+static int add_variant_keys(cJSON *root, const app_batch_plan *p)
 {
     cJSON *keys = cJSON_AddArrayToObject(root, "variant_keys");
     int ok = keys != NULL;
@@ -1168,14 +1043,14 @@ static int add_variant_keys(cJSON *root, const post_batch_plan *p)
     return ok;
 }
 
-eddy_status post_batch_plan_save(const post_batch_plan *p, const char *outdir, eddy_error *err)
+eddy_status app_batch_plan_save(const app_batch_plan *p, const char *outdir, eddy_error *err)
 {
-    eddy_status s = post_make_dir(outdir, err);
+    eddy_status s = eddy_make_dir(outdir, err);
     if (s != EDDY_OK)
         return s;
     char path[4200];
     for (int k = 0; k < p->ncase && s == EDDY_OK; k++) {
-        const post_batch_case *c = &p->cases[k];
+        const app_batch_case *c = &p->cases[k];
         if (c->invalid)
             continue;
         char dir[4200];
@@ -1185,7 +1060,7 @@ eddy_status post_batch_plan_save(const post_batch_plan *p, const char *outdir, e
         size_t len = strlen(c->text);
         if (same_content(path, c->text, len))
             continue;
-        s = post_make_dir(dir, err);
+        s = eddy_make_dir(dir, err);
         if (s != EDDY_OK)
             break;
         /* a new input: first invalidate any old completion marker */
@@ -1193,7 +1068,7 @@ eddy_status post_batch_plan_save(const post_batch_plan *p, const char *outdir, e
         s = remove_file(path, err);
         join(path, sizeof path, outdir, c->name, "case.json");
         if (s == EDDY_OK)
-            s = post_write_atomic(path, c->text, len, err);
+            s = eddy_write_atomic(path, c->text, len, err);
     }
     if (s != EDDY_OK)
         return s;
@@ -1206,7 +1081,7 @@ eddy_status post_batch_plan_save(const post_batch_plan *p, const char *outdir, e
     cJSON *cases = ok ? cJSON_AddArrayToObject(root, "cases") : NULL;
     ok = cases != NULL;
     for (int k = 0; ok && k < p->ncase; k++) {
-        const post_batch_case *c = &p->cases[k];
+        const app_batch_case *c = &p->cases[k];
         cJSON *o = cJSON_CreateObject();
         ok = o != NULL && cJSON_AddItemToArray(cases, o);
         if (!ok) {
@@ -1231,19 +1106,19 @@ eddy_status post_batch_plan_save(const post_batch_plan *p, const char *outdir, e
     return s;
 }
 
-eddy_status post_batch_plan_load(const char *outdir, post_batch_plan **out, eddy_error *err)
+eddy_status app_batch_plan_load(const char *outdir, app_batch_plan **out, eddy_error *err)
 {
     *out = NULL;
     char path[4200];
     if (!join(path, sizeof path, outdir, "batch.json", NULL))
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: path too long", outdir);
     char *text = NULL;
-    eddy_status s = read_text(path, 1L << 30, &text, NULL, err);
+    eddy_status s = eddy_read_file(path, 1L << 30, &text, NULL, err);
     if (s != EDDY_OK)
         return s == EDDY_ERR_NOMEM ? s : EDDY_ERR_INPUT;
     cJSON *root = cJSON_Parse(text);
     free(text);
-    post_batch_plan *p = NULL;
+    app_batch_plan *p = NULL;
     const cJSON *tool = cJSON_GetObjectItemCaseSensitive(root, "tool");
     const cJSON *cases = cJSON_GetObjectItemCaseSensitive(root, "cases");
     const cJSON *keys = cJSON_GetObjectItemCaseSensitive(root, "variant_keys");
@@ -1278,7 +1153,7 @@ eddy_status post_batch_plan_load(const char *outdir, post_batch_plan **out, eddy
     }
     int k = 0;
     for (const cJSON *e = cases->child; e != NULL; e = e->next, k++) {
-        post_batch_case *c = &p->cases[k];
+        app_batch_case *c = &p->cases[k];
         p->ncase = k + 1;
         const cJSON *nm = cJSON_GetObjectItemCaseSensitive(e, "name");
         const cJSON *src = cJSON_GetObjectItemCaseSensitive(e, "source");
@@ -1328,7 +1203,7 @@ eddy_status post_batch_plan_load(const char *outdir, post_batch_plan **out, eddy
             s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s/%s: path too long", outdir, c->name);
             goto fail;
         }
-        s = read_text(cpath, MAX_CASE_BYTES, &c->text, NULL, err);
+        s = eddy_read_file(cpath, MAX_CASE_BYTES, &c->text, NULL, err);
         if (s != EDDY_OK)
             goto fail;
         char h[17];
@@ -1344,7 +1219,7 @@ eddy_status post_batch_plan_load(const char *outdir, post_batch_plan **out, eddy
     return EDDY_OK;
 fail:
     cJSON_Delete(root);
-    post_batch_plan_free(p);
+    app_batch_plan_free(p);
     return s;
 }
 
@@ -1353,7 +1228,7 @@ fail:
 /* ------------------------------------------------------------------------ */
 
 /* Seconds recorded in input.hash or error.json; NAN if none. */
-static post_case_state disk_state(const char *outdir, const post_batch_case *c, double *seconds,
+static app_case_state disk_state(const char *outdir, const app_batch_case *c, double *seconds,
                                   char *msg, size_t msgsize)
 {
     char path[4200];
@@ -1364,7 +1239,7 @@ static post_case_state disk_state(const char *outdir, const post_batch_case *c, 
     struct stat st;
     if (join(path, sizeof path, outdir, c->name, "result.json") && stat(path, &st) == 0 &&
         S_ISREG(st.st_mode) && join(path, sizeof path, outdir, c->name, HASH_FILE) &&
-        read_text(path, 4096, &text, NULL, NULL) == EDDY_OK) {
+        eddy_read_file(path, 4096, &text, NULL, NULL) == EDDY_OK) {
         char want[64];
         snprintf(want, sizeof want, HASH_TAG " %s\n", c->hash);
         int match = strncmp(text, want, strlen(want)) == 0;
@@ -1375,24 +1250,24 @@ static post_case_state disk_state(const char *outdir, const post_batch_case *c, 
         }
         free(text);
         if (match)
-            return POST_CASE_OK;
+            return APP_CASE_OK;
     }
     text = NULL;
     if (!join(path, sizeof path, outdir, c->name, "error.json") ||
-        read_text(path, 1 << 20, &text, NULL, NULL) != EDDY_OK)
-        return POST_CASE_NOT_RUN;
+        eddy_read_file(path, 1 << 20, &text, NULL, NULL) != EDDY_OK)
+        return APP_CASE_NOT_RUN;
     cJSON *root = cJSON_Parse(text);
     free(text);
     const cJSON *hash = cJSON_GetObjectItemCaseSensitive(root, "hash");
     const cJSON *status = cJSON_GetObjectItemCaseSensitive(root, "status");
     const cJSON *message = cJSON_GetObjectItemCaseSensitive(root, "message");
     const cJSON *secs = cJSON_GetObjectItemCaseSensitive(root, "seconds");
-    post_case_state st_ = POST_CASE_NOT_RUN;
+    app_case_state st_ = APP_CASE_NOT_RUN;
     if (cJSON_IsString(hash) && strcmp(hash->valuestring, c->hash) == 0 &&
         cJSON_IsString(status)) {
         st_ = state_from_name(status->valuestring);
-        if (st_ == POST_CASE_OK || st_ == POST_CASE_NOT_RUN)
-            st_ = POST_CASE_FAILED;
+        if (st_ == APP_CASE_OK || st_ == APP_CASE_NOT_RUN)
+            st_ = APP_CASE_FAILED;
         if (cJSON_IsNumber(secs))
             *seconds = secs->valuedouble;
         if (msg != NULL && cJSON_IsString(message))
@@ -1402,7 +1277,7 @@ static post_case_state disk_state(const char *outdir, const post_batch_case *c, 
     return st_;
 }
 
-post_case_state post_batch_case_state(const char *outdir, const post_batch_case *c)
+app_case_state app_batch_case_state(const char *outdir, const app_batch_case *c)
 {
     double sec;
     return disk_state(outdir, c, &sec, NULL, 0);
@@ -1428,20 +1303,20 @@ static int run_output(const char *f)
 
 /* Create OUTDIR/<case>/ (its path into dir) and remove its completion
  * marker, so that whatever happens next leaves an unfinished case. */
-static eddy_status case_dir_unmark(const char *outdir, const post_batch_case *c, char *dir,
+static eddy_status case_dir_unmark(const char *outdir, const app_batch_case *c, char *dir,
                                    size_t dir_size, eddy_error *err)
 {
     char path[4600];
     if (!join(dir, dir_size, outdir, c->name, NULL))
         return EDDY_RAISE(err, EDDY_ERR_IO, "%s/%s: path too long", outdir, c->name);
-    eddy_status s = post_make_dir(dir, err);
+    eddy_status s = eddy_make_dir(dir, err);
     if (s != EDDY_OK)
         return s;
     snprintf(path, sizeof path, "%s/%s", dir, HASH_FILE);
     return remove_file(path, err);
 }
 
-eddy_status post_batch_case_prepare(const char *outdir, const post_batch_case *c,
+eddy_status app_batch_case_prepare(const char *outdir, const app_batch_case *c,
                                     eddy_error *err)
 {
     char dir[4200], path[4600];
@@ -1465,11 +1340,11 @@ eddy_status post_batch_case_prepare(const char *outdir, const post_batch_case *c
     snprintf(path, sizeof path, "%s/case.json", dir);
     size_t len = strlen(c->text);
     if (!same_content(path, c->text, len))
-        s = post_write_atomic(path, c->text, len, err);
+        s = eddy_write_atomic(path, c->text, len, err);
     return s;
 }
 
-eddy_status post_batch_case_solve(const char *outdir, const post_batch_case *c, int images,
+eddy_status app_batch_case_solve(const char *outdir, const app_batch_case *c, int images,
                                   int threads, eddy_error *err)
 {
     if (c->invalid)
@@ -1479,18 +1354,18 @@ eddy_status post_batch_case_solve(const char *outdir, const post_batch_case *c, 
     if (!join(dir, sizeof dir, outdir, c->name, NULL))
         return EDDY_RAISE(err, EDDY_ERR_IO, "%s/%s: path too long", outdir, c->name);
     snprintf(path, sizeof path, "%s/case.json", dir);
-    post_run_opts o;
-    post_run_opts_defaults(&o);
+    app_run_opts o;
+    app_run_opts_defaults(&o);
     o.outdir = dir;
     o.images = images;
     o.threads = threads;
-    post_report *r = NULL;
-    eddy_status s = post_run_solve(path, &o, &r, err);
-    post_report_free(r);
+    app_report *r = NULL;
+    eddy_status s = app_run_solve(path, &o, &r, err);
+    app_report_free(r);
     return s;
 }
 
-eddy_status post_batch_case_done(const char *outdir, const post_batch_case *c, double seconds,
+eddy_status app_batch_case_done(const char *outdir, const app_batch_case *c, double seconds,
                                  eddy_error *err)
 {
     char path[4200];
@@ -1501,7 +1376,7 @@ eddy_status post_batch_case_done(const char *outdir, const post_batch_case *c, d
         return EDDY_RAISE(err, EDDY_ERR_IO, "%s: missing after the run", path);
     /* whole: a points array with a force at every point, and the notice at the end */
     char *json = NULL;
-    eddy_status s = read_text(path, 1L << 30, &json, NULL, err);
+    eddy_status s = eddy_read_file(path, 1L << 30, &json, NULL, err);
     if (s != EDDY_OK)
         return s;
     cJSON *root = cJSON_Parse(json);
@@ -1525,24 +1400,24 @@ eddy_status post_batch_case_done(const char *outdir, const post_batch_case *c, d
     s = remove_file(path, err);
     join(path, sizeof path, outdir, c->name, HASH_FILE);
     if (s == EDDY_OK)
-        s = post_write_atomic(path, text, (size_t)n, err);
+        s = eddy_write_atomic(path, text, (size_t)n, err);
     return s;
 }
 
-eddy_status post_batch_case_failed(const char *outdir, const post_batch_case *c,
-                                   post_case_state state, const char *message, double seconds,
+eddy_status app_batch_case_failed(const char *outdir, const app_batch_case *c,
+                                   app_case_state state, const char *message, double seconds,
                                    eddy_error *err)
 {
     char dir[4200], path[4400];
     eddy_status s = case_dir_unmark(outdir, c, dir, sizeof dir, err);
     if (s != EDDY_OK)
         return s;
-    if (state == POST_CASE_OK || state == POST_CASE_NOT_RUN)
-        state = POST_CASE_FAILED;
+    if (state == APP_CASE_OK || state == APP_CASE_NOT_RUN)
+        state = APP_CASE_FAILED;
     cJSON *root = cJSON_CreateObject();
     int ok = root != NULL && cJSON_AddStringToObject(root, "case", c->name) != NULL &&
              cJSON_AddStringToObject(root, "source", c->source) != NULL &&
-             cJSON_AddStringToObject(root, "status", post_case_state_name(state)) != NULL &&
+             cJSON_AddStringToObject(root, "status", app_case_state_name(state)) != NULL &&
              cJSON_AddStringToObject(root, "message", message != NULL ? message : "") != NULL &&
              (isfinite(seconds) ? cJSON_AddNumberToObject(root, "seconds", seconds)
                                 : cJSON_AddNullToObject(root, "seconds")) != NULL &&
@@ -1563,7 +1438,7 @@ eddy_status post_batch_case_failed(const char *outdir, const post_batch_case *c,
 /* ------------------------------------------------------------------------ */
 
 typedef struct {
-    post_case_state state;
+    app_case_state state;
     double seconds;
     char error[1024];
     int npoint;
@@ -1601,15 +1476,15 @@ static void png_size(const char *path, int *w, int *h)
     }
 }
 
-static eddy_status load_result(const char *outdir, const post_batch_case *c, case_result *r,
+static eddy_status load_result(const char *outdir, const app_batch_case *c, case_result *r,
                                eddy_error *err)
 {
     memset(r, 0, sizeof *r);
     r->peak_drag = r->peak_speed = NAN;
     r->state = disk_state(outdir, c, &r->seconds, r->error, sizeof r->error);
-    if (r->state != POST_CASE_OK) {
-        if (r->state == POST_CASE_NOT_RUN && c->invalid) { /* planned invalid, not yet recorded */
-            r->state = POST_CASE_INVALID;
+    if (r->state != APP_CASE_OK) {
+        if (r->state == APP_CASE_NOT_RUN && c->invalid) { /* planned invalid, not yet recorded */
+            r->state = APP_CASE_INVALID;
             snprintf(r->error, sizeof r->error, "%s", c->error);
         }
         return EDDY_OK;
@@ -1619,7 +1494,7 @@ static eddy_status load_result(const char *outdir, const post_batch_case *c, cas
     png_size(path, &r->png_w, &r->png_h);
     join(path, sizeof path, outdir, c->name, "result.json");
     char *text = NULL;
-    eddy_status s = read_text(path, 1L << 30, &text, NULL, err);
+    eddy_status s = eddy_read_file(path, 1L << 30, &text, NULL, err);
     if (s != EDDY_OK)
         return s == EDDY_ERR_NOMEM ? s : EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot read", path);
     cJSON *root = cJSON_Parse(text);
@@ -1627,7 +1502,7 @@ static eddy_status load_result(const char *outdir, const post_batch_case *c, cas
     const cJSON *pts = cJSON_GetObjectItemCaseSensitive(root, "points");
     if (!cJSON_IsArray(pts)) {
         cJSON_Delete(root);
-        r->state = POST_CASE_FAILED;
+        r->state = APP_CASE_FAILED;
         snprintf(r->error, sizeof r->error, "%.900s: no points in the result", path);
         return EDDY_OK;
     }
@@ -1656,7 +1531,7 @@ static eddy_status load_result(const char *outdir, const post_batch_case *c, cas
     }
     if (finite) {
         double v = NAN, f = NAN;
-        if (post_force_peak(n, r->speed, r->drag, all_pos, &v, &f, NULL, NULL) == EDDY_OK) {
+        if (design_peak(n, r->speed, r->drag, all_pos, &v, &f, NULL, NULL) == EDDY_OK) {
             r->peak_drag = f;
             r->peak_speed = v;
         }
@@ -1665,58 +1540,58 @@ static eddy_status load_result(const char *outdir, const post_batch_case *c, cas
 }
 
 /* CSV field: quoted when it holds a comma, quote or line break (RFC 4180). */
-static void csv_field(sbuf *b, const char *s)
+static void csv_field(eddy_text *b, const char *s)
 {
     if (strpbrk(s, ",\"\r\n") == NULL) {
-        sb_str(b, s);
+        eddy_text_str(b, s);
         return;
     }
-    sb_str(b, "\"");
+    eddy_text_str(b, "\"");
     for (const char *q = s; *q != '\0'; q++) {
         if (*q == '"')
-            sb_str(b, "\"\"");
+            eddy_text_str(b, "\"\"");
         else
-            sb_put(b, q, 1);
+            eddy_text_put(b, q, 1);
     }
-    sb_str(b, "\"");
+    eddy_text_str(b, "\"");
 }
 
-static void csv_num(sbuf *b, double v)
+static void csv_num(eddy_text *b, double v)
 {
     if (isfinite(v))
-        sb_printf(b, ",%.10g", v);
+        eddy_text_printf(b, ",%.10g", v);
     else
-        sb_str(b, ",");
+        eddy_text_str(b, ",");
 }
 
-static void html_text(sbuf *b, const char *s)
+static void html_text(eddy_text *b, const char *s)
 {
     for (const char *q = s; *q != '\0'; q++) {
         switch (*q) {
-        case '&': sb_str(b, "&amp;"); break;
-        case '<': sb_str(b, "&lt;"); break;
-        case '>': sb_str(b, "&gt;"); break;
-        case '"': sb_str(b, "&quot;"); break;
-        default: sb_put(b, q, 1);
+        case '&': eddy_text_str(b, "&amp;"); break;
+        case '<': eddy_text_str(b, "&lt;"); break;
+        case '>': eddy_text_str(b, "&gt;"); break;
+        case '"': eddy_text_str(b, "&quot;"); break;
+        default: eddy_text_put(b, q, 1);
         }
     }
 }
 
-static void html_num(sbuf *b, double v, const char *cls)
+static void html_num(eddy_text *b, double v, const char *cls)
 {
-    sb_printf(b, "<td class=\"%s\">", cls);
+    eddy_text_printf(b, "<td class=\"%s\">", cls);
     if (isfinite(v))
-        sb_printf(b, "%.5g", v);
+        eddy_text_printf(b, "%.5g", v);
     else
-        sb_str(b, "&ndash;");
-    sb_str(b, "</td>");
+        eddy_text_str(b, "&ndash;");
+    eddy_text_str(b, "</td>");
 }
 
 /* "path=value; path=value" (compact JSON values). */
-static void variant_text(sbuf *b, const post_batch_case *c)
+static void variant_text(eddy_text *b, const app_batch_case *c)
 {
     for (int q = 0; q < c->nvalue; q++)
-        sb_printf(b, "%s%s=%s", q > 0 ? "; " : "", c->paths[q], c->values[q]);
+        eddy_text_printf(b, "%s%s=%s", q > 0 ? "; " : "", c->paths[q], c->values[q]);
 }
 
 static cJSON *json_num_or_null(double v)
@@ -1733,28 +1608,28 @@ static int json_add(cJSON *o, const char *key, cJSON *x)
     return 1;
 }
 
-static eddy_status write_csv(const char *outdir, const post_batch_plan *p,
+static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
                              const case_result *res, eddy_error *err)
 {
-    sbuf b = {0};
-    sb_str(&b, "case,source");
+    eddy_text b = {0};
+    eddy_text_str(&b, "case,source");
     for (int k = 0; k < p->nkey; k++) {
-        sb_str(&b, ",");
+        eddy_text_str(&b, ",");
         csv_field(&b, p->keys[k]);
     }
-    sb_str(&b, ",speed_m_per_s,drag_force_N_per_m,force_y_N_per_m,loss_W_per_m,"
+    eddy_text_str(&b, ",speed_m_per_s,drag_force_N_per_m,force_y_N_per_m,loss_W_per_m,"
                "peak_drag_N_per_m,peak_drag_speed_m_per_s,status,error,seconds\n");
     for (int c = 0; c < p->ncase; c++) {
-        const post_batch_case *pc = &p->cases[c];
+        const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
         int rows = r->npoint > 0 ? r->npoint : 1;
         for (int k = 0; k < rows; k++) {
             csv_field(&b, pc->name);
-            sb_str(&b, ",");
+            eddy_text_str(&b, ",");
             csv_field(&b, pc->source);
             for (int q = 0; q < p->nkey; q++) {
                 const char *v = case_value(pc, p->keys[q]);
-                sb_str(&b, ",");
+                eddy_text_str(&b, ",");
                 csv_field(&b, v != NULL ? v : "");
             }
             int has = k < r->npoint;
@@ -1764,12 +1639,12 @@ static eddy_status write_csv(const char *outdir, const post_batch_plan *p,
             csv_num(&b, has ? r->loss[k] : NAN);
             csv_num(&b, r->peak_drag);
             csv_num(&b, r->peak_speed);
-            sb_str(&b, ",");
-            csv_field(&b, post_case_state_name(r->state));
-            sb_str(&b, ",");
+            eddy_text_str(&b, ",");
+            csv_field(&b, app_case_state_name(r->state));
+            eddy_text_str(&b, ",");
             csv_field(&b, r->error);
             csv_num(&b, r->seconds);
-            sb_str(&b, "\n");
+            eddy_text_str(&b, "\n");
         }
     }
     if (b.oom) {
@@ -1778,13 +1653,13 @@ static eddy_status write_csv(const char *outdir, const post_batch_plan *p,
     }
     char path[4200];
     join(path, sizeof path, outdir, "summary.csv", NULL);
-    eddy_status s = post_write_atomic(path, b.p, b.len, err);
+    eddy_status s = eddy_write_atomic(path, b.p, b.len, err);
     free(b.p);
     return s;
 }
 
-static eddy_status write_summary_json(const char *outdir, const post_batch_plan *p,
-                                      const case_result *res, const post_batch_counts *n,
+static eddy_status write_summary_json(const char *outdir, const app_batch_plan *p,
+                                      const case_result *res, const app_batch_counts *n,
                                       const char *when, eddy_error *err)
 {
     cJSON *root = cJSON_CreateObject();
@@ -1806,7 +1681,7 @@ static eddy_status write_summary_json(const char *outdir, const post_batch_plan 
     cJSON *rows = ok ? cJSON_AddArrayToObject(root, "rows") : NULL;
     ok = rows != NULL;
     for (int c = 0; ok && c < p->ncase; c++) {
-        const post_batch_case *pc = &p->cases[c];
+        const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
         int nrow = r->npoint > 0 ? r->npoint : 1;
         for (int k = 0; ok && k < nrow; k++) {
@@ -1826,13 +1701,13 @@ static eddy_status write_summary_json(const char *outdir, const post_batch_plan 
                  json_add(o, "loss", json_num_or_null(has ? r->loss[k] : NAN)) &&
                  json_add(o, "peak_drag", json_num_or_null(r->peak_drag)) &&
                  json_add(o, "peak_drag_speed", json_num_or_null(r->peak_speed)) &&
-                 cJSON_AddStringToObject(o, "status", post_case_state_name(r->state)) != NULL &&
+                 cJSON_AddStringToObject(o, "status", app_case_state_name(r->state)) != NULL &&
                  json_add(o, "error", r->error[0] ? cJSON_CreateString(r->error)
                                                   : cJSON_CreateNull()) &&
                  json_add(o, "seconds", json_num_or_null(r->seconds));
         }
     }
-    ok = ok && cJSON_AddStringToObject(root, "notice", post_safety_notice()) != NULL;
+    ok = ok && cJSON_AddStringToObject(root, "notice", app_safety_notice()) != NULL;
     if (!ok) {
         cJSON_Delete(root);
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing summary.json");
@@ -1844,19 +1719,19 @@ static eddy_status write_summary_json(const char *outdir, const post_batch_plan 
     return s;
 }
 
-static void html_status(sbuf *b, post_case_state st)
+static void html_status(eddy_text *b, app_case_state st)
 {
-    sb_printf(b, "<td class=\"st %s\">%s</td>",
-              st == POST_CASE_OK ? "ok" : st == POST_CASE_NOT_RUN ? "notrun" : "bad",
-              post_case_state_name(st));
+    eddy_text_printf(b, "<td class=\"st %s\">%s</td>",
+              st == APP_CASE_OK ? "ok" : st == APP_CASE_NOT_RUN ? "notrun" : "bad",
+              app_case_state_name(st));
 }
 
-static eddy_status write_html(const char *outdir, const post_batch_plan *p,
-                              const case_result *res, const post_batch_counts *n,
+static eddy_status write_html(const char *outdir, const app_batch_plan *p,
+                              const case_result *res, const app_batch_counts *n,
                               const char *when, eddy_error *err)
 {
-    sbuf b = {0};
-    sb_str(&b,
+    eddy_text b = {0};
+    eddy_text_str(&b,
            "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"
            "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n"
            "<title>eddy2d batch summary</title>\n<style>\n"
@@ -1874,105 +1749,105 @@ static eddy_status write_html(const char *outdir, const post_batch_plan *p,
            "figcaption{font-size:.85em;margin-top:.3em}.missing{padding:2em 1em;color:#444}\n"
            ".notice{border:1px solid #888;padding:.5em;font-size:.85em;max-width:70em}\n"
            "</style>\n</head>\n<body>\n<h1>eddy2d batch summary</h1>\n");
-    sb_printf(&b, "<p id=\"counts\">%d cases: %d ok, %d failed, %d not run. Written %s by "
+    eddy_text_printf(&b, "<p id=\"counts\">%d cases: %d ok, %d failed, %d not run. Written %s by "
                   "eddy2d %s.</p>\n",
               n->cases, n->ok, n->failed, n->not_run, when, EDDY_VERSION);
-    sb_str(&b, "<p class=\"notice\"><strong>Caution.</strong> ");
-    html_text(&b, post_safety_notice());
-    sb_str(&b, "</p>\n<h2>Cases</h2>\n<table id=\"cases\">\n<thead><tr><th>case</th>");
+    eddy_text_str(&b, "<p class=\"notice\"><strong>Caution.</strong> ");
+    html_text(&b, app_safety_notice());
+    eddy_text_str(&b, "</p>\n<h2>Cases</h2>\n<table id=\"cases\">\n<thead><tr><th>case</th>");
     for (int k = 0; k < p->nkey; k++) {
-        sb_str(&b, "<th>");
+        eddy_text_str(&b, "<th>");
         html_text(&b, p->keys[k]);
-        sb_str(&b, "</th>");
+        eddy_text_str(&b, "</th>");
     }
-    sb_str(&b, "<th>status</th><th>peak drag (N/m)</th><th>at speed (m/s)</th>"
+    eddy_text_str(&b, "<th>status</th><th>peak drag (N/m)</th><th>at speed (m/s)</th>"
                "<th>seconds</th><th>error</th></tr></thead>\n<tbody>\n");
     for (int c = 0; c < p->ncase; c++) {
-        const post_batch_case *pc = &p->cases[c];
+        const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
-        sb_str(&b, "<tr><td><a href=\"#fig-");
+        eddy_text_str(&b, "<tr><td><a href=\"#fig-");
         html_text(&b, pc->name);
-        sb_str(&b, "\">");
+        eddy_text_str(&b, "\">");
         html_text(&b, pc->name);
-        sb_str(&b, "</a></td>");
+        eddy_text_str(&b, "</a></td>");
         for (int q = 0; q < p->nkey; q++) {
             const char *v = case_value(pc, p->keys[q]);
-            sb_str(&b, "<td>");
+            eddy_text_str(&b, "<td>");
             html_text(&b, v != NULL ? v : "");
-            sb_str(&b, "</td>");
+            eddy_text_str(&b, "</td>");
         }
         html_status(&b, r->state);
         html_num(&b, r->peak_drag, "num");
         html_num(&b, r->peak_speed, "num");
         html_num(&b, r->seconds, "num");
-        sb_str(&b, "<td class=\"err\">");
+        eddy_text_str(&b, "<td class=\"err\">");
         html_text(&b, r->error);
-        sb_str(&b, "</td></tr>\n");
+        eddy_text_str(&b, "</td></tr>\n");
     }
-    sb_str(&b, "</tbody>\n</table>\n<h2>Force-speed plots</h2>\n<div class=\"plots\">\n");
+    eddy_text_str(&b, "</tbody>\n</table>\n<h2>Force-speed plots</h2>\n<div class=\"plots\">\n");
     for (int c = 0; c < p->ncase; c++) {
-        const post_batch_case *pc = &p->cases[c];
+        const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
-        sb_str(&b, "<figure id=\"fig-");
+        eddy_text_str(&b, "<figure id=\"fig-");
         html_text(&b, pc->name);
-        sb_str(&b, "\">");
+        eddy_text_str(&b, "\">");
         if (r->png_w > 0) {
-            sb_str(&b, "<a href=\"");
+            eddy_text_str(&b, "<a href=\"");
             html_text(&b, pc->name);
-            sb_str(&b, "/forces.png\"><img src=\"");
+            eddy_text_str(&b, "/forces.png\"><img src=\"");
             html_text(&b, pc->name);
-            sb_printf(&b, "/forces.png\" width=\"%d\" height=\"%d\" alt=\"drag and normal force "
+            eddy_text_printf(&b, "/forces.png\" width=\"%d\" height=\"%d\" alt=\"drag and normal force "
                           "against speed, ", r->png_w, r->png_h);
             html_text(&b, pc->name);
-            sb_str(&b, "\"></a>");
+            eddy_text_str(&b, "\"></a>");
         } else {
-            sb_str(&b, "<div class=\"missing\">");
-            if (r->state == POST_CASE_OK)
-                sb_str(&b, "no plot (run without pictures)");
+            eddy_text_str(&b, "<div class=\"missing\">");
+            if (r->state == APP_CASE_OK)
+                eddy_text_str(&b, "no plot (run without pictures)");
             else {
-                html_text(&b, post_case_state_name(r->state));
+                html_text(&b, app_case_state_name(r->state));
                 if (r->error[0]) {
-                    sb_str(&b, ": ");
+                    eddy_text_str(&b, ": ");
                     html_text(&b, r->error);
                 }
             }
-            sb_str(&b, "</div>");
+            eddy_text_str(&b, "</div>");
         }
-        sb_str(&b, "<figcaption><strong>");
+        eddy_text_str(&b, "<figcaption><strong>");
         html_text(&b, pc->name);
-        sb_str(&b, "</strong>");
+        eddy_text_str(&b, "</strong>");
         if (pc->nvalue > 0) {
-            sb_str(&b, "<br>");
-            sbuf v = {0};
+            eddy_text_str(&b, "<br>");
+            eddy_text v = {0};
             variant_text(&v, pc);
             html_text(&b, v.p != NULL ? v.p : "");
             if (v.oom)
                 b.oom = 1;
             free(v.p);
         }
-        sb_str(&b, "</figcaption></figure>\n");
+        eddy_text_str(&b, "</figcaption></figure>\n");
     }
-    sb_str(&b, "</div>\n<h2>Every speed</h2>\n<table id=\"points\">\n<thead><tr><th>case</th>"
+    eddy_text_str(&b, "</div>\n<h2>Every speed</h2>\n<table id=\"points\">\n<thead><tr><th>case</th>"
                "<th>speed (m/s)</th><th>drag (N/m)</th><th>normal force (N/m)</th>"
                "<th>loss (W/m)</th><th>status</th></tr></thead>\n<tbody>\n");
     for (int c = 0; c < p->ncase; c++) {
-        const post_batch_case *pc = &p->cases[c];
+        const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
         int rows = r->npoint > 0 ? r->npoint : 1;
         for (int k = 0; k < rows; k++) {
             int has = k < r->npoint;
-            sb_str(&b, "<tr><td>");
+            eddy_text_str(&b, "<tr><td>");
             html_text(&b, pc->name);
-            sb_str(&b, "</td>");
+            eddy_text_str(&b, "</td>");
             html_num(&b, has ? r->speed[k] : NAN, "num");
             html_num(&b, has ? r->drag[k] : NAN, "num");
             html_num(&b, has ? r->force_y[k] : NAN, "num");
             html_num(&b, has ? r->loss[k] : NAN, "num");
             html_status(&b, r->state);
-            sb_str(&b, "</tr>\n");
+            eddy_text_str(&b, "</tr>\n");
         }
     }
-    sb_str(&b, "</tbody>\n</table>\n<p>Forces per metre of depth (per period for a periodic "
+    eddy_text_str(&b, "</tbody>\n</table>\n<p>Forces per metre of depth (per period for a periodic "
                "domain); the same numbers are in summary.csv and summary.json.</p>\n"
                "</body>\n</html>\n");
     if (b.oom) {
@@ -1981,15 +1856,15 @@ static eddy_status write_html(const char *outdir, const post_batch_plan *p,
     }
     char path[4200];
     join(path, sizeof path, outdir, "summary.html", NULL);
-    eddy_status s = post_write_atomic(path, b.p, b.len, err);
+    eddy_status s = eddy_write_atomic(path, b.p, b.len, err);
     free(b.p);
     return s;
 }
 
-eddy_status post_batch_write_summary(const char *outdir, const post_batch_plan *p,
-                                     post_batch_counts *counts, eddy_error *err)
+eddy_status app_batch_write_summary(const char *outdir, const app_batch_plan *p,
+                                     app_batch_counts *counts, eddy_error *err)
 {
-    post_batch_counts n = {0};
+    app_batch_counts n = {0};
     n.cases = p->ncase;
     case_result *res = calloc((size_t)(p->ncase > 0 ? p->ncase : 1), sizeof *res);
     if (res == NULL)
@@ -1999,9 +1874,9 @@ eddy_status post_batch_write_summary(const char *outdir, const post_batch_plan *
         s = load_result(outdir, &p->cases[c], &res[c], err);
         if (s != EDDY_OK)
             break;
-        if (res[c].state == POST_CASE_OK)
+        if (res[c].state == APP_CASE_OK)
             n.ok++;
-        else if (res[c].state == POST_CASE_NOT_RUN)
+        else if (res[c].state == APP_CASE_NOT_RUN)
             n.not_run++;
         else
             n.failed++;
@@ -2012,7 +1887,7 @@ eddy_status post_batch_write_summary(const char *outdir, const post_batch_plan *
     if (gmtime_r(&now, &tm) != NULL)
         strftime(when, sizeof when, "%Y-%m-%d %H:%M:%S UTC", &tm);
     if (s == EDDY_OK)
-        s = post_make_dir(outdir, err);
+        s = eddy_make_dir(outdir, err);
     if (s == EDDY_OK)
         s = write_csv(outdir, p, res, err);
     if (s == EDDY_OK)
@@ -2032,32 +1907,32 @@ eddy_status post_batch_write_summary(const char *outdir, const post_batch_plan *
 /* ------------------------------------------------------------------------ */
 
 /* A word quoted for sh: '...' with ' as '\''. */
-static void sh_quote(sbuf *b, const char *s)
+static void sh_quote(eddy_text *b, const char *s)
 {
-    sb_str(b, "'");
+    eddy_text_str(b, "'");
     for (const char *q = s; *q != '\0'; q++) {
         if (*q == '\'')
-            sb_str(b, "'\\''");
+            eddy_text_str(b, "'\\''");
         else
-            sb_put(b, q, 1);
+            eddy_text_put(b, q, 1);
     }
-    sb_str(b, "'");
+    eddy_text_str(b, "'");
 }
 
-void post_batch_slurm_opts_defaults(post_batch_slurm_opts *o)
+void app_batch_slurm_opts_defaults(app_batch_slurm_opts *o)
 {
     memset(o, 0, sizeof *o);
     o->cpus_per_task = 1;
 }
 
-static eddy_status write_script(const char *path, sbuf *b, eddy_error *err)
+static eddy_status write_script(const char *path, eddy_text *b, eddy_error *err)
 {
     if (b->oom) {
         free(b->p);
         b->p = NULL;
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing %s", path);
     }
-    eddy_status s = post_write_atomic(path, b->p, b->len, err);
+    eddy_status s = eddy_write_atomic(path, b->p, b->len, err);
     free(b->p);
     b->p = NULL;
     b->len = b->cap = 0;
@@ -2067,8 +1942,8 @@ static eddy_status write_script(const char *path, sbuf *b, eddy_error *err)
     return s;
 }
 
-eddy_status post_batch_write_slurm(const char *outdir, const post_batch_plan *p,
-                                   const post_batch_slurm_opts *o, eddy_error *err)
+eddy_status app_batch_write_slurm(const char *outdir, const app_batch_plan *p,
+                                   const app_batch_slurm_opts *o, eddy_error *err)
 {
     if (o->exe == NULL || o->exe[0] != '/' || outdir[0] != '/')
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "the Slurm scripts need absolute paths");
@@ -2086,78 +1961,78 @@ eddy_status post_batch_write_slurm(const char *outdir, const post_batch_plan *p,
     char path[4200];
     if (!join(path, sizeof path, outdir, "slurm", NULL))
         return EDDY_RAISE(err, EDDY_ERR_IO, "%s: path too long", outdir);
-    eddy_status s = post_make_dir(path, err);
+    eddy_status s = eddy_make_dir(path, err);
     if (s != EDDY_OK)
         return s;
     /* the array: ranges of consecutive indices, "0-3,7,9-12" */
-    sbuf arr = {0};
+    eddy_text arr = {0};
     for (int k = 0; k < o->ntask;) {
         int j = k;
         while (j + 1 < o->ntask && o->tasks[j + 1] == o->tasks[j] + 1)
             j++;
         if (j > k)
-            sb_printf(&arr, "%s%d-%d", k > 0 ? "," : "", o->tasks[k], o->tasks[j]);
+            eddy_text_printf(&arr, "%s%d-%d", k > 0 ? "," : "", o->tasks[k], o->tasks[j]);
         else
-            sb_printf(&arr, "%s%d", k > 0 ? "," : "", o->tasks[k]);
+            eddy_text_printf(&arr, "%s%d", k > 0 ? "," : "", o->tasks[k]);
         k = j + 1;
     }
-    sbuf b = {0};
-    sb_printf(&b,
+    eddy_text b = {0};
+    eddy_text_printf(&b,
               "#!/bin/sh\n"
               "# eddy2d %s batch: one Slurm array task per case; each task solves its case\n"
               "# into %s/<case>/ with the same resume and atomic-write rules as a local batch.\n"
               "# Submit with submit.sh beside this file (it also queues the summary job).\n",
               EDDY_VERSION, outdir);
-    sb_str(&b, "#SBATCH --job-name=eddy2d-batch\n");
-    sb_printf(&b, "#SBATCH --array=%s\n", arr.p != NULL ? arr.p : "");
-    sb_printf(&b, "#SBATCH --cpus-per-task=%d\n", o->cpus_per_task);
-    sb_printf(&b, "#SBATCH --output=%s/slurm/case_%%a.out\n", outdir);
+    eddy_text_str(&b, "#SBATCH --job-name=eddy2d-batch\n");
+    eddy_text_printf(&b, "#SBATCH --array=%s\n", arr.p != NULL ? arr.p : "");
+    eddy_text_printf(&b, "#SBATCH --cpus-per-task=%d\n", o->cpus_per_task);
+    eddy_text_printf(&b, "#SBATCH --output=%s/slurm/case_%%a.out\n", outdir);
     if (o->case_timeout > 0)
-        sb_printf(&b, "#SBATCH --time=%d\n", (int)ceil(o->case_timeout / 60.0) + 2);
+        eddy_text_printf(&b, "#SBATCH --time=%d\n", (int)ceil(o->case_timeout / 60.0) + 2);
     for (int k = 0; k < o->nextra; k++)
-        sb_printf(&b, "#SBATCH %s\n", o->extra[k]);
-    sb_str(&b, "exec ");
+        eddy_text_printf(&b, "#SBATCH %s\n", o->extra[k]);
+    eddy_text_str(&b, "exec ");
     sh_quote(&b, o->exe);
-    sb_str(&b, " batch --run-one \"$SLURM_ARRAY_TASK_ID\" -o ");
+    eddy_text_str(&b, " batch --run-one \"$SLURM_ARRAY_TASK_ID\" -o ");
     sh_quote(&b, outdir);
     if (o->case_timeout > 0)
-        sb_printf(&b, " --case-timeout %g", o->case_timeout);
-    sb_printf(&b, " --threads %d\n", o->cpus_per_task);
+        eddy_text_printf(&b, " --case-timeout %g", o->case_timeout);
+    eddy_text_printf(&b, " --threads %d\n", o->cpus_per_task);
     free(arr.p);
     join(path, sizeof path, outdir, "batch.sbatch", NULL);
     s = write_script(path, &b, err);
     if (s != EDDY_OK)
         return s;
 
-    sb_printf(&b, "#!/bin/sh\n"
+    eddy_text_printf(&b, "#!/bin/sh\n"
                   "# eddy2d %s batch: the final step, after every array task has ended (ok or\n"
                   "# not): summary.csv, summary.json and summary.html from the case folders.\n",
               EDDY_VERSION);
-    sb_str(&b, "#SBATCH --job-name=eddy2d-summary\n");
-    sb_printf(&b, "#SBATCH --output=%s/slurm/summary.out\n", outdir);
+    eddy_text_str(&b, "#SBATCH --job-name=eddy2d-summary\n");
+    eddy_text_printf(&b, "#SBATCH --output=%s/slurm/summary.out\n", outdir);
     for (int k = 0; k < o->nextra; k++)
-        sb_printf(&b, "#SBATCH %s\n", o->extra[k]);
-    sb_str(&b, "exec ");
+        eddy_text_printf(&b, "#SBATCH %s\n", o->extra[k]);
+    eddy_text_str(&b, "exec ");
     sh_quote(&b, o->exe);
-    sb_str(&b, " batch --summary-only -o ");
+    eddy_text_str(&b, " batch --summary-only -o ");
     sh_quote(&b, outdir);
-    sb_str(&b, "\n");
+    eddy_text_str(&b, "\n");
     join(path, sizeof path, outdir, "summary.sbatch", NULL);
     s = write_script(path, &b, err);
     if (s != EDDY_OK)
         return s;
 
-    sb_printf(&b, "#!/bin/sh\n"
+    eddy_text_printf(&b, "#!/bin/sh\n"
                   "# Queue the eddy2d batch in %s: the case array, then the summary job\n"
                   "# once every task has ended.  Prints the two job ids.\n"
                   "set -eu\n",
               outdir);
-    sb_str(&b, "array=$(sbatch --parsable ");
+    eddy_text_str(&b, "array=$(sbatch --parsable ");
     sh_quote(&b, outdir);
-    sb_str(&b, "/batch.sbatch)\narray=${array%%;*}\n"
+    eddy_text_str(&b, "/batch.sbatch)\narray=${array%%;*}\n"
                "summary=$(sbatch --parsable --dependency=afterany:\"$array\" ");
     sh_quote(&b, outdir);
-    sb_str(&b, "/summary.sbatch)\nsummary=${summary%%;*}\n"
+    eddy_text_str(&b, "/summary.sbatch)\nsummary=${summary%%;*}\n"
                "echo \"array job $array, summary job $summary\"\n");
     join(path, sizeof path, outdir, "submit.sh", NULL);
     return write_script(path, &b, err);

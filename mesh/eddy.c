@@ -1,5 +1,5 @@
-/* eddy_status.c - status strings and the error-recording helper. */
-#include "mesh/eddy_status.h"
+/* eddy.c - status strings and the error-recording helper. */
+#include "mesh/eddy.h"
 
 #include <stdio.h>
 #include <string.h>

@@ -1,7 +1,7 @@
 /*
- * post_report.c - result.json and forces.csv, written atomically.
+ * app_report.c - result.json and forces.csv, written atomically.
  */
-#include "post/post.h"
+#include "app/app.h"
 
 #include <cJSON.h>
 #include <errno.h>
@@ -13,72 +13,13 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-const char *post_safety_notice(void)
+const char *app_safety_notice(void)
 {
     return "Engineering estimate for design studies (2D, steady state, per metre of depth). "
            "Brakes and dampers that carry or stop people must be designed "
            "and verified to the applicable local codes and standards by qualified, licensed "
            "engineers. Strong permanent magnets can pinch and crush and harm pacemakers and "
            "other implants; conductors heated by eddy currents can burn.";
-}
-
-eddy_status post_make_dir(const char *dir, eddy_error *err)
-{
-    char path[4096];
-    size_t len = strlen(dir);
-    if (len == 0 || len >= sizeof path)
-        return EDDY_RAISE(err, EDDY_ERR_IO, "bad directory name");
-    memcpy(path, dir, len + 1);
-    for (size_t k = 1; k <= len; k++) {
-        if (path[k] != '/' && path[k] != '\0')
-            continue;
-        char keep = path[k];
-        path[k] = '\0';
-        if (mkdir(path, 0777) != 0 && errno != EEXIST)
-            return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot create directory: %s", path,
-                              strerror(errno));
-        path[k] = keep;
-    }
-    struct stat st;
-    if (stat(dir, &st) != 0 || !S_ISDIR(st.st_mode))
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: not a directory", dir);
-    return EDDY_OK;
-}
-
-eddy_status post_write_atomic(const char *path, const char *data, size_t size, eddy_error *err)
-{
-    char tmp[4200];
-    int n = snprintf(tmp, sizeof tmp, "%s.tmp.%ld", path, (long)getpid());
-    if (n < 0 || (size_t)n >= sizeof tmp)
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: path too long", path);
-    int fd = open(tmp, O_WRONLY | O_CREAT | O_TRUNC, 0666);
-    if (fd < 0)
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot create: %s", tmp, strerror(errno));
-    size_t done = 0;
-    while (done < size) {
-        ssize_t w = write(fd, data + done, size - done);
-        if (w < 0 && errno == EINTR)
-            continue;
-        if (w <= 0) {
-            int e = errno;
-            close(fd);
-            unlink(tmp);
-            return EDDY_RAISE(err, EDDY_ERR_IO, "%s: write failed: %s", tmp, strerror(e));
-        }
-        done += (size_t)w;
-    }
-    if (fsync(fd) != 0 || close(fd) != 0) {
-        int e = errno;
-        unlink(tmp);
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot flush: %s", tmp, strerror(e));
-    }
-    if (rename(tmp, path) != 0) {
-        int e = errno;
-        unlink(tmp);
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot rename into place: %s", path,
-                          strerror(e));
-    }
-    return EDDY_OK;
 }
 
 /* Add a number, or null where it is not finite. */
@@ -90,27 +31,27 @@ static void add_num(cJSON *o, const char *key, double v)
         cJSON_AddNullToObject(o, key);
 }
 
-static void add_mesh(cJSON *root, const post_report *r);
+static void add_mesh(cJSON *root, const app_report *r);
 
-static void add_reference(cJSON *root, const post_report *r)
+static void add_reference(cJSON *root, const app_report *r)
 {
     cJSON *ref = cJSON_AddObjectToObject(root, "reference");
     const char *state = "not evaluated";
     switch (r->ref_state) {
-    case POST_REF_NONE: state = "not evaluated"; break;
-    case POST_REF_NOT_APPLICABLE: state = "does not fit this case"; break;
-    case POST_REF_OK: state = "fits"; break;
-    case POST_REF_APPROXIMATE: state = "fits approximately"; break;
-    case POST_REF_FAILED: state = "failed"; break;
+    case APP_REF_NONE: state = "not evaluated"; break;
+    case APP_REF_NOT_APPLICABLE: state = "does not fit this case"; break;
+    case APP_REF_OK: state = "fits"; break;
+    case APP_REF_APPROXIMATE: state = "fits approximately"; break;
+    case APP_REF_FAILED: state = "failed"; break;
     }
     cJSON_AddBoolToObject(ref, "applicable",
-                          r->ref_state == POST_REF_OK || r->ref_state == POST_REF_APPROXIMATE);
+                          r->ref_state == APP_REF_OK || r->ref_state == APP_REF_APPROXIMATE);
     cJSON_AddStringToObject(ref, "state", state);
     cJSON_AddStringToObject(ref, "note", r->ref_note);
 }
 
 /* Brake-design answers: peak, stop, end effect, temperature, disc. */
-static void add_design(cJSON *root, const post_report *r)
+static void add_design(cJSON *root, const app_report *r)
 {
     const mesh_case *c = r->c;
     if (r->has_peak) {
@@ -169,7 +110,7 @@ static void add_design(cJSON *root, const post_report *r)
                                            "active_length x periods at the mean radius");
     }
     if (r->has_stop) {
-        const post_stop_result *st = &r->stop;
+        const design_stop_result *st = &r->stop;
         cJSON *s = cJSON_AddObjectToObject(root, "stopping");
         add_num(s, "distance", st->distance);
         add_num(s, "time", st->time);
@@ -182,7 +123,7 @@ static void add_design(cJSON *root, const post_report *r)
         add_num(s, "conductor_temperature_rise", r->stop_temperature_rise);
         add_num(s, "distance_change_on_half_the_points", r->stop_table_change);
         cJSON_AddBoolToObject(s, "enough_points",
-                              r->stop_table_change <= post_design_stop_tolerance());
+                              r->stop_table_change <= app_design_stop_tolerance());
         cJSON_AddStringToObject(
             s, "note",
             "m dv/dt = -(drag x depth x repeat + extra_force), drag interpolated by a monotone "
@@ -193,7 +134,7 @@ static void add_design(cJSON *root, const post_report *r)
     }
 }
 
-static cJSON *build_json(const post_report *r)
+static cJSON *build_json(const app_report *r)
 {
     const mesh_case *c = r->c;
     const mesh_grid *g = r->g;
@@ -216,7 +157,7 @@ static cJSON *build_json(const post_report *r)
     cJSON *pts = cJSON_AddArrayToObject(root, "points");
     for (int k = 0; k < r->npoint; k++) {
         const post_forces *f = &r->f[k];
-        const post_point_info *in = &r->info[k];
+        const app_point_info *in = &r->info[k];
         cJSON *p = cJSON_CreateObject();
         if (p == NULL || !cJSON_AddItemToArray(pts, p)) {
             cJSON_Delete(p); /* pts is NULL after an allocation failure */
@@ -284,11 +225,11 @@ static cJSON *build_json(const post_report *r)
         if (!cJSON_AddItemToArray(w, ws))
             cJSON_Delete(ws); /* w is NULL after an allocation failure */
     }
-    cJSON_AddStringToObject(root, "notice", post_safety_notice());
+    cJSON_AddStringToObject(root, "notice", app_safety_notice());
     return root;
 }
 
-static void add_mesh(cJSON *root, const post_report *r)
+static void add_mesh(cJSON *root, const app_report *r)
 {
     const mesh_grid *g = r->g;
     cJSON *mesh = cJSON_AddObjectToObject(root, "mesh");
@@ -317,7 +258,7 @@ static void add_mesh(cJSON *root, const post_report *r)
 }
 
 
-static eddy_status write_csv(const char *dir, const post_report *r, eddy_error *err)
+static eddy_status write_csv(const char *dir, const app_report *r, eddy_error *err)
 {
     size_t cap = 512 + (size_t)r->npoint * 256, len = 0;
     char *buf = malloc(cap);
@@ -335,12 +276,12 @@ static eddy_status write_csv(const char *dir, const post_report *r, eddy_error *
     }
     char path[4096];
     snprintf(path, sizeof path, "%s/forces.csv", dir);
-    eddy_status s = post_write_atomic(path, buf, len, err);
+    eddy_status s = eddy_write_atomic(path, buf, len, err);
     free(buf);
     return s;
 }
 
-eddy_status post_write_results(const char *dir, const post_report *r, eddy_error *err)
+eddy_status app_write_results(const char *dir, const app_report *r, eddy_error *err)
 {
     cJSON *root = build_json(r);
     char *text = root != NULL ? cJSON_Print(root) : NULL;
@@ -351,7 +292,7 @@ eddy_status post_write_results(const char *dir, const post_report *r, eddy_error
     snprintf(path, sizeof path, "%s/result.json", dir);
     size_t len = strlen(text);
     text[len] = '\0';
-    eddy_status s = post_write_atomic(path, text, len, err);
+    eddy_status s = eddy_write_atomic(path, text, len, err);
     cJSON_free(text);
     if (s != EDDY_OK)
         return s;

@@ -1,10 +1,10 @@
 /*
- * post_design.c - from the force-speed curve of a run to brake-design
+ * app_design.c - from the force-speed curve of a run to brake-design
  * answers: the drag peak, where to add speeds in an adaptive sweep, the
  * conductor heating per speed, the stop of a load, the finite-width (end
  * effect) correction, and the torque and power of a disc brake.
  */
-#include "post/post.h"
+#include "app/app.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -24,7 +24,7 @@ static int cmp_speed(const void *pa, const void *pb)
 }
 
 /* Sort the points of a report by speed (forces, infos, speeds together). */
-void post_design_sort(post_report *r)
+void app_design_sort(app_report *r)
 {
     int n = r->npoint;
     for (int i = 1; i < n; i++)
@@ -32,7 +32,7 @@ void post_design_sort(post_report *r)
             post_forces tf = r->f[j];
             r->f[j] = r->f[j - 1];
             r->f[j - 1] = tf;
-            post_point_info ti = r->info[j];
+            app_point_info ti = r->info[j];
             r->info[j] = r->info[j - 1];
             r->info[j - 1] = ti;
             double ts = r->c->speeds[j];
@@ -53,12 +53,12 @@ static double leave_one_out(int n, const double *lv, const double *lf, int i, do
             y[m] = lf[k];
             m++;
         }
-    if (post_pchip_slopes(m, x, y, d, NULL) != EDDY_OK)
+    if (design_pchip_slopes(m, x, y, d, NULL) != EDDY_OK)
         return INFINITY;
-    return fabs(expm1(post_pchip_eval(m, x, y, d, lv[i]) - lf[i]));
+    return fabs(expm1(design_pchip_eval(m, x, y, d, lv[i]) - lf[i]));
 }
 
-int post_design_refine(const post_report *r, double *speeds, int max_new)
+int app_design_refine(const app_report *r, double *speeds, int max_new)
 {
     int n = r->npoint, nn = 0;
     if (n < 3 || max_new <= 0)
@@ -99,7 +99,7 @@ int post_design_refine(const post_report *r, double *speeds, int max_new)
 
 /* Density x specific heat of the moving conductors, area-weighted, J/(m^3 K);
  * 0 if unknown. */
-static double rho_cp(const post_report *r)
+static double rho_cp(const app_report *r)
 {
     const mesh_case *c = r->c;
     double sum = 0.0, area = 0.0;
@@ -119,7 +119,7 @@ static double rho_cp(const post_report *r)
     return area > 0 ? sum / area : 0.0;
 }
 
-eddy_status post_design_evaluate(post_report *r, eddy_error *err)
+eddy_status app_design_evaluate(app_report *r, eddy_error *err)
 {
     const mesh_case *c = r->c;
     int n = r->npoint;
@@ -127,7 +127,7 @@ eddy_status post_design_evaluate(post_report *r, eddy_error *err)
     /* per point: heating, disc, end effect */
     r->end_factor = NAN;
     if (c->end_effect.present) {
-        eddy_status s = post_end_effect_factor(c->end_effect.active_width,
+        eddy_status s = design_end_effect_factor(c->end_effect.active_width,
                                                c->end_effect.plate_width,
                                                c->end_effect.pole_pitch, &r->end_factor, err);
         if (s != EDDY_OK)
@@ -141,9 +141,9 @@ eddy_status post_design_evaluate(post_report *r, eddy_error *err)
         f->rpm = f->torque = f->power = NAN;
         if (c->disc.present) {
             double total = f->drag * c->disc.active_length * c->disc.periods; /* N */
-            f->rpm = 60.0 * f->speed / (2.0 * 3.14159265358979323846 * c->disc.mean_radius);
-            f->torque = post_disc_torque(total, c->disc.mean_radius);
-            f->power = post_brake_power(total, fabs(f->speed));
+            f->rpm = 60.0 * f->speed / (2.0 * EDDY_PI * c->disc.mean_radius);
+            f->torque = design_disc_torque(total, c->disc.mean_radius);
+            f->power = design_brake_power(total, fabs(f->speed));
         }
         f->drag_end_corrected = isfinite(r->end_factor) ? f->drag * r->end_factor : NAN;
     }
@@ -162,7 +162,7 @@ eddy_status post_design_evaluate(post_report *r, eddy_error *err)
     r->has_peak = 0;
     if (m >= 1) {
         int logv = m >= 2 && sp[m - 1] > 10.0 * sp[0];
-        if (post_force_peak(m, sp, dr, logv, &r->peak_speed, &r->peak_drag, &r->peak_refined,
+        if (design_peak(m, sp, dr, logv, &r->peak_speed, &r->peak_drag, &r->peak_refined,
                             NULL) == EDDY_OK) {
             r->has_peak = 1;
             int imax = 0;
@@ -185,19 +185,19 @@ eddy_status post_design_evaluate(post_report *r, eddy_error *err)
         }
         for (int k = 0; k < m; k++)
             force[k] = fmax(dr[k], 0.0) * h->depth * h->repeat;
-        post_stop_input in;
-        post_stop_defaults(&in);
+        design_stop_input in;
+        design_stop_defaults(&in);
         in.mass = h->mass;
         in.extra_force = h->extra_force;
         in.from_speed = h->from_speed;
         in.to_speed = h->to_speed;
-        in.interp = POST_INTERP_LOGLOG;
+        in.interp = DESIGN_INTERP_LOGLOG;
         in.n_samples = 201;
-        s = post_stop_compute(m, sp, force, &in, &r->stop, err);
+        s = design_stop_compute(m, sp, force, &in, &r->stop, err);
         if (s == EDDY_OK) {
             r->has_stop = 1;
             double dt = 0.0;
-            if (post_stop_table_change(m, sp, force, &in, &dt, NULL, NULL) != EDDY_OK)
+            if (design_stop_table_change(m, sp, force, &in, &dt, NULL, NULL) != EDDY_OK)
                 r->stop_table_change = NAN;
             else
                 r->stop_table_change = dt;
@@ -206,7 +206,7 @@ eddy_status post_design_evaluate(post_report *r, eddy_error *err)
                 if (c->regions[k].moving && c->regions[k].material >= 0)
                     cp = c->materials[c->regions[k].material].specific_heat;
             if (h->conductor_mass > 0 && cp > 0)
-                post_stop_temperature_rise(r->stop.brake_energy, h->conductor_mass, cp,
+                design_stop_temperature_rise(r->stop.brake_energy, h->conductor_mass, cp,
                                            &r->stop_temperature_rise, NULL);
         }
         free(force);
@@ -215,4 +215,4 @@ eddy_status post_design_evaluate(post_report *r, eddy_error *err)
     return s;
 }
 
-double post_design_stop_tolerance(void) { return STOP_TABLE_TOL; }
+double app_design_stop_tolerance(void) { return STOP_TABLE_TOL; }

@@ -1,10 +1,10 @@
 /*
- * post_run.c - one case from file to reports: mesh -> solver -> post.
+ * app_run.c - one case from file to reports: mesh -> solver -> post.
  *
  * This is the pipeline the command line and the batch runner call.  It
  * prints nothing; progress goes through an optional callback.
  */
-#include "post/post.h"
+#include "app/app.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -14,14 +14,7 @@
 #include <time.h>
 #include <unistd.h>
 
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
-void post_run_opts_defaults(post_run_opts *o)
+void app_run_opts_defaults(app_run_opts *o)
 {
     memset(o, 0, sizeof *o);
     o->images = 1;
@@ -29,13 +22,13 @@ void post_run_opts_defaults(post_run_opts *o)
     o->reference = 1;
 }
 
-void post_report_free(post_report *r)
+void app_report_free(app_report *r)
 {
     if (r == NULL)
         return;
     mesh_case_free(r->c);
     mesh_grid_free(r->g);
-    post_stop_result_free(&r->stop);
+    design_stop_result_free(&r->stop);
     free(r->f);
     free(r->info);
     free(r->ref_drag);
@@ -56,7 +49,7 @@ static double sigma_thickness(const mesh_case *c)
 }
 
 /* Evaluate the layered reference at every speed of r (where it fits). */
-static eddy_status add_reference(post_report *r, int fill_forces, eddy_error *err)
+static eddy_status add_reference(app_report *r, int fill_forces, eddy_error *err)
 {
     sol_ref_problem p;
     sol_ref_source *src = NULL;
@@ -64,7 +57,7 @@ static eddy_status add_reference(post_report *r, int fill_forces, eddy_error *er
     eddy_status s = sol_ref_from_case(r->c, &p, &src, &nsrc, &approx, r->ref_note,
                                       sizeof r->ref_note, err);
     if (s == EDDY_ERR_NOT_APPLICABLE) {
-        r->ref_state = POST_REF_NOT_APPLICABLE;
+        r->ref_state = APP_REF_NOT_APPLICABLE;
         return fill_forces ? EDDY_RAISE(err, s, "%s: the layered reference does not fit this "
                                                 "case: %s", r->c->path, r->ref_note)
                            : EDDY_OK;
@@ -77,7 +70,7 @@ static eddy_status add_reference(post_report *r, int fill_forces, eddy_error *er
         free(src);
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
     }
-    r->ref_state = approx ? POST_REF_APPROXIMATE : POST_REF_OK;
+    r->ref_state = approx ? APP_REF_APPROXIMATE : APP_REF_OK;
     snprintf(r->ref_note, sizeof r->ref_note, "%s",
              approx ? "layered Fourier reference; magnets' recoil permeability taken as 1"
                     : "layered Fourier reference; exact for this geometry in free space");
@@ -97,10 +90,10 @@ static eddy_status add_reference(post_report *r, int fill_forces, eddy_error *er
     for (int k = 0; k < r->npoint; k++) {
         double v = r->c->speeds[k], sgn = v > 0 ? 1.0 : (v < 0 ? -1.0 : 0.0);
         sol_ref_result q;
-        double t0 = now();
+        double t0 = eddy_now();
         s = sol_ref_solve(&p, src, nsrc, v, &q, err);
         if (s != EDDY_OK) {
-            r->ref_state = POST_REF_FAILED;
+            r->ref_state = APP_REF_FAILED;
             snprintf(r->ref_note, sizeof r->ref_note, "layered reference failed at %g m/s: %.400s",
                      v, err != NULL ? err->msg : eddy_strerror(s));
             free(r->ref_drag);
@@ -127,7 +120,7 @@ static eddy_status add_reference(post_report *r, int fill_forces, eddy_error *er
             f->low_speed_drag = slope * fabs(v);
             f->magnetic_reynolds = EDDY_MU0 * st * fabs(v);
             f->j_peak = NAN;
-            r->info[k].t_post = now() - t0;
+            r->info[k].t_post = eddy_now() - t0;
         }
     }
     free(src);
@@ -137,15 +130,15 @@ static eddy_status add_reference(post_report *r, int fill_forces, eddy_error *er
 /* Defaults for a NULL *o; read the case into a new report.  On failure *out
  * keeps the report if the case was read (so the caller can name it), else
  * NULL. */
-static eddy_status prepare(const char *case_path, const post_run_opts **o,
-                           post_run_opts *defaults, post_report **out, eddy_error *err)
+static eddy_status prepare(const char *case_path, const app_run_opts **o,
+                           app_run_opts *defaults, app_report **out, eddy_error *err)
 {
     if (*o == NULL) {
-        post_run_opts_defaults(defaults);
+        app_run_opts_defaults(defaults);
         *o = defaults;
     }
     *out = NULL;
-    post_report *r = calloc(1, sizeof *r);
+    app_report *r = calloc(1, sizeof *r);
     if (r == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
     eddy_status s = mesh_case_load(case_path, &r->c, err);
@@ -166,15 +159,15 @@ static eddy_status prepare(const char *case_path, const post_run_opts **o,
     return EDDY_OK;
 }
 
-static eddy_status write_field_outputs(post_report *r, const mesh_grid *g, const post_run_opts *o,
+static eddy_status write_field_outputs(app_report *r, const mesh_grid *g, const app_run_opts *o,
                                        int k, const double *a, post_fields *pf, eddy_error *err);
-static eddy_status write_force_plot(post_report *r, eddy_error *err);
-static eddy_status write_stop_outputs(post_report *r, const post_run_opts *o, eddy_error *err);
+static eddy_status write_force_plot(app_report *r, eddy_error *err);
+static eddy_status write_stop_outputs(app_report *r, const app_run_opts *o, eddy_error *err);
 
 /* The speed sweep, shared by the worker threads. */
 typedef struct {
-    post_report *r;
-    const post_run_opts *o;
+    app_report *r;
+    const app_run_opts *o;
     const sol_system *sys;
     double slope;
     const double *a_static; /* saturable materials: the static field, each worker's
@@ -190,7 +183,7 @@ typedef struct {
 static void *sweep_worker(void *arg)
 {
     sweep *sw = arg;
-    post_report *r = sw->r;
+    app_report *r = sw->r;
     const mesh_grid *g = r->g;
     sol_work *w = NULL;
     post_fields *pf = NULL;
@@ -232,11 +225,11 @@ static void *sweep_worker(void *arg)
         r->info[k].newton = nli;
         if (s != EDDY_OK)
             continue;
-        double tp = now();
+        double tp = eddy_now();
         s = post_forces_compute(&gsol, a, v, sw->slope, &r->f[k], &err);
         if (s == EDDY_OK && (sw->o->images || sw->o->vtk || r->c->nprofile > 0))
             s = write_field_outputs(r, &gsol, sw->o, k, a, pf, &err);
-        r->info[k] = (post_point_info){info.t_assemble, info.t_factor, info.t_solve, now() - tp,
+        r->info[k] = (app_point_info){info.t_assemble, info.t_factor, info.t_solve, eddy_now() - tp,
                                        info.lnz, info.unz, info.flops, nli};
         if (s == EDDY_OK && sw->o->progress != NULL) {
             pthread_mutex_lock(&sw->lock);
@@ -254,7 +247,7 @@ static void *sweep_worker(void *arg)
 /* How many speeds to solve at once: the request (0: the cores), at most the
  * number of speeds, and only as many numeric factorisations as fit in half
  * the physical memory by UMFPACK's estimate. */
-static int sweep_threads(const post_run_opts *o, int npoint, double factor_bytes,
+static int sweep_threads(const app_run_opts *o, int npoint, double factor_bytes,
                          double field_bytes)
 {
     long cores = sysconf(_SC_NPROCESSORS_ONLN);
@@ -275,7 +268,7 @@ static int sweep_threads(const post_run_opts *o, int npoint, double factor_bytes
  * as the machine and memory allow. */
 static eddy_status run_sweep(sweep *sw, int k0, size_t nn, eddy_error *err)
 {
-    post_report *r = sw->r;
+    app_report *r = sw->r;
     int nt = sweep_threads(sw->o, r->npoint - k0, r->factor_bytes, (double)nn * sizeof(double));
     pthread_t tid[64];
     if (nt > 64)
@@ -304,7 +297,7 @@ static eddy_status run_sweep(sweep *sw, int k0, size_t nn, eddy_error *err)
 }
 
 /* Append na speeds to the case and room for their results to the report. */
-static eddy_status grow_points(post_report *r, const double *add, int na, eddy_error *err)
+static eddy_status grow_points(app_report *r, const double *add, int na, eddy_error *err)
 {
     int n = r->npoint + na;
     double *sp = realloc(r->c->speeds, (size_t)n * sizeof *sp);
@@ -315,7 +308,7 @@ static eddy_status grow_points(post_report *r, const double *add, int na, eddy_e
     if (f == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
     r->f = f;
-    post_point_info *in = realloc(r->info, (size_t)n * sizeof *in);
+    app_point_info *in = realloc(r->info, (size_t)n * sizeof *in);
     if (in == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
     r->info = in;
@@ -329,18 +322,18 @@ static eddy_status grow_points(post_report *r, const double *add, int na, eddy_e
     return EDDY_OK;
 }
 
-eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_report **out,
+eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_report **out,
                            eddy_error *err)
 {
-    post_run_opts defaults;
-    double t0 = now();
+    app_run_opts defaults;
+    double t0 = eddy_now();
     eddy_status s = prepare(case_path, &o, &defaults, out, err);
     if (s != EDDY_OK)
         return s;
-    post_report *r = *out;
+    app_report *r = *out;
     r->method = "grid: box integration with exponentially fitted convection";
     s = mesh_grid_build(r->c, &r->g, NULL, err);
-    r->t_mesh = now() - t0;
+    r->t_mesh = eddy_now() - t0;
     if (s != EDDY_OK)
         return s;
     sol_system *sys = NULL;
@@ -372,7 +365,7 @@ eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_r
     r->ordering = info.ordering;
     r->factor_bytes = sol_factor_bytes(sys);
     if (s == EDDY_OK)
-        s = post_make_dir(r->outdir, err);
+        s = eddy_make_dir(r->outdir, err);
     sweep sw = {.r = r, .o = o, .sys = sys, .status = EDDY_OK};
     if (s == EDDY_OK && sol_is_nonlinear(sys)) {
         /* the static field by Newton-Raphson, also the sweep's starting point */
@@ -395,10 +388,10 @@ eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_r
     /* adaptive sweep: add speeds where the curve is not yet resolved */
     while (s == EDDY_OK && r->c->speed_mode == MESH_SPEEDS_AUTO &&
            r->npoint < r->c->max_points && r->adapt_rounds < 12) {
-        post_design_sort(r);
+        app_design_sort(r);
         double add[64];
         int room = r->c->max_points - r->npoint;
-        int na = post_design_refine(r, add, room < 64 ? room : 64);
+        int na = app_design_refine(r, add, room < 64 ? room : 64);
         if (na == 0)
             break;
         s = grow_points(r, add, na, err);
@@ -407,44 +400,44 @@ eddy_status post_run_solve(const char *case_path, const post_run_opts *o, post_r
         r->adapt_rounds++;
     }
     if (s == EDDY_OK)
-        post_design_sort(r);
+        app_design_sort(r);
     free(a); /* the static field */
     sol_system_free(sys);
     if (s == EDDY_OK && o->reference)
         s = add_reference(r, 0, err);
     if (s == EDDY_OK)
-        s = post_design_evaluate(r, err);
+        s = app_design_evaluate(r, err);
     if (s == EDDY_OK && o->images)
         s = write_force_plot(r, err);
     if (s == EDDY_OK && r->has_stop)
         s = write_stop_outputs(r, o, err);
     if (s == EDDY_OK)
-        s = post_write_results(r->outdir, r, err);
+        s = app_write_results(r->outdir, r, err);
     return s;
 }
 
-eddy_status post_run_reference(const char *case_path, const post_run_opts *o,
-                               post_report **out, eddy_error *err)
+eddy_status app_run_reference(const char *case_path, const app_run_opts *o,
+                               app_report **out, eddy_error *err)
 {
-    post_run_opts defaults;
+    app_run_opts defaults;
     eddy_status s = prepare(case_path, &o, &defaults, out, err);
     if (s != EDDY_OK)
         return s;
-    post_report *r = *out;
+    app_report *r = *out;
     r->method = "layered Fourier reference (independent of the grid)";
     s = add_reference(r, 1, err);
     if (s == EDDY_OK)
-        s = post_make_dir(r->outdir, err);
+        s = eddy_make_dir(r->outdir, err);
     if (s == EDDY_OK && o->images)
         s = write_force_plot(r, err);
     if (s == EDDY_OK)
-        s = post_write_results(r->outdir, r, err);
+        s = app_write_results(r->outdir, r, err);
     return s;
 }
 
 /* The region of interest: every non-air region, moving conductors only
  * over the sources' x-range, plus a margin; the whole domain on request. */
-void post_view_window(const mesh_case *c, int full, double view[4])
+void app_view_window(const mesh_case *c, int full, double view[4])
 {
     view[0] = c->x0;
     view[1] = c->y0;
@@ -490,7 +483,7 @@ void post_view_window(const mesh_case *c, int full, double view[4])
 
 /* g: the report's grid, or its copy with the converged reluctivities of a
  * saturable case. */
-static eddy_status write_field_outputs(post_report *r, const mesh_grid *g, const post_run_opts *o,
+static eddy_status write_field_outputs(app_report *r, const mesh_grid *g, const app_run_opts *o,
                                        int k, const double *a, post_fields *pf, eddy_error *err)
 {
     const mesh_case *c = r->c;
@@ -523,7 +516,7 @@ static eddy_status write_field_outputs(post_report *r, const mesh_grid *g, const
         mo.title = title;
         mo.length_unit = c->length_unit;
         mo.length_scale = 1.0 / c->length_scale;
-        post_view_window(c, o->full_domain, mo.view);
+        app_view_window(c, o->full_domain, mo.view);
         mo.n_flux_lines = 24;
         mo.outlines = boxes;
         mo.n_outlines = nb;
@@ -567,7 +560,7 @@ static eddy_status write_field_outputs(post_report *r, const mesh_grid *g, const
         if (s != EDDY_OK)
             return s;
         snprintf(path, sizeof path, "%s/profile_%s_%s.csv", r->outdir, pr->name, stem);
-        s = post_write_atomic(path, csv, len, err);
+        s = eddy_write_atomic(path, csv, len, err);
         free(csv);
         if (s != EDDY_OK)
             return s;
@@ -576,7 +569,7 @@ static eddy_status write_field_outputs(post_report *r, const mesh_grid *g, const
 }
 
 /* The force-speed plot after the sweep. */
-static eddy_status write_force_plot(post_report *r, eddy_error *err)
+static eddy_status write_force_plot(app_report *r, eddy_error *err)
 {
     int n = r->npoint;
     double *sp = malloc((size_t)n * 3 * sizeof *sp);
@@ -614,9 +607,9 @@ static eddy_status write_force_plot(post_report *r, eddy_error *err)
 }
 
 /* The stop of the case's vehicle: stopping.csv (and stopping.png). */
-static eddy_status write_stop_outputs(post_report *r, const post_run_opts *o, eddy_error *err)
+static eddy_status write_stop_outputs(app_report *r, const app_run_opts *o, eddy_error *err)
 {
-    const post_stop_result *st = &r->stop;
+    const design_stop_result *st = &r->stop;
     size_t cap = 256 + (size_t)st->n_samples * 96, len = 0;
     char *buf = malloc(cap);
     if (buf == NULL)
@@ -628,7 +621,7 @@ static eddy_status write_stop_outputs(post_report *r, const post_run_opts *o, ed
                                 st->s_time[k], st->s_speed[k], st->s_decel[k]);
     char path[4400];
     snprintf(path, sizeof path, "%s/stopping.csv", r->outdir);
-    eddy_status s = post_write_atomic(path, buf, len, err);
+    eddy_status s = eddy_write_atomic(path, buf, len, err);
     free(buf);
     if (s != EDDY_OK || !o->images)
         return s;

@@ -1,9 +1,9 @@
 /*
- * cli_batch.c - front end of `eddy2d batch`: argument parsing, running the
+ * app_batch_main.c - front end of `eddy2d batch`: argument parsing, running the
  * cases (each in a child process, N at a time, with a time limit), the
  * progress line or log, Slurm submission, and the exit status.  The
  * library side (planning, resume decisions, status files, summaries) is in
- * post/post_batch.c.
+ * app/app_batch.c.
  *
  * Why a child process per case: a crash, a runaway allocation or a hang in
  * one case must not lose the others.  The child only solves; the parent
@@ -34,9 +34,9 @@
 #endif
 
 #include "mesh/mesh.h"
-#include "post/post.h"
+#include "app/app.h"
 
-int cli_batch(int argc, char **argv);
+int app_batch_main(int argc, char **argv);
 
 /* Cases at once at most (-j). */
 #define MAX_JOBS 256
@@ -201,13 +201,6 @@ static int parse_args(int argc, char **argv, batch_args *a)
     return 0;
 }
 
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
 static int cores(void)
 {
     long n = sysconf(_SC_NPROCESSORS_ONLN);
@@ -245,7 +238,7 @@ typedef struct {
 
 typedef struct {
     const batch_args *a;
-    const post_batch_plan *p;
+    const app_batch_plan *p;
     int jobs, threads;
     int tty;
     int total, finished, ok, skipped, failed, ran;
@@ -266,7 +259,7 @@ static void draw_progress(runner *r, int force)
 {
     if (!r->tty || r->a->quiet)
         return;
-    double t = now();
+    double t = eddy_now();
     if (!force && t - r->last_draw < 0.5)
         return;
     r->last_draw = t;
@@ -293,7 +286,7 @@ static void report_case(runner *r, int idx, const char *what, const char *msg, d
     r->finished++;
     if (r->a->quiet)
         return;
-    const post_batch_case *c = &r->p->cases[idx];
+    const app_batch_case *c = &r->p->cases[idx];
     int failed = msg != NULL;
     if (r->tty && !failed) {
         draw_progress(r, 1);
@@ -314,13 +307,13 @@ static void report_case(runner *r, int idx, const char *what, const char *msg, d
     draw_progress(r, 1);
 }
 
-static void record_failure(runner *r, int idx, post_case_state st, const char *msg, double sec)
+static void record_failure(runner *r, int idx, app_case_state st, const char *msg, double sec)
 {
     eddy_error err = {0};
-    const post_batch_case *c = &r->p->cases[idx];
-    eddy_status s = post_batch_case_failed(r->a->outdir, c, st, msg, sec, &err);
+    const app_batch_case *c = &r->p->cases[idx];
+    eddy_status s = app_batch_case_failed(r->a->outdir, c, st, msg, sec, &err);
     r->failed++;
-    report_case(r, idx, post_case_state_name(st), msg, sec);
+    report_case(r, idx, app_case_state_name(st), msg, sec);
     if (s != EDDY_OK && !r->a->quiet)
         fprintf(stderr, "eddy2d: error: %s\n", err.msg);
 }
@@ -350,7 +343,7 @@ static void child_main(runner *r, int idx, int wfd, pid_t parent)
     for (int k = 0; k < r->jobs; k++)
         if (r->slots[k].fd >= 0)
             close(r->slots[k].fd);
-    const post_batch_case *c = &r->p->cases[idx];
+    const app_batch_case *c = &r->p->cases[idx];
     test_fault(c->name);
     /* N cases share the machine: each may use its share of the memory */
     if (r->jobs > 1) {
@@ -359,7 +352,7 @@ static void child_main(runner *r, int idx, int wfd, pid_t parent)
             mesh_set_memory_limit(0.5 * (double)pages * (double)psize / r->jobs);
     }
     eddy_error err = {0};
-    eddy_status s = post_batch_case_solve(r->a->outdir, c, r->p->images, r->threads, &err);
+    eddy_status s = app_batch_case_solve(r->a->outdir, c, r->p->images, r->threads, &err);
     child_msg m;
     memset(&m, 0, sizeof m);
     m.status = (int)s;
@@ -378,16 +371,16 @@ static void child_main(runner *r, int idx, int wfd, pid_t parent)
 static int start_case(runner *r, slot *sl, int idx)
 {
     eddy_error err = {0};
-    const post_batch_case *c = &r->p->cases[idx];
-    if (post_batch_case_prepare(r->a->outdir, c, &err) != EDDY_OK) {
-        record_failure(r, idx, POST_CASE_FAILED, err.msg, NAN);
+    const app_batch_case *c = &r->p->cases[idx];
+    if (app_batch_case_prepare(r->a->outdir, c, &err) != EDDY_OK) {
+        record_failure(r, idx, APP_CASE_FAILED, err.msg, NAN);
         return -1;
     }
     int fds[2];
     if (pipe(fds) != 0) {
         char msg[256];
         snprintf(msg, sizeof msg, "cannot create a pipe: %s", strerror(errno));
-        record_failure(r, idx, POST_CASE_FAILED, msg, NAN);
+        record_failure(r, idx, APP_CASE_FAILED, msg, NAN);
         return -1;
     }
     fflush(NULL); /* nothing buffered may be written twice */
@@ -398,7 +391,7 @@ static int start_case(runner *r, slot *sl, int idx)
         snprintf(msg, sizeof msg, "cannot start a process: %s", strerror(errno));
         close(fds[0]);
         close(fds[1]);
-        record_failure(r, idx, POST_CASE_FAILED, msg, NAN);
+        record_failure(r, idx, APP_CASE_FAILED, msg, NAN);
         return -1;
     }
     if (pid == 0) {
@@ -409,7 +402,7 @@ static int start_case(runner *r, slot *sl, int idx)
     sl->pid = pid;
     sl->fd = fds[0];
     sl->idx = idx;
-    sl->start = now();
+    sl->start = eddy_now();
     sl->timed_out = 0;
     return 0;
 }
@@ -433,23 +426,23 @@ static void finish_case(runner *r, slot *sl)
     int wst = 0;
     while (waitpid(sl->pid, &wst, 0) < 0 && errno == EINTR)
         ;
-    double sec = now() - sl->start;
+    double sec = eddy_now() - sl->start;
     int idx = sl->idx;
     r->ran++;
     m.msg[sizeof m.msg - 1] = '\0';
     char msg[1200];
     if (sl->timed_out) {
         snprintf(msg, sizeof msg, "stopped after the case time limit of %g s", r->a->timeout);
-        record_failure(r, idx, POST_CASE_TIMEOUT, msg, sec);
+        record_failure(r, idx, APP_CASE_TIMEOUT, msg, sec);
     } else if (WIFSIGNALED(wst)) {
         snprintf(msg, sizeof msg, "the case's process died of signal %d (%s)", WTERMSIG(wst),
                  strsignal(WTERMSIG(wst)));
-        record_failure(r, idx, POST_CASE_CRASHED, msg, sec);
+        record_failure(r, idx, APP_CASE_CRASHED, msg, sec);
     } else if (got == sizeof m && m.status == EDDY_OK && WIFEXITED(wst) &&
                WEXITSTATUS(wst) == 0) {
         eddy_error err = {0};
-        if (post_batch_case_done(r->a->outdir, &r->p->cases[idx], sec, &err) != EDDY_OK) {
-            record_failure(r, idx, POST_CASE_FAILED, err.msg, sec);
+        if (app_batch_case_done(r->a->outdir, &r->p->cases[idx], sec, &err) != EDDY_OK) {
+            record_failure(r, idx, APP_CASE_FAILED, err.msg, sec);
         } else {
             r->ok++;
             report_case(r, idx, "ok", NULL, sec);
@@ -457,11 +450,11 @@ static void finish_case(runner *r, slot *sl)
     } else if (got == sizeof m && m.status != EDDY_OK) {
         eddy_status s = (eddy_status)m.status;
         int input = s == EDDY_ERR_INPUT || s == EDDY_ERR_TOO_LARGE;
-        record_failure(r, idx, input ? POST_CASE_INVALID : POST_CASE_FAILED, m.msg, sec);
+        record_failure(r, idx, input ? APP_CASE_INVALID : APP_CASE_FAILED, m.msg, sec);
     } else {
         snprintf(msg, sizeof msg, "the case's process ended (exit status %d) without a result",
                  WIFEXITED(wst) ? WEXITSTATUS(wst) : -1);
-        record_failure(r, idx, POST_CASE_FAILED, msg, sec);
+        record_failure(r, idx, APP_CASE_FAILED, msg, sec);
     }
 }
 
@@ -485,7 +478,7 @@ static void run_cases(runner *r, const int *todo, int ntodo)
         /* wait for a child to end, a deadline, or the next progress update */
         struct pollfd pf[MAX_JOBS];
         int map[MAX_JOBS], np = 0;
-        double t = now(), wait_s = 0.5;
+        double t = eddy_now(), wait_s = 0.5;
         for (int k = 0; k < r->jobs && np < MAX_JOBS; k++) {
             slot *sl = &r->slots[k];
             if (sl->fd < 0)
@@ -568,11 +561,11 @@ static int absolute(const char *dir, char *out, size_t size)
     return 0;
 }
 
-static void print_warnings(const post_batch_plan *p)
+static void print_warnings(const app_batch_plan *p)
 {
     const char *last_src = NULL, *last_w = NULL;
     for (int k = 0; k < p->ncase; k++) {
-        const post_batch_case *c = &p->cases[k];
+        const app_batch_case *c = &p->cases[k];
         if (c->warnings == NULL)
             continue;
         if (last_src != NULL && strcmp(last_src, c->source) == 0 &&
@@ -590,11 +583,11 @@ static void print_warnings(const post_batch_plan *p)
     }
 }
 
-static int finish_summary(const batch_args *a, const post_batch_plan *p, int ran, int skipped)
+static int finish_summary(const batch_args *a, const app_batch_plan *p, int ran, int skipped)
 {
     eddy_error err = {0};
-    post_batch_counts n;
-    if (post_batch_write_summary(a->outdir, p, &n, &err) != EDDY_OK) {
+    app_batch_counts n;
+    if (app_batch_write_summary(a->outdir, p, &n, &err) != EDDY_OK) {
         fprintf(stderr, "eddy2d: error: summary: %s\n", err.msg);
         return 1;
     }
@@ -604,7 +597,7 @@ static int finish_summary(const batch_args *a, const post_batch_plan *p, int ran
             printf(" (%d solved now, %d up to date)", ran, skipped);
         printf(", %d failed, %d not run\n", n.failed, n.not_run);
         printf("summary: %s/summary.html (also summary.csv, summary.json)\n", a->outdir);
-        printf("note: %s\n", post_safety_notice());
+        printf("note: %s\n", app_safety_notice());
     }
     return n.failed > 0 || n.not_run > 0 ? 1 : 0;
 }
@@ -635,7 +628,7 @@ static int submit(const char *outdir)
     return 0;
 }
 
-static int run_slurm(batch_args *a, post_batch_plan *p, runner *r)
+static int run_slurm(batch_args *a, app_batch_plan *p, runner *r)
 {
     eddy_error err = {0};
     char absdir[PATH_MAX], exe[PATH_MAX];
@@ -656,12 +649,12 @@ static int run_slurm(batch_args *a, post_batch_plan *p, runner *r)
     }
     int ntodo = 0, skipped = 0;
     for (int k = 0; k < p->ncase; k++) {
-        post_case_state st = post_batch_case_state(a->outdir, &p->cases[k]);
-        if (st == POST_CASE_OK)
+        app_case_state st = app_batch_case_state(a->outdir, &p->cases[k]);
+        if (st == APP_CASE_OK)
             skipped++;
         else if (p->cases[k].invalid) {
-            if (st != POST_CASE_INVALID)
-                record_failure(r, k, POST_CASE_INVALID, p->cases[k].error, NAN);
+            if (st != APP_CASE_INVALID)
+                record_failure(r, k, APP_CASE_INVALID, p->cases[k].error, NAN);
         } else
             todo[ntodo++] = k;
     }
@@ -671,8 +664,8 @@ static int run_slurm(batch_args *a, post_batch_plan *p, runner *r)
             printf("batch: nothing to submit: every case is up to date or invalid\n");
         return finish_summary(a, p, 0, skipped);
     }
-    post_batch_slurm_opts so;
-    post_batch_slurm_opts_defaults(&so);
+    app_batch_slurm_opts so;
+    app_batch_slurm_opts_defaults(&so);
     so.exe = exe;
     so.ntask = ntodo;
     so.tasks = todo;
@@ -680,14 +673,14 @@ static int run_slurm(batch_args *a, post_batch_plan *p, runner *r)
     so.case_timeout = a->timeout;
     so.nextra = a->nslurm_opt;
     so.extra = a->slurm_opts;
-    eddy_status s = post_batch_write_slurm(absdir, p, &so, &err);
+    eddy_status s = app_batch_write_slurm(absdir, p, &so, &err);
     free(todo);
     if (s != EDDY_OK) {
         fprintf(stderr, "eddy2d: error: %s\n", err.msg);
         return eddy_exit_code(s);
     }
     /* a summary now, so the folder reads sensibly before the jobs run */
-    post_batch_write_summary(a->outdir, p, NULL, &err);
+    app_batch_write_summary(a->outdir, p, NULL, &err);
     if (!a->quiet)
         printf("batch: %d of %d cases to run under Slurm (%d up to date); wrote %s/batch.sbatch, "
                "summary.sbatch and submit.sh\n",
@@ -700,7 +693,7 @@ static int run_slurm(batch_args *a, post_batch_plan *p, runner *r)
     return submit(absdir);
 }
 
-int cli_batch(int argc, char **argv)
+int app_batch_main(int argc, char **argv)
 {
     batch_args a;
     int rc = parse_args(argc, argv, &a);
@@ -710,12 +703,12 @@ int cli_batch(int argc, char **argv)
         return rc < 0 ? 0 : rc;
     }
     eddy_error err = {0};
-    post_batch_plan *p = NULL;
+    app_batch_plan *p = NULL;
     eddy_status s;
     if (a.run_one >= 0 || a.summary_only)
-        s = post_batch_plan_load(a.outdir, &p, &err);
+        s = app_batch_plan_load(a.outdir, &p, &err);
     else
-        s = post_batch_plan_build(a.ninput, a.inputs, a.images, &p, &err);
+        s = app_batch_plan_build(a.ninput, a.inputs, a.images, &p, &err);
     if (s != EDDY_OK) {
         fprintf(stderr, "eddy2d: error: %s\n", err.msg[0] ? err.msg : eddy_strerror(s));
         free(a.inputs);
@@ -725,7 +718,7 @@ int cli_batch(int argc, char **argv)
     if (a.run_one >= p->ncase) {
         fprintf(stderr, "eddy2d: error: --run-one %ld: the plan in %s has %d cases (0 to %d)\n",
                 a.run_one, a.outdir, p->ncase, p->ncase - 1);
-        post_batch_plan_free(p);
+        app_batch_plan_free(p);
         free(a.inputs);
         free(a.slurm_opts);
         return 2;
@@ -738,7 +731,7 @@ int cli_batch(int argc, char **argv)
     r.a = &a;
     r.p = p;
     r.tty = isatty(STDERR_FILENO) && !a.quiet;
-    r.t0 = now();
+    r.t0 = eddy_now();
     int ncore = cores();
     if (a.summary_only) {
         rc = finish_summary(&a, p, 0, 0);
@@ -747,7 +740,7 @@ int cli_batch(int argc, char **argv)
     if (a.run_one < 0) {
         /* one batch at a time in a folder (released when this process ends, even
          * by SIGKILL); array tasks work on different cases and take no lock */
-        s = post_make_dir(a.outdir, &err);
+        s = eddy_make_dir(a.outdir, &err);
         if (s != EDDY_OK) { /* the folder named by -o is unusable */
             fprintf(stderr, "eddy2d: error: %s\n", err.msg);
             rc = 2;
@@ -759,7 +752,7 @@ int cli_batch(int argc, char **argv)
             rc = 2;
             goto out;
         }
-        s = post_batch_plan_save(p, a.outdir, &err);
+        s = app_batch_plan_save(p, a.outdir, &err);
         if (s != EDDY_OK) {
             fprintf(stderr, "eddy2d: error: %s\n", err.msg);
             rc = 1;
@@ -792,7 +785,7 @@ int cli_batch(int argc, char **argv)
     int ntodo = 0;
     r.total = last - first;
     for (int k = first; k < last; k++) {
-        int done = post_batch_case_state(a.outdir, &p->cases[k]) == POST_CASE_OK;
+        int done = app_batch_case_state(a.outdir, &p->cases[k]) == APP_CASE_OK;
         if (!done && !p->cases[k].invalid)
             todo[ntodo++] = k;
     }
@@ -814,12 +807,12 @@ int cli_batch(int argc, char **argv)
         fprintf(stderr, "eddy2d batch: %d cases, %d to solve, %d at a time, %d thread%s each\n",
                 p->ncase, ntodo, r.jobs, r.threads, r.threads == 1 ? "" : "s");
     for (int k = first; k < last; k++) {
-        if (post_batch_case_state(a.outdir, &p->cases[k]) == POST_CASE_OK) {
+        if (app_batch_case_state(a.outdir, &p->cases[k]) == APP_CASE_OK) {
             r.skipped++;
             r.ok++;
             report_case(&r, k, "up to date, skipped", NULL, NAN);
         } else if (p->cases[k].invalid) {
-            record_failure(&r, k, POST_CASE_INVALID, p->cases[k].error, NAN);
+            record_failure(&r, k, APP_CASE_INVALID, p->cases[k].error, NAN);
         }
     }
     run_cases(&r, todo, ntodo);
@@ -833,7 +826,7 @@ out:
     if (lock_fd >= 0)
         close(lock_fd);
     free(r.slots);
-    post_batch_plan_free(p);
+    app_batch_plan_free(p);
     free(a.inputs);
     free(a.slurm_opts);
     return rc;

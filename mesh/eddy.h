@@ -1,0 +1,138 @@
+/*
+ * eddy.h - what every module of eddy2d shares (prefix eddy_): the one
+ * project-wide status enum, the physical and numerical constants, and a few
+ * small system helpers (clock, whole-file reading, atomic writing, a growing
+ * text buffer, the memory limit).
+ *
+ * Every library function of every module (mesh_, sol_, post_) returns an
+ * eddy_status.  EDDY_OK is zero; every other value is an error.  A function
+ * that can fail also takes an optional `eddy_error *err` (may be NULL) that
+ * receives a human-readable message and the source file and line where the
+ * error was raised.  Library code never prints and never exits: only main()
+ * decides what the user sees.
+ *
+ * This header lives in mesh/, the first module of the pipeline, and is
+ * included by mesh/mesh.h; every module may include it, and it includes no
+ * other header of the project.  Implementation: mesh/eddy.c (status) and
+ * mesh/eddy_util.c (the helpers).
+ */
+#ifndef EDDY_EDDY_H
+#define EDDY_EDDY_H
+
+#include <stdarg.h>
+#include <stddef.h>
+
+typedef enum {
+    EDDY_OK = 0,
+    EDDY_ERR_NOMEM,          /* an allocation failed                           */
+    EDDY_ERR_IO,             /* a file could not be read or written            */
+    EDDY_ERR_INPUT,          /* invalid case file or argument (exit status 2)  */
+    EDDY_ERR_TOO_LARGE,      /* the mesh would not fit in memory (exit 2)      */
+    EDDY_ERR_SINGULAR,       /* the system matrix is singular                  */
+    EDDY_ERR_SOLVER,         /* any other failure of the sparse solver         */
+    EDDY_ERR_NUMERIC,        /* a result is NaN or infinite                    */
+    EDDY_ERR_NOT_APPLICABLE, /* the request does not fit this case             */
+    EDDY_ERR_INTERNAL        /* a bug: an invariant of the program failed      */
+} eddy_status;
+
+/* Details of the last error.  msg is always NUL-terminated. */
+typedef struct {
+    eddy_status status;
+    const char *file;        /* source file that raised it (static string) */
+    int line;                /* source line that raised it                 */
+    char msg[1024];
+} eddy_error;
+
+/* Short description of a status code; never NULL, static storage. */
+const char *eddy_strerror(eddy_status s);
+
+/* Fill *err (if non-NULL) and return s.  Use through EDDY_RAISE.  A second
+ * raise on the same err keeps the first message unless it was empty. */
+eddy_status eddy_raise(eddy_error *err, eddy_status s, const char *file, int line,
+                       const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 5, 6)))
+#endif
+    ;
+
+/* Record an error with file and line and return its status:
+ *     return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: must be positive", path); */
+#define EDDY_RAISE(err, s, ...) eddy_raise((err), (s), __FILE__, __LINE__, __VA_ARGS__)
+
+/* Exit status for a status: 0 OK, 2 invalid input / too large, 1 otherwise. */
+int eddy_exit_code(eddy_status s);
+
+/* ------------------------------------------------------------------------ */
+/* Constants (SI)                                                            */
+/* ------------------------------------------------------------------------ */
+
+#define EDDY_VERSION "0.1.0"
+
+/* pi to double precision. */
+#define EDDY_PI 3.14159265358979323846
+
+/* mu0 in H/m.  The exact pre-2019 value; the 2019 SI value differs by < 1e-9. */
+#define EDDY_MU0 (4.0e-7 * EDDY_PI)
+
+/* ------------------------------------------------------------------------ */
+/* Small system helpers (mesh/eddy_util.c)                                   */
+/* ------------------------------------------------------------------------ */
+
+/* Monotonic wall clock in seconds (for timings only). */
+double eddy_now(void);
+
+/*
+ * Read a whole file as a NUL-terminated text.
+ *   path: the file.  max: the largest size accepted, bytes.
+ *   out:  receives a malloc'ed text (caller frees); NULL on error.
+ *   len:  optional, receives its length (bytes, without the NUL).
+ * Returns EDDY_OK, EDDY_ERR_IO (cannot open or read), EDDY_ERR_INPUT
+ * (larger than max, or holding a NUL byte: not a text), EDDY_ERR_NOMEM.
+ */
+eddy_status eddy_read_file(const char *path, long max, char **out, size_t *len,
+                           eddy_error *err);
+
+/*
+ * Write size bytes to path atomically: to a temporary file in the same
+ * directory (path.tmp.<pid>), flushed to disk, then renamed over path, so an
+ * interrupted run never leaves a half-written file.
+ * Returns EDDY_OK or EDDY_ERR_IO (the temporary file is removed).
+ */
+eddy_status eddy_write_atomic(const char *path, const char *data, size_t size,
+                              eddy_error *err);
+
+/* Create a directory and its parents (like mkdir -p).  Returns EDDY_OK or
+ * EDDY_ERR_IO. */
+eddy_status eddy_make_dir(const char *dir, eddy_error *err);
+
+/* A case's default name from a file name: the base name up to its first
+ * '.', every character outside [A-Za-z0-9_-] as '_'; "case" if empty.
+ * name receives at most size - 1 characters and a NUL. */
+void eddy_name_from_path(const char *fname, char *name, size_t size);
+
+/*
+ * A growing NUL-terminated text.  Start from {0}; after a failed allocation
+ * it stays failed (oom = 1) and ignores further writes, so a writer checks
+ * oom once at the end.  The caller owns p (free it; it may be NULL when
+ * nothing was written).
+ */
+typedef struct {
+    char *p;
+    size_t len, cap;
+    int oom;
+} eddy_text;
+
+/* Append n bytes of s. */
+void eddy_text_put(eddy_text *b, const char *s, size_t n);
+
+/* Append a NUL-terminated string. */
+void eddy_text_str(eddy_text *b, const char *s);
+
+/* Append printf-formatted text. */
+void eddy_text_printf(eddy_text *b, const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+
+#endif

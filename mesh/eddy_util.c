@@ -1,0 +1,202 @@
+/*
+ * eddy_util.c - the small system helpers every module shares (mesh/eddy.h):
+ * clock, whole-file reading, atomic writing, directories, default names and
+ * the growing text buffer.
+ */
+#include "mesh/eddy.h"
+
+#include <errno.h>
+#include <fcntl.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <time.h>
+#include <unistd.h>
+
+double eddy_now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+void eddy_text_put(eddy_text *b, const char *s, size_t n)
+{
+    if (b->oom)
+        return;
+    if (b->len + n + 1 > b->cap) {
+        size_t cap = b->cap ? b->cap : 1024;
+        while (cap < b->len + n + 1) {
+            if (cap > ((size_t)-1) / 2) {
+                b->oom = 1;
+                return;
+            }
+            cap *= 2;
+        }
+        char *q = realloc(b->p, cap);
+        if (q == NULL) {
+            b->oom = 1;
+            return;
+        }
+        b->p = q;
+        b->cap = cap;
+    }
+    memcpy(b->p + b->len, s, n);
+    b->len += n;
+    b->p[b->len] = '\0';
+}
+
+void eddy_text_str(eddy_text *b, const char *s)
+{
+    eddy_text_put(b, s, strlen(s));
+}
+
+void eddy_text_printf(eddy_text *b, const char *fmt, ...)
+{
+    char small[512];
+    va_list ap;
+    va_start(ap, fmt);
+    int n = vsnprintf(small, sizeof small, fmt, ap);
+    va_end(ap);
+    if (n < 0) {
+        b->oom = 1;
+        return;
+    }
+    if ((size_t)n < sizeof small) {
+        eddy_text_put(b, small, (size_t)n);
+        return;
+    }
+    char *big = malloc((size_t)n + 1);
+    if (big == NULL) {
+        b->oom = 1;
+        return;
+    }
+    va_start(ap, fmt);
+    vsnprintf(big, (size_t)n + 1, fmt, ap);
+    va_end(ap);
+    eddy_text_put(b, big, (size_t)n);
+    free(big);
+}
+
+eddy_status eddy_read_file(const char *path, long max, char **out, size_t *len,
+                           eddy_error *err)
+{
+    *out = NULL;
+    FILE *f = fopen(path, "rb");
+    if (f == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot open: %s", path, strerror(errno));
+    eddy_text b = {0};
+    char chunk[65536];
+    size_t n;
+    while ((n = fread(chunk, 1, sizeof chunk, f)) > 0) {
+        eddy_text_put(&b, chunk, n);
+        if (b.oom || b.len > (size_t)max)
+            break;
+    }
+    int failed = ferror(f);
+    fclose(f);
+    if (b.oom) {
+        free(b.p);
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory reading %s", path);
+    }
+    if (failed) {
+        free(b.p);
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: read error", path);
+    }
+    if (b.len > (size_t)max) {
+        free(b.p);
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: larger than %ld bytes",
+                          path, max);
+    }
+    if (b.p == NULL) { /* empty file */
+        b.p = malloc(1);
+        if (b.p == NULL)
+            return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory reading %s", path);
+        b.p[0] = '\0';
+    }
+    if (strlen(b.p) != b.len) {
+        free(b.p);
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: contains a NUL byte; not a JSON text", path);
+    }
+    *out = b.p;
+    if (len != NULL)
+        *len = b.len;
+    return EDDY_OK;
+}
+
+void eddy_name_from_path(const char *fname, char *name, size_t size)
+{
+    const char *base = strrchr(fname, '/');
+    base = base != NULL ? base + 1 : fname;
+    size_t k = 0;
+    for (; base[k] != '\0' && base[k] != '.' && k + 1 < size; k++) {
+        char ch = base[k];
+        int ok = (ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') ||
+                 (ch >= '0' && ch <= '9') || ch == '_' || ch == '-';
+        name[k] = ok ? ch : '_';
+    }
+    name[k] = '\0';
+    if (k == 0)
+        snprintf(name, size, "case");
+}
+
+eddy_status eddy_make_dir(const char *dir, eddy_error *err)
+{
+    char path[4096];
+    size_t len = strlen(dir);
+    if (len == 0 || len >= sizeof path)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "bad directory name");
+    memcpy(path, dir, len + 1);
+    for (size_t k = 1; k <= len; k++) {
+        if (path[k] != '/' && path[k] != '\0')
+            continue;
+        char keep = path[k];
+        path[k] = '\0';
+        if (mkdir(path, 0777) != 0 && errno != EEXIST)
+            return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot create directory: %s", path,
+                              strerror(errno));
+        path[k] = keep;
+    }
+    struct stat st;
+    if (stat(dir, &st) != 0 || !S_ISDIR(st.st_mode))
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: not a directory", dir);
+    return EDDY_OK;
+}
+
+eddy_status eddy_write_atomic(const char *path, const char *data, size_t size, eddy_error *err)
+{
+    char tmp[4200];
+    int n = snprintf(tmp, sizeof tmp, "%s.tmp.%ld", path, (long)getpid());
+    if (n < 0 || (size_t)n >= sizeof tmp)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: path too long", path);
+    int fd = open(tmp, O_WRONLY | O_CREAT | O_TRUNC, 0666);
+    if (fd < 0)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot create: %s", tmp, strerror(errno));
+    size_t done = 0;
+    while (done < size) {
+        ssize_t w = write(fd, data + done, size - done);
+        if (w < 0 && errno == EINTR)
+            continue;
+        if (w <= 0) {
+            int e = errno;
+            close(fd);
+            unlink(tmp);
+            return EDDY_RAISE(err, EDDY_ERR_IO, "%s: write failed: %s", tmp, strerror(e));
+        }
+        done += (size_t)w;
+    }
+    if (fsync(fd) != 0 || close(fd) != 0) {
+        int e = errno;
+        unlink(tmp);
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot flush: %s", tmp, strerror(e));
+    }
+    if (rename(tmp, path) != 0) {
+        int e = errno;
+        unlink(tmp);
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot rename into place: %s", path,
+                          strerror(e));
+    }
+    return EDDY_OK;
+}
+

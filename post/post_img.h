@@ -1,0 +1,199 @@
+/*
+ * post_img.h - pictures of the post-processing module (prefix post_): field
+ * maps, force-speed plots and two-curve plots as PNG, drawn with cairo into
+ * an image buffer and written with libpng.  Plotting primitives (axes,
+ * ticks, text, colour bars, the PNG writer) are private to post/
+ * (post/post_draw.h).
+ */
+#ifndef EDDY_POST_IMG_H
+#define EDDY_POST_IMG_H
+
+#include "mesh/eddy.h"
+
+/*
+ * Pictures of the post-processing module: field maps and
+ * force-speed plots, drawn with cairo into an image buffer and written as
+ * PNG with libpng.
+ *
+ * Conventions shared by every function here:
+ *   - all inputs are in SI units (m, T, Wb/m, A/m^2, N/m, m/s); the scale
+ *     factors in the option structs convert to display units for labels only;
+ *   - nothing is printed and nothing exits: every function that can fail
+ *     returns an eddy_status (EDDY_OK on success) and, if err is non-NULL,
+ *     fills it with a message;
+ *   - the caller keeps ownership of every array and string passed in; none
+ *     is retained after the call returns;
+ *   - pictures are written as 8-bit RGB PNG files (RGBA only if a pixel is
+ *     not opaque, which the renderers here never produce) with text chunks
+ *     describing the content (tEXt, or iTXt when a value is not plain ASCII).
+ *
+ * Text is drawn with cairo's "sans-serif" toy font.  In the quantity and
+ * unit labels of a field map, "_x" / "_{abc}" draw a subscript and "^2" /
+ * "^{-1}" a superscript ("J_z", "MA/m^2"); titles and case names are drawn
+ * literally.
+ */
+
+/* ------------------------------------------------------------------ */
+/* Colour maps                                                         */
+/* ------------------------------------------------------------------ */
+
+/* Colour of a normalised value t in [0, 1] (clamped; NaN gives 0.5).
+ *   diverging != 0: Moreland's diverging "cool to warm" map (2009),
+ *                   interpolated in his Msh colour space between the end
+ *                   colours (59,76,192) and (180,4,38); t = 0.5 is the
+ *                   neutral grey-white (221,221,221);
+ *   diverging == 0: viridis (van der Walt & Smith, 2015), 256-entry table
+ *                   interpolated linearly.
+ * rgb receives sRGB components 0..255 (rounded).  Never fails. */
+void post_cmap_rgb(int diverging, double t, unsigned char rgb[3]);
+
+/* ------------------------------------------------------------------ */
+/* Field map                                                           */
+/* ------------------------------------------------------------------ */
+
+typedef struct {
+    const char *title;       /* UTF-8 title drawn above the map; NULL: none      */
+    const char *quantity;    /* e.g. "J_z" or "|B|": colour-bar label, PNG text  */
+    const char *unit_label;  /* display unit, e.g. "MA/m^2" or "T"               */
+    double value_scale;      /* display value = SI value * value_scale           */
+    int diverging;           /* 1: cool-warm, range -m..m with m = max |v|;
+                                0: viridis, range min(0, vmin)..vmax             */
+    const char *length_unit; /* axis unit label, e.g. "mm" or "m"                */
+    double length_scale;     /* display length = metres * length_scale           */
+    int width_px;            /* image width in px (0: 1200; 300..10000)          */
+    double view[4];          /* x0, y0, x1, y1 in m: the window drawn (crop)      */
+    int n_flux_lines;        /* contours of A at equal steps (0..1000); 0: none  */
+    const double *outlines;  /* n_outlines rectangles x0,y0,x1,y1 (m), may be NULL
+                                when n_outlines == 0                             */
+    int n_outlines;
+    const char *case_name;   /* PNG text "eddy2d:case"; NULL: omitted            */
+    double speed;            /* m/s, PNG text "eddy2d:speed_m_per_s"; NaN: omitted */
+    const char *version;     /* tool version for PNG text "Software"; NULL: none */
+} post_map_opts;
+
+/* Fill *o with defaults: no title, quantity "value", unit "", value_scale 1,
+ * viridis, axes in mm (length_scale 1000), width 1200 px, view all zero
+ * (meaning: the whole grid), no flux lines, no outlines, speed NaN. */
+void post_map_opts_defaults(post_map_opts *o);
+
+/* Where things go in a field-map image (all in px, origin top-left, y down).
+ * The plot rectangle holds exactly plot_w x plot_h resampled field pixels;
+ * plot_h = round(plot_w * view height / view width) (true geometry). */
+typedef struct {
+    int width, height;        /* image size                                  */
+    int plot_x, plot_y;       /* top-left pixel of the field rectangle        */
+    int plot_w, plot_h;       /* its size                                    */
+    int bar_x, bar_y;         /* top-left pixel of the colour-bar gradient    */
+    int bar_w, bar_h;         /* its size (top row = vmax)                   */
+    double vmin, vmax;        /* colour range, SI units of the field          */
+    double view[4];           /* the view actually drawn, m                   */
+} post_map_geom;
+
+/* Compute the layout post_map_png would use for the same arguments, without
+ * drawing.  Arguments as for post_map_png (a_nodes is not needed).
+ * Returns EDDY_OK, EDDY_ERR_INPUT (bad argument), EDDY_ERR_NUMERIC
+ * (non-finite field value) or EDDY_ERR_NOMEM. */
+eddy_status post_map_geometry(int nx, int ny, const double *x, const double *y,
+                              const double *field, const unsigned char *cell_mask,
+                              const post_map_opts *o, post_map_geom *g, eddy_error *err);
+
+/* Draw a colour map of a nodal field and write it as a PNG file.
+ *   path       output file (overwritten).
+ *   nx, ny     grid size, both >= 2.
+ *   x[nx], y[ny] node coordinates in m, finite and strictly increasing
+ *              (non-uniform tensor grid).
+ *   field      node values (SI), nx*ny, index i + nx*j.  Each pixel of the
+ *              map is located on the grid by binary search and the field is
+ *              interpolated bilinearly inside its cell.
+ *   cell_mask  optional, (nx-1)*(ny-1) bytes, index i + (nx-1)*j: cells with
+ *              0 are painted as the value 0 (e.g. J outside conductors) and
+ *              do not count for the colour range; NULL: all cells count.
+ *   a_nodes    optional node values of the vector potential A_z (Wb/m),
+ *              nx*ny, for o->n_flux_lines contour lines at equal steps of A
+ *              between min and max A over the cells in view (so their
+ *              density shows |B|); NULL: no flux lines.
+ *   o          options (see post_map_opts); view all zero = whole grid.
+ * Pixels of the view outside the grid are left white.  y points up.
+ * Returns EDDY_OK; EDDY_ERR_INPUT for a bad argument; EDDY_ERR_NUMERIC for a
+ * non-finite field or A value; EDDY_ERR_NOMEM; EDDY_ERR_IO when the file
+ * cannot be written. */
+eddy_status post_map_png(const char *path, int nx, int ny, const double *x, const double *y,
+                         const double *field, const unsigned char *cell_mask,
+                         const double *a_nodes, const post_map_opts *o, eddy_error *err);
+
+/* ------------------------------------------------------------------ */
+/* Force-speed plot                                                    */
+/* ------------------------------------------------------------------ */
+
+typedef struct {
+    const char *title;     /* UTF-8; NULL: "Forces vs speed"                */
+    const char *case_name; /* PNG text "eddy2d:case"; NULL: omitted         */
+    const char *version;   /* PNG text "Software"; NULL: omitted            */
+    int width_px, height_px; /* 0: 1000 x 650; each 300..10000              */
+} post_plot_opts;
+
+/* Fill *o with the defaults above (all NULL, sizes 0 = default). */
+void post_plot_opts_defaults(post_plot_opts *o);
+
+
+/* Plot drag and normal force per unit length against speed and write a PNG.
+ *   speed[n]   m/s (n >= 1); drag[n], normal[n] N/m (normal may be NULL).
+ *              Computed points are marked and joined in speed order.
+ *   low_speed_slope  drag/speed at low speed (N/m per m/s), drawn as the
+ *              dashed line drag = slope * v; NAN: not drawn.
+ *   ref_n, ref_speed, ref_drag, ref_normal  reference curve(s) drawn as thin
+ *              lines without markers; ref_n may be 0 (arrays then unused);
+ *              with ref_n > 0 ref_speed is required and either of ref_drag /
+ *              ref_normal may be NULL.
+ *   o          options; may be NULL for defaults.
+ * The speed axis is logarithmic when all |speeds| are > 0, of one sign and
+ * span more than a decade (|v| is then plotted), else linear.  The peak drag
+ * (see design_peak) is marked and labelled with its speed.
+ * Returns EDDY_OK; EDDY_ERR_INPUT for bad arguments; EDDY_ERR_NUMERIC for a
+ * non-finite value; EDDY_ERR_NOMEM; EDDY_ERR_IO when the file cannot be
+ * written. */
+eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
+                                 const double *drag, const double *normal,
+                                 double low_speed_slope, int ref_n, const double *ref_speed,
+                                 const double *ref_drag, const double *ref_normal,
+                                 const post_plot_opts *o, eddy_error *err);
+
+/* ------------------------------------------------------------------ */
+/* Two curves against a common x                                       */
+/* ------------------------------------------------------------------ */
+
+typedef struct {
+    const char *title;     /* drawn above the plot (NULL: none) and PNG text "Title" */
+    const char *case_name; /* PNG text "eddy2d:case"; NULL: omitted                 */
+    const char *version;   /* tool version for PNG text "Software"; NULL: none      */
+    const char *x_label;   /* x-axis title, e.g. "distance (m)"; PNG "eddy2d:x"     */
+    const char *y1_label;  /* left axis, e.g. "speed (m/s)"; PNG "eddy2d:y1"        */
+    const char *y2_label;  /* right axis, e.g. "deceleration (m/s^2)"; PNG
+                              "eddy2d:y2"; unused without y2                        */
+    const char *y1_name, *y2_name; /* legend entries (NULL: the axis label)         */
+    int width_px, height_px;       /* 0: 1000 x 650; each 300..10000               */
+} post_xy_opts;
+
+/* Fill *o with defaults: everything NULL / 0. */
+void post_xy_opts_defaults(post_xy_opts *o);
+
+/* Plot y1 (and y2) against x and write a PNG.
+ *   x[n], y1[n]  n >= 2 finite values; the curve joins the points in the
+ *                given order (x need not be monotonic).
+ *   y2[n]        a second curve on a right-hand axis with its own scale, its
+ *                ticks on the grid lines of y1's; NULL: none.
+ *   o            options; may be NULL for defaults.
+ * Linear axes with nice ticks; y1 is drawn in blue, y2 in vermillion (with
+ * axis titles in the same colours).  A legend is drawn for two curves, or
+ * for one when y1_name is set.  In axis titles and legend names "_x" /
+ * "_{abc}" draw a subscript and "^2" / "^{-1}" a superscript.
+ * Returns EDDY_OK; EDDY_ERR_INPUT for n < 2, a NULL path or array, a
+ * non-finite value or a bad size; EDDY_ERR_NOMEM; EDDY_ERR_IO when the file
+ * cannot be written. */
+eddy_status post_plot_xy_png(const char *path, int n, const double *x, const double *y1,
+                             const double *y2, const post_xy_opts *o, eddy_error *err);
+
+
+
+
+#endif
