@@ -120,8 +120,11 @@ typedef struct {
     int reference;              /* 1: add the layered reference where it fits */
     int threads;                /* speeds solved at once (0: the machine's cores); fewer
                                  * when their factorisations would not fit in memory */
-    double max_memory;          /* bytes allowed for one factorisation (0: no limit
-                                 * beyond the machine's) */
+    double max_memory;          /* bytes this run may use (the user's --max-memory, or a
+                                 * batch case's share); 0: eddy_memory_limit(0).  The
+                                 * mesh size check, the factorisation guard and the
+                                 * number of concurrent speeds all use
+                                 * eddy_memory_limit(max_memory). */
     int max_newton;             /* Newton-Raphson steps allowed per speed with saturable
                                  * materials, 1..SOL_NEWTON_MAX_ITER (0: the maximum) */
     /* optional progress callback after each speed k (0-based) of n */
@@ -358,7 +361,7 @@ eddy_status app_batch_case_prepare(const char *outdir, const app_batch_case *c,
  * Returns what app_run_solve returns (c->error_status for an invalid case).
  */
 eddy_status app_batch_case_solve(const char *outdir, const app_batch_case *c, int images,
-                                  int threads, eddy_error *err);
+                                  int threads, double max_memory, eddy_error *err);
 
 /*
  * Record a finished case: check that result.json exists, remove error.json,

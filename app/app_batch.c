@@ -385,7 +385,7 @@ static eddy_status validate_case(app_batch_case *c)
         return s;
     if (s == EDDY_OK) { /* a mesh far too large is an input error too */
         mesh_estimate est;
-        s = mesh_grid_estimate(mc, &est, &e);
+        s = mesh_grid_estimate(mc, 0.0, &est, &e);
         if (s == EDDY_ERR_NOMEM) {
             mesh_case_free(mc);
             return s;
@@ -1345,7 +1345,7 @@ eddy_status app_batch_case_prepare(const char *outdir, const app_batch_case *c,
 }
 
 eddy_status app_batch_case_solve(const char *outdir, const app_batch_case *c, int images,
-                                  int threads, eddy_error *err)
+                                  int threads, double max_memory, eddy_error *err)
 {
     if (c->invalid)
         return EDDY_RAISE(err, c->error_status ? c->error_status : EDDY_ERR_INPUT, "%s",
@@ -1359,6 +1359,7 @@ eddy_status app_batch_case_solve(const char *outdir, const app_batch_case *c, in
     o.outdir = dir;
     o.images = images;
     o.threads = threads;
+    o.max_memory = max_memory;
     app_report *r = NULL;
     eddy_status s = app_run_solve(path, &o, &r, err);
     app_report_free(r);

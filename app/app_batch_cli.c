@@ -49,6 +49,7 @@ typedef struct {
     int jobs;           /* cases at once; 0: the machine's cores */
     int threads;        /* per case; 0: cores / jobs */
     double timeout;     /* s per case; 0: none */
+    double max_memory;  /* bytes for the whole batch (--max-memory); 0: eddy_memory_limit(0) */
     int images;
     int slurm, dry_run;
     const char **slurm_opts;
@@ -64,7 +65,7 @@ static void batch_usage(FILE *out)
         out,
         "usage:\n"
         "  eddy2d batch DIR_OR_CASE... -o OUTDIR [-j N] [--threads T] [--case-timeout S]\n"
-        "               [--no-images] [-q]\n"
+        "               [--max-memory G] [--no-images] [-q]\n"
         "  eddy2d batch DIR_OR_CASE... -o OUTDIR --slurm [--dry-run] [--slurm-option OPT]...\n"
         "  eddy2d batch --run-one INDEX -o OUTDIR [--case-timeout S] [--threads T]\n"
         "  eddy2d batch --summary-only -o OUTDIR\n"
@@ -80,6 +81,8 @@ static void batch_usage(FILE *out)
         "  -j N                cases at once (default: the number of cores)\n"
         "  --threads T         speeds solved at once within a case (default: cores / N)\n"
         "  --case-timeout S    stop a case after S seconds and record it as failed\n"
+        "  --max-memory G      memory for the whole batch in GiB, shared by the cases that\n"
+        "                      run at once (default: half the memory available)\n"
         "  --no-images         no pictures (the summary page then shows no plots)\n"
         "  -q                  quiet: only errors\n"
         "  --slurm             write OUTDIR/batch.sbatch (a job array, one task per case to\n"
@@ -155,6 +158,14 @@ static int parse_args(int argc, char **argv, batch_args *a)
                 return bad_usage("--case-timeout needs seconds > 0, got \"%s\"",
                                  val != NULL ? val : "");
             a->timeout = t;
+            k++;
+        } else if (strcmp(o, "--max-memory") == 0) {
+            char *end = NULL;
+            double gib = val != NULL ? strtod(val, &end) : NAN;
+            if (val == NULL || end == val || *end != '\0' || !(gib > 0) || !isfinite(gib))
+                return bad_usage("--max-memory needs a size in GiB, e.g. 4, got \"%s\"",
+                                 val != NULL ? val : "");
+            a->max_memory = gib * 1073741824.0;
             k++;
         } else if (strcmp(o, "--no-images") == 0) {
             a->images = 0;
@@ -346,13 +357,10 @@ static void child_main(runner *r, int idx, int wfd, pid_t parent)
     const app_batch_case *c = &r->p->cases[idx];
     test_fault(c->name);
     /* N cases share the machine: each may use its share of the memory */
-    if (r->jobs > 1) {
-        long pages = sysconf(_SC_PHYS_PAGES), psize = sysconf(_SC_PAGESIZE);
-        if (pages > 0 && psize > 0)
-            mesh_set_memory_limit(0.5 * (double)pages * (double)psize / r->jobs);
-    }
+    double memory = eddy_memory_limit(r->a->max_memory) / (r->jobs > 1 ? r->jobs : 1);
     eddy_error err = {0};
-    eddy_status s = app_batch_case_solve(r->a->outdir, c, r->p->images, r->threads, &err);
+    eddy_status s =
+        app_batch_case_solve(r->a->outdir, c, r->p->images, r->threads, memory, &err);
     child_msg m;
     memset(&m, 0, sizeof m);
     m.status = (int)s;

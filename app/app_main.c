@@ -52,8 +52,9 @@ static void usage(FILE *out)
             "  --no-reference  do not evaluate the layered reference beside the grid solve\n"
             "  -j N            speeds solved at once (default: the cores; fewer if the\n"
             "                  factorisations would not fit in memory)\n"
-            "  --max-memory G  refuse a factorisation estimated above G GiB (default: the\n"
-            "                  memory available)\n"
+            "  --max-memory G  memory the run may use in GiB: a mesh or factorisation\n"
+            "                  estimated above it is refused (default: half the memory\n"
+            "                  available; check uses it too)\n"
             "  --export-matrix DIR  also write the system matrix and right-hand side of\n"
             "                  every speed in Matrix Market format into DIR\n"
             "\n"
@@ -91,7 +92,7 @@ static int cmd_materials(void)
     return 0;
 }
 
-static int cmd_check(const char *path)
+static int cmd_check(const char *path, double max_memory)
 {
     eddy_error err = {0};
     mesh_case *c = NULL;
@@ -100,7 +101,7 @@ static int cmd_check(const char *path)
         return fail_load(s, &err);
     print_warnings(c);
     mesh_estimate est;
-    s = mesh_grid_estimate(c, &est, &err);
+    s = mesh_grid_estimate(c, eddy_memory_limit(max_memory), &est, &err);
     if (s != EDDY_OK && s != EDDY_ERR_TOO_LARGE) {
         mesh_case_free(c);
         return fail(s, &err);
@@ -124,7 +125,7 @@ static int cmd_check(const char *path)
 }
 
 /* --export-matrix: the matrix and right-hand side of every speed. */
-static int cmd_export(const char *path, const char *dir)
+static int cmd_export(const char *path, const char *dir, double max_memory)
 {
     eddy_error err = {0};
     mesh_case *c = NULL;
@@ -133,7 +134,7 @@ static int cmd_export(const char *path, const char *dir)
     eddy_status s = mesh_case_load(path, &c, &err);
     if (s != EDDY_OK)
         return fail_load(s, &err);
-    s = mesh_grid_build(c, &g, NULL, &err);
+    s = mesh_grid_build(c, eddy_memory_limit(max_memory), &g, NULL, &err);
     if (s == EDDY_OK)
         s = sol_system_alloc(g, &sys, &err);
     if (s == EDDY_OK)
@@ -281,12 +282,12 @@ int main(int argc, char **argv)
         return 2;
     }
     if (strcmp(cmd, "check") == 0)
-        return cmd_check(casefile);
+        return cmd_check(casefile, opts.max_memory);
     if (!quiet && isatty(2)) {
         opts.progress = progress_line;
     }
     if (export_dir != NULL) {
-        int rc = cmd_export(casefile, export_dir);
+        int rc = cmd_export(casefile, export_dir, opts.max_memory);
         if (rc != 0)
             return rc;
     }

@@ -245,8 +245,8 @@ static void *sweep_worker(void *arg)
 }
 
 /* How many speeds to solve at once: the request (0: the cores), at most the
- * number of speeds, and only as many numeric factorisations as fit in half
- * the physical memory by UMFPACK's estimate. */
+ * number of speeds, and only as many numeric factorisations as fit in the
+ * run's memory limit by the solver's estimate. */
 static int sweep_threads(const app_run_opts *o, int npoint, double factor_bytes,
                          double field_bytes)
 {
@@ -256,8 +256,7 @@ static int sweep_threads(const app_run_opts *o, int npoint, double factor_bytes,
         return 1; /* a BLAS that is not safe for concurrent factorisations */
     if (n > npoint)
         n = npoint;
-    long pages = sysconf(_SC_PHYS_PAGES), page = sysconf(_SC_PAGE_SIZE);
-    double avail = pages > 0 && page > 0 ? 0.5 * (double)pages * (double)page : 4e9;
+    double avail = eddy_memory_limit(o->max_memory);
     double per = factor_bytes + 12.0 * field_bytes;
     if (per > 0 && n > 1 && n * per > avail)
         n = (int)(avail / per);
@@ -332,7 +331,8 @@ eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_repo
         return s;
     app_report *r = *out;
     r->method = "grid: box integration with exponentially fitted convection";
-    s = mesh_grid_build(r->c, &r->g, NULL, err);
+    double limit = eddy_memory_limit(o->max_memory);
+    s = mesh_grid_build(r->c, limit, &r->g, NULL, err);
     r->t_mesh = eddy_now() - t0;
     if (s != EDDY_OK)
         return s;
@@ -342,11 +342,8 @@ eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_repo
     s = sol_system_alloc(r->g, &sys, err);
     if (s == EDDY_OK) {
         r->unknowns = sol_unknowns(sys);
-        /* memory guard: one factorisation must fit in the memory available
-         * now, or in the user's limit */
-        long avp = sysconf(_SC_AVPHYS_PAGES), page = sysconf(_SC_PAGE_SIZE);
-        double avail = avp > 0 && page > 0 ? (double)avp * (double)page : 0.0;
-        sol_set_memory_limit(sys, o->max_memory > 0 ? o->max_memory : avail);
+        /* memory guard: one factorisation must fit in the run's limit */
+        sol_set_memory_limit(sys, limit);
         /* ordering (make bench, README): METIS gives the least fill and the
          * fastest numeric factorisations but the slowest analysis; the grid's
          * own nested dissection analyses fastest.  METIS pays off from about

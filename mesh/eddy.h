@@ -101,6 +101,17 @@ eddy_status eddy_read_file(const char *path, long max, char **out, size_t *len,
 eddy_status eddy_write_atomic(const char *path, const char *data, size_t size,
                               eddy_error *err);
 
+/*
+ * The memory one run may use, bytes: the hard limit of this process (the
+ * smallest of the physical memory, RLIMIT_AS and the cgroup's memory.max)
+ * or, with option_bytes > 0 (the user's --max-memory), the smaller of the
+ * option and that limit; without an option, half of the hard limit, so that
+ * the system and other programs keep room.  Every memory check of the
+ * project compares an estimate with this one figure (or with a share of it:
+ * a batch running N cases at once gives each 1/N).
+ */
+double eddy_memory_limit(double option_bytes);
+
 /* Create a directory and its parents (like mkdir -p).  Returns EDDY_OK or
  * EDDY_ERR_IO. */
 eddy_status eddy_make_dir(const char *dir, eddy_error *err);

@@ -10,6 +10,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/resource.h>
 #include <sys/stat.h>
 #include <time.h>
 #include <unistd.h>
@@ -200,3 +201,42 @@ eddy_status eddy_write_atomic(const char *path, const char *data, size_t size, e
     return EDDY_OK;
 }
 
+
+/* The cgroup v2 (memory.max) or v1 (memory.limit_in_bytes) limit of this
+ * process, bytes; 0 if none can be read. */
+static double cgroup_limit(void)
+{
+    static const char *const files[] = {"/sys/fs/cgroup/memory.max",
+                                        "/sys/fs/cgroup/memory/memory.limit_in_bytes"};
+    for (size_t k = 0; k < sizeof files / sizeof files[0]; k++) {
+        FILE *f = fopen(files[k], "r");
+        if (f == NULL)
+            continue;
+        char line[64] = "";
+        int got = fgets(line, sizeof line, f) != NULL;
+        fclose(f);
+        if (!got || strncmp(line, "max", 3) == 0)
+            continue;
+        char *end = NULL;
+        double v = strtod(line, &end);
+        if (end != line && v > 0 && v < 1e18) /* v1 reports ~2^63 for "none" */
+            return v;
+    }
+    return 0.0;
+}
+
+double eddy_memory_limit(double option_bytes)
+{
+    long pages = sysconf(_SC_PHYS_PAGES), page = sysconf(_SC_PAGE_SIZE);
+    double hard = pages > 0 && page > 0 ? (double)pages * (double)page : 8.0e9;
+    struct rlimit rl;
+    if (getrlimit(RLIMIT_AS, &rl) == 0 && rl.rlim_cur != RLIM_INFINITY &&
+        (double)rl.rlim_cur < hard)
+        hard = (double)rl.rlim_cur;
+    double cg = cgroup_limit();
+    if (cg > 0 && cg < hard)
+        hard = cg;
+    if (option_bytes > 0)
+        return option_bytes < hard ? option_bytes : hard;
+    return 0.5 * hard;
+}

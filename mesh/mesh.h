@@ -222,31 +222,45 @@ typedef struct {
     int nx, ny;
     long nodes;
     long unknowns;
-    double memory_bytes;     /* estimate of the peak memory of one solve */
-    double memory_limit;     /* what the machine allows (physical memory / 2) */
+    double memory_bytes;     /* estimate of the peak memory of one solve: one
+                              * factorisation (mesh_factor_bytes) + 300 bytes per
+                              * node for the grid, fields and workspaces */
+    double memory_limit;     /* the limit it was compared with, bytes */
 } mesh_estimate;
+
+/*
+ * The one estimate of the peak memory of a numeric LU factorisation of a
+ * grid matrix, bytes: 1.25 x (16 bytes per L and U entry, a value and an
+ * index, + 200 bytes per unknown of workspace).
+ *   lu_entries: entries of L and U; <= 0 for the typical fill of these
+ *               matrices under a fill-reducing ordering, 5 n log2(n + 2)
+ *               (measured 60-110 entries per unknown by make bench).
+ *   n:          unknowns.
+ * The mesher uses the typical fill; the solver the fill of its analysis
+ * where that is smaller (sol_factor_bytes).
+ */
+double mesh_factor_bytes(double lu_entries, double n);
 
 /*
  * Build the graded grid and cell data for a case.
  *   c:   a validated case (from mesh_case_load/parse); not modified.
+ *   memory_limit: bytes the solve may use (eddy_memory_limit); <= 0: the
+ *        default eddy_memory_limit(0).
  *   out: receives the grid, owned by the caller (mesh_grid_free); NULL on error.
  *   est: optional; receives the size estimate (also filled when the estimate
  *        exceeds the memory limit).
  * Returns EDDY_OK, EDDY_ERR_TOO_LARGE (the estimate exceeds the memory limit;
  * the message gives both figures), EDDY_ERR_INPUT, EDDY_ERR_NOMEM.
  */
-eddy_status mesh_grid_build(const mesh_case *c, mesh_grid **out, mesh_estimate *est,
-                            eddy_error *err);
+eddy_status mesh_grid_build(const mesh_case *c, double memory_limit, mesh_grid **out,
+                            mesh_estimate *est, eddy_error *err);
 
 /* Free a grid; accepts NULL. */
 void mesh_grid_free(mesh_grid *g);
 
 /* Build only the grid axes (cheap) and report the size estimate; no cell data.
- * Returns as mesh_grid_build. */
-eddy_status mesh_grid_estimate(const mesh_case *c, mesh_estimate *est, eddy_error *err);
-
-/* Override the memory limit used by the size check (bytes; <= 0 restores the
- * default, half the physical memory).  For tests and batch runners. */
-void mesh_set_memory_limit(double bytes);
+ * Arguments and returns as mesh_grid_build. */
+eddy_status mesh_grid_estimate(const mesh_case *c, double memory_limit, mesh_estimate *est,
+                               eddy_error *err);
 
 #endif

@@ -47,18 +47,11 @@
 #define MAX_PECLET_REFINE 4.0
 #define MAX_AXIS_NODES 200000
 
-static double memory_limit_override = 0.0;
-
-void mesh_set_memory_limit(double bytes) { memory_limit_override = bytes > 0 ? bytes : 0.0; }
-
-static double memory_limit(void)
+double mesh_factor_bytes(double lu_entries, double n)
 {
-    if (memory_limit_override > 0)
-        return memory_limit_override;
-    long pages = sysconf(_SC_PHYS_PAGES), page = sysconf(_SC_PAGE_SIZE);
-    if (pages <= 0 || page <= 0)
-        return 8.0e9;
-    return 0.5 * (double)pages * (double)page;
+    if (lu_entries <= 0)
+        lu_entries = n * 5.0 * log2(n + 2.0);
+    return 1.25 * (16.0 * lu_entries + 200.0 * n);
 }
 
 typedef struct {
@@ -375,7 +368,8 @@ static int plan_build(const mesh_case *c, grid_plan *p)
     return 0;
 }
 
-static eddy_status estimate_from_axes(const mesh_case *c, int nx, int ny, mesh_estimate *est,
+static eddy_status estimate_from_axes(const mesh_case *c, int nx, int ny, double memory_limit,
+                                      mesh_estimate *est,
                                       eddy_error *err)
 {
     long nxu = c->x_periodic ? nx - 1 : nx - 2, nyu = ny - 2;
@@ -385,11 +379,10 @@ static eddy_status estimate_from_axes(const mesh_case *c, int nx, int ny, mesh_e
     est->unknowns = nxu * nyu;
     double n = (double)est->unknowns;
     /* LU fill of a 2D five-point matrix under a fill-reducing ordering grows
-     * like n log2 n; 6 n log2 n entries at ~12 bytes each is a safe upper
-     * estimate for UMFPACK (measured fill is 2-4 n log2 n), plus ~300 bytes
-     * per node for the grid, fields and workspaces. */
-    est->memory_bytes = 12.0 * 6.0 * n * log2(n > 2 ? n : 2) + 300.0 * (double)est->nodes;
-    est->memory_limit = memory_limit();
+     * like n log2 n (mesh_factor_bytes), plus ~300 bytes per node for the
+     * grid, fields and workspaces. */
+    est->memory_bytes = mesh_factor_bytes(0.0, n) + 300.0 * (double)est->nodes;
+    est->memory_limit = memory_limit > 0 ? memory_limit : eddy_memory_limit(0.0);
     if (est->memory_bytes > est->memory_limit)
         return EDDY_RAISE(err, EDDY_ERR_TOO_LARGE,
                           "%s: mesh: %d x %d nodes (%ld unknowns) would need an estimated "
@@ -430,7 +423,8 @@ static eddy_status build_axes(const mesh_case *c, grid_plan *p, double **x, int 
     return EDDY_OK;
 }
 
-eddy_status mesh_grid_estimate(const mesh_case *c, mesh_estimate *est, eddy_error *err)
+eddy_status mesh_grid_estimate(const mesh_case *c, double memory_limit, mesh_estimate *est,
+                               eddy_error *err)
 {
     grid_plan p;
     int nx = 0, ny = 0;
@@ -438,7 +432,7 @@ eddy_status mesh_grid_estimate(const mesh_case *c, mesh_estimate *est, eddy_erro
     plan_free(&p);
     if (s != EDDY_OK)
         return s;
-    return estimate_from_axes(c, nx, ny, est, err);
+    return estimate_from_axes(c, nx, ny, memory_limit, est, err);
 }
 
 /* First index k with v[k] >= t - tol (v increasing, n entries). */
@@ -455,7 +449,8 @@ static int lower_index(const double *v, int n, double t, double tol)
     return lo;
 }
 
-eddy_status mesh_grid_build(const mesh_case *c, mesh_grid **out, mesh_estimate *est,
+eddy_status mesh_grid_build(const mesh_case *c, double memory_limit, mesh_grid **out,
+                            mesh_estimate *est,
                             eddy_error *err)
 {
     *out = NULL;
@@ -470,7 +465,7 @@ eddy_status mesh_grid_build(const mesh_case *c, mesh_grid **out, mesh_estimate *
     double k_dom = p.k_dominant, h_skin = p.h_skin;
     plan_free(&p);
     if (s == EDDY_OK)
-        s = estimate_from_axes(c, nx, ny, est, err);
+        s = estimate_from_axes(c, nx, ny, memory_limit, est, err);
     if (s != EDDY_OK) {
         free(x);
         free(y);

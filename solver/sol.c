@@ -477,14 +477,14 @@ eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err)
      * under 2 GiB, so it would refuse every large mesh. */
     s->est_flops = uinfo[UMFPACK_FLOPS_ESTIMATE];
     s->est_lu = uinfo[UMFPACK_LNZ_ESTIMATE] + uinfo[UMFPACK_UNZ_ESTIMATE];
-    s->est_peak_bytes = 1.25 * (16.0 * s->est_lu + 200.0 * (double)s->n);
+    s->est_peak_bytes = mesh_factor_bytes(s->est_lu, (double)s->n);
     /* UMFPACK's fill estimate is an upper bound that can be far off (5 GiB
-     * for 0.15M unknowns); the measured fill of these matrices is 60-110
-     * entries per unknown (make bench), about 5 log2(n) */
-    double typical = (double)s->n * 5.0 * log2((double)s->n + 2.0);
-    if (typical < s->est_lu) {
-        s->est_lu = typical;
-        s->est_peak_bytes = 1.25 * (16.0 * s->est_lu + 200.0 * (double)s->n);
+     * for 0.15M unknowns): take the typical fill of these matrices where it
+     * is smaller (mesh_factor_bytes) */
+    double typical = mesh_factor_bytes(0.0, (double)s->n);
+    if (typical < s->est_peak_bytes) {
+        s->est_lu = (double)s->n * 5.0 * log2((double)s->n + 2.0);
+        s->est_peak_bytes = typical;
     }
     if (s->memory_limit > 0 && s->est_peak_bytes > s->memory_limit) {
         /* a second opinion: the Cholesky fill of A + A' under AMD, which
@@ -496,7 +496,7 @@ eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err)
         if (perm != NULL &&
             amd_l_order(s->n, s->Ap, s->Ai, perm, NULL, ainfo) >= AMD_OK) {
             s->est_lu = 2.0 * ainfo[AMD_LNZ] + (double)s->n;
-            s->est_peak_bytes = 1.5 * (16.0 * s->est_lu + 200.0 * (double)s->n);
+            s->est_peak_bytes = mesh_factor_bytes(s->est_lu, (double)s->n);
         }
         free(perm);
     }

@@ -86,8 +86,9 @@ void sol_set_memory_limit(sol_system *s, double bytes);
 eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err);
 
 /* Estimated peak memory of one numeric factorisation, bytes (after
- * sol_analyse; 0 before): 1.25 x (16 bytes per L and U entry of UMFPACK's
- * fill estimate + 200 bytes per unknown).  0 for s = NULL. */
+ * sol_analyse; 0 before): mesh_factor_bytes of the smaller of UMFPACK's fill
+ * estimate and the typical fill; near the memory limit, of the fill of an
+ * AMD Cholesky analysis of A + A' instead.  0 for s = NULL. */
 double sol_factor_bytes(const sol_system *s);
 
 /*

@@ -87,7 +87,7 @@ static int setup_open(setup *b, int refine, const char *speeds, double *t_mesh)
     double t0 = now();
     eddy_error err = {0};
     if (mesh_case_parse(json, "bench", &b->c, &err) != EDDY_OK ||
-        mesh_grid_build(b->c, &b->g, NULL, &err) != EDDY_OK ||
+        mesh_grid_build(b->c, 0.0, &b->g, NULL, &err) != EDDY_OK ||
         sol_system_alloc(b->g, &b->s, &err) != EDDY_OK) {
         fprintf(stderr, "bench: %s\n", err.msg);
         return -1;

@@ -28,12 +28,6 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 {
-    static int once;
-    if (!once) {
-        /* the size check must refuse what a fuzzer machine cannot hold */
-        mesh_set_memory_limit(1024.0 * 1024.0 * 1024.0);
-        once = 1;
-    }
     char *text = malloc(size + 1);
     if (text == NULL)
         return 0;
@@ -43,7 +37,8 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     mesh_case *c = NULL;
     if (mesh_case_parse(text, "fuzz.json", &c, &err) == EDDY_OK) {
         mesh_estimate est;
-        mesh_grid_estimate(c, &est, &err);
+        /* the size check must refuse what a fuzzer machine cannot hold */
+        mesh_grid_estimate(c, 1024.0 * 1024.0 * 1024.0, &est, &err);
     }
     mesh_case_free(c);
     app_batch_case *cs = NULL;

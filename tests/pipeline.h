@@ -39,7 +39,7 @@ static inline int pipe_open(pipe_run *p, const char *json)
     p->a = NULL;
     eddy_status s = mesh_case_parse(json, "test-case", &p->c, &err);
     if (s == EDDY_OK)
-        s = mesh_grid_build(p->c, &p->g, NULL, &err);
+        s = mesh_grid_build(p->c, 0.0, &p->g, NULL, &err);
     if (s == EDDY_OK)
         s = sol_system_alloc(p->g, &p->sys, &err);
     if (s == EDDY_OK) {

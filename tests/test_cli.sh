@@ -89,5 +89,30 @@ echo "$out" | grep -q "unknowns" && echo "$out" | grep -q "memory" &&
 (cd "$T" && "$OLDPWD/$E" solve ok.json -q) && [ -s "$T/results/cli_ok/result.json" ] &&
     ok "default output folder results/<name>/" || ko "default output folder" "missing"
 
+# --max-memory is the one memory limit: it reaches the mesh's own size check
+# in check and in solve (exit 2 before anything is written), and a generous
+# value changes nothing
+printf '%s' "{$DOM,\"regions\":[$PLATE],\"speeds\":[1]}" > "$T/mem.json"
+msg=$($E check "$T/mem.json" --max-memory 0.00001 2>&1)
+rc=$?
+if [ $rc -eq 2 ] && echo "$msg" | grep -q "GiB allowed"; then
+    ok "check --max-memory refuses a mesh above the limit (exit 2)"
+else
+    ko "check --max-memory" "exit $rc: $msg"
+fi
+rm -rf "$T/memout"
+msg=$($E solve "$T/mem.json" -o "$T/memout" -q --max-memory 0.00001 2>&1)
+rc=$?
+if [ $rc -eq 2 ] && [ ! -e "$T/memout" ] && echo "$msg" | grep -q "GiB allowed"; then
+    ok "solve --max-memory refuses the mesh before writing anything (exit 2)"
+else
+    ko "solve --max-memory" "exit $rc, out exists: $([ -e "$T/memout" ] && echo yes || echo no): $msg"
+fi
+if $E check "$T/mem.json" --max-memory 4 >/dev/null 2>&1; then
+    ok "check --max-memory 4 accepts a small mesh"
+else
+    ko "check --max-memory 4" "refused a small mesh"
+fi
+
 echo "#counts $pass $fail"
 [ $fail -eq 0 ]

@@ -53,7 +53,7 @@ static void test_good_case(void)
 
     mesh_grid *g = NULL;
     mesh_estimate est;
-    s = mesh_grid_build(c, &g, &est, &err);
+    s = mesh_grid_build(c, 0.0, &g, &est, &err);
     check(s == EDDY_OK, "the case meshes", "%s", err.msg);
     if (s != EDDY_OK) {
         mesh_case_free(c);
@@ -120,11 +120,9 @@ static void test_good_case(void)
     mesh_grid_free(g);
 
     /* the size check refuses before allocating */
-    mesh_set_memory_limit(1e5);
-    s = mesh_grid_estimate(c, &est, &err);
+    s = mesh_grid_estimate(c, 1e5, &est, &err);
     check(s == EDDY_ERR_TOO_LARGE && strstr(err.msg, "GiB") != NULL,
           "a mesh too large for memory is refused with the estimate", "%s", err.msg);
-    mesh_set_memory_limit(0);
     mesh_case_free(c);
 }
 
