@@ -141,7 +141,7 @@ eddy_status app_design_evaluate(app_report *r, eddy_error *err)
         f->rpm = f->torque = f->power = NAN;
         if (c->disc.present) {
             double total = f->drag * c->disc.active_length * c->disc.periods; /* N */
-            f->rpm = 60.0 * f->speed / (2.0 * EDDY_PI * c->disc.mean_radius);
+            f->rpm = design_disc_rpm(c->disc.mean_radius, f->speed);
             f->torque = design_disc_torque(total, c->disc.mean_radius);
             f->power = design_brake_power(total, fabs(f->speed));
         }

@@ -50,7 +50,6 @@
 #define MAX_BISECT 60       /* depth limit of the adaptive quadrature */
 #define GL_N 10             /* Gauss-Legendre points per panel        */
 #define MAX_SAMPLES 10000000
-#define MIN_TEMP_C (-200.0)
 
 /* ------------------------------------------------------------------------ */
 /* 1. Monotone cubic interpolation                                           */
@@ -683,15 +682,16 @@ eddy_status design_sigma_at_temperature(double sigma_20, double alpha, double te
     if (!isfinite(alpha))
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "conductivity at temperature: alpha = %g 1/K is not finite",
                           alpha);
-    if (!isfinite(temp_c) || temp_c < MIN_TEMP_C)
+    if (!isfinite(temp_c) || temp_c < DESIGN_TEMP_MIN_C || temp_c > DESIGN_TEMP_MAX_C)
         return EDDY_RAISE(err, EDDY_ERR_INPUT,
-                          "conductivity at temperature: %g C is outside the linear model (>= %g C)",
-                          temp_c, MIN_TEMP_C);
+                          "%g C is outside the linear resistivity model (%g to %g C)", temp_c,
+                          DESIGN_TEMP_MIN_C, DESIGN_TEMP_MAX_C);
     double den = 1.0 + alpha * (temp_c - 20.0);
-    if (!(den > 0.0))
+    if (!(den >= DESIGN_RESISTIVITY_RATIO_MIN))
         return EDDY_RAISE(err, EDDY_ERR_INPUT,
-                          "conductivity at temperature: 1 + alpha (T - 20 C) = %g <= 0 for alpha = %g 1/K "
-                          "at %g C: the linear model does not apply", den, alpha, temp_c);
+                          "1 + alpha (T - 20 C) = %g for alpha = %g 1/K at %g C: outside the "
+                          "range of the linear resistivity law (>= %g)",
+                          den, alpha, temp_c, DESIGN_RESISTIVITY_RATIO_MIN);
     *sigma = sigma_20 / den;
     return EDDY_OK;
 }
@@ -744,6 +744,11 @@ eddy_status design_end_effect_factor(double active_width, double plate_width, do
 double design_disc_speed(double radius, double rpm)
 {
     return 2.0 * EDDY_PI * radius * rpm / 60.0;
+}
+
+double design_disc_rpm(double radius, double speed)
+{
+    return 60.0 * speed / (2.0 * EDDY_PI * radius);
 }
 
 double design_disc_torque(double force, double radius)

@@ -296,13 +296,26 @@ eddy_status design_heating_per_pass(double loss, double thickness, double speed,
 eddy_status design_stop_temperature_rise(double energy, double mass, double heat_capacity,
                                        double *dtemp, eddy_error *err);
 
+/* The range of temperatures, degrees C, of the linear resistivity model
+ * (the one rule, used by the case reader for "temperature" too): below
+ * -200 C resistivity levels off at its residual value; 1000 C is above the
+ * melting point of aluminium and far beyond any brake conductor. */
+#define DESIGN_TEMP_MIN_C (-200.0)
+#define DESIGN_TEMP_MAX_C 1000.0
+
+/* The smallest 1 + alpha (T - 20 C) accepted: a resistivity below 5 % of
+ * its 20 C value is outside the linear law. */
+#define DESIGN_RESISTIVITY_RATIO_MIN 0.05
+
 /*
  * Conductivity at temperature, linear resistivity model:
  *   sigma(T) = sigma_20 / (1 + alpha (T - 20 C)).
  *   sigma_20  S/m at 20 C, > 0;  alpha  1/K at 20 C (DESIGN_ALPHA_*), finite;
- *   temp_c    degrees C, >= -200 (the linear model is poor at cryogenic
- *             temperatures, where resistivity levels off at its residual value).
- * Returns EDDY_ERR_INPUT for bad arguments or 1 + alpha (T - 20) <= 0.
+ *   temp_c    degrees C in [DESIGN_TEMP_MIN_C, DESIGN_TEMP_MAX_C] (the linear
+ *             model is poor at cryogenic temperatures, where resistivity
+ *             levels off at its residual value).
+ * Returns EDDY_ERR_INPUT for bad arguments or 1 + alpha (T - 20) below
+ * DESIGN_RESISTIVITY_RATIO_MIN; the message says which.
  */
 eddy_status design_sigma_at_temperature(double sigma_20, double alpha, double temp_c,
                                       double *sigma, eddy_error *err);
@@ -352,6 +365,9 @@ eddy_status design_end_effect_factor(double active_width, double plate_width, do
 /* Speed in m/s of the mean radius r (m) of a disc turning at rpm rev/min:
  * v = 2 pi r rpm / 60. */
 double design_disc_speed(double radius, double rpm);
+
+/* The inverse: rpm of a disc whose mean radius r (m) moves at v (m/s). */
+double design_disc_rpm(double radius, double speed);
 
 /* Braking torque in N m from the tangential force F (N) at mean radius r (m):
  * T = F r. */

@@ -7,6 +7,8 @@
  */
 #include "mesh/mesh.h"
 
+#include "design/design.h"
+
 #include <cJSON.h>
 #include <errno.h>
 #include <math.h>
@@ -781,7 +783,7 @@ static eddy_status read_disc(reader *r, const cJSON *root)
         if (!cJSON_IsNumber(e) || !isfinite(e->valuedouble))
             return bad(r, p, "must be a finite number");
         h->rpm[k] = e->valuedouble;
-        c->speeds[k] = 2.0 * EDDY_PI * h->mean_radius * h->rpm[k] / 60.0;
+        c->speeds[k] = design_disc_speed(h->mean_radius, h->rpm[k]);
     }
     c->nspeed = n;
     return EDDY_OK;
@@ -795,8 +797,11 @@ static eddy_status apply_temperature(reader *r, const cJSON *root)
     TRY(get_number(r, root, "temperature", "", 0, &c->temperature, &has));
     if (!has)
         return EDDY_OK;
-    if (c->temperature < -200.0 || c->temperature > 1000.0)
-        return bad(r, "temperature", "must lie between -200 and 1000 C");
+    /* the one sigma(T) rule (design/design.h) decides the range */
+    eddy_error e = {0};
+    double sig = 0.0;
+    if (design_sigma_at_temperature(1.0, 0.0, c->temperature, &sig, &e) != EDDY_OK)
+        return bad(r, "temperature", "%s", e.msg);
     c->has_temperature = 1;
     for (int k = 0; k < c->nmat; k++) {
         mesh_material *m = &c->materials[k];
@@ -807,11 +812,9 @@ static eddy_status apply_temperature(reader *r, const cJSON *root)
                         "conductivity at 20 C is used", r->fname, m->name));
             continue;
         }
-        double den = 1.0 + m->alpha * (c->temperature - 20.0);
-        if (!(den > 0.05))
-            return bad(r, "temperature", "outside the range of the linear resistivity law for "
-                                         "material \"%s\"", m->name);
-        m->sigma = m->sigma_20 / den;
+        if (design_sigma_at_temperature(m->sigma_20, m->alpha, c->temperature, &m->sigma, &e) !=
+            EDDY_OK)
+            return bad(r, "temperature", "material \"%s\": %s", m->name, e.msg);
     }
     return EDDY_OK;
 }

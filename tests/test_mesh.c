@@ -168,6 +168,10 @@ static const bad_case bad_cases[] = {
     {"growth out of range", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"mesh\":{\"growth\":3}}", "mesh.growth: must lie in (1, 2]"},
     {"unsafe name", "{\"name\":\"../x\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "name: must have 1 to 63 characters, only letters"},
     {"no regions", "{" DOM ",\"regions\":[],\"speeds\":[1]}", "regions: must not be empty"},
+    /* the case reader applies the one sigma(T) rule of design/ (its range and
+     * its resistivity floor), not limits of its own */
+    {"temperature above the linear model", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"temperature\":1200}", "temperature: 1200 C is outside the linear resistivity model (-200 to 1000 C)"},
+    {"resistivity below the linear law's floor", "{" DOM ",\"materials\":{\"m\":{\"conductivity\":1e7,\"temperature_coefficient\":0.01}},\"regions\":[{\"material\":\"m\",\"box\":[0,-2,10,0],\"moving\":true}],\"speeds\":[1],\"temperature\":-80}", "temperature: material \"m\": 1 + alpha (T - 20 C) = 0 for alpha = 0.01 1/K at -80 C"},
 };
 
 static void test_bad_inputs(void)
