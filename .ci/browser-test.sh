@@ -14,15 +14,7 @@ cd "$(dirname "$0")/.."
 B=${1:-build}
 E="$(pwd)/$B/eddy2d"
 STAT="$(pwd)/$B/tests/test_batch_pngstat"
-pass=0
-fail=0
-ok() { echo "PASS $1"; pass=$((pass + 1)); }
-ko() { echo "FAIL $1: $2"; fail=$((fail + 1)); }
-finish() {
-    echo "#counts $pass $fail"
-    [ $fail -eq 0 ]
-    exit $?
-}
+. tests/harness.sh
 CHROME=$(command -v chromium || command -v chromium-browser || true)
 if [ -z "$CHROME" ]; then
     echo "SKIP browser test: chromium is not installed (CI installs Debian's chromium)"

@@ -13,15 +13,7 @@ set -u
 cd "$(dirname "$0")/.."
 B=${1:-build}
 E="$(pwd)/$B/eddy2d"
-pass=0
-fail=0
-ok() { echo "PASS $1"; pass=$((pass + 1)); }
-ko() { echo "FAIL $1: $2"; fail=$((fail + 1)); }
-finish() {
-    echo "#counts $pass $fail"
-    [ $fail -eq 0 ]
-    exit $?
-}
+. tests/harness.sh
 if ! command -v slurmctld >/dev/null 2>&1 || ! command -v munged >/dev/null 2>&1; then
     echo "SKIP slurm test: slurmctld or munged is not installed (CI installs slurm-wlm and munge)"
     finish

@@ -8,14 +8,10 @@ set -u
 cd "$(dirname "$0")/.."
 B=${1:-build}
 E="$(pwd)/$B/eddy2d"
-pass=0
-fail=0
-ok() { echo "PASS $1"; pass=$((pass + 1)); }
-ko() { echo "FAIL $1: $2"; fail=$((fail + 1)); }
+. tests/harness.sh
 if ! command -v valgrind >/dev/null 2>&1; then
-    echo "SKIP valgrind: not installed (CI installs it)"
-    echo "#counts 0 0"
-    exit 0
+    skip valgrind "not installed (CI installs it)"
+    finish
 fi
 T=$(mktemp -d)
 trap 'rm -rf "$T"' EXIT
@@ -39,5 +35,4 @@ n=$(ls "$T"/batch/*/input.hash 2>/dev/null | wc -l)
 [ $rc -eq 0 ] && [ "$n" -eq 2 ] && ! grep -q "==[0-9]*==" "$T/batch.log" &&
     ok "valgrind: batch of 2 variants in child processes, no error, no leak" ||
     ko "valgrind batch" "exit $rc, $n cases: $(tail -20 "$T/batch.log")"
-echo "#counts $pass $fail"
-[ $fail -eq 0 ]
+finish

@@ -1,6 +1,9 @@
 /*
- * pipeline.h - test helper: run the mesh -> solver -> post pipeline on a case
- * given as JSON text, the way the command-line front end does.
+ * pipeline.h - the test programs' shared helpers: run the mesh -> solver ->
+ * post pipeline on a case given as JSON text, the way the command-line front
+ * end does (pipe_open / pipe_speed), or the whole job of `eddy2d solve` on a
+ * case text written to a file (pipe_write_case / pipe_solve_text), and read
+ * an output file back (pipe_read_text).
  */
 #ifndef EDDY_TEST_PIPELINE_H
 #define EDDY_TEST_PIPELINE_H
@@ -71,6 +74,61 @@ static inline int pipe_speed(pipe_run *p, double v, post_forces *f)
         return -1;
     }
     return 0;
+}
+
+/* Write text to path.  Returns 0 on success, -1 (with a "#" line) otherwise. */
+static inline int pipe_write_case(const char *path, const char *text)
+{
+    FILE *f = fopen(path, "w");
+    int ok = f != NULL && fputs(text, f) >= 0;
+    if (f != NULL && fclose(f) != 0)
+        ok = 0;
+    if (!ok)
+        printf("# cannot write %s\n", path);
+    return ok ? 0 : -1;
+}
+
+/* The whole job (app_run_solve) on a case text: written to dir/name.json,
+ * solved into dir/name/ with the options o (NULL: the defaults with the
+ * layered reference off), the outdir of o replaced.  *s receives the status
+ * (EDDY_ERR_IO when the case file cannot be written); returns the report
+ * (caller frees with app_report_free; NULL before the case was read). */
+static inline app_report *pipe_solve_text(const char *dir, const char *name, const char *json,
+                                          const app_run_opts *o, eddy_status *s,
+                                          eddy_error *err)
+{
+    char path[1024], out[1024];
+    snprintf(path, sizeof path, "%s/%s.json", dir, name);
+    snprintf(out, sizeof out, "%s/%s", dir, name);
+    if (pipe_write_case(path, json) != 0) {
+        *s = EDDY_ERR_IO;
+        return NULL;
+    }
+    app_run_opts opts;
+    if (o != NULL) {
+        opts = *o;
+    } else {
+        app_run_opts_defaults(&opts);
+        opts.reference = 0;
+    }
+    opts.outdir = out;
+    app_report *r = NULL;
+    *s = app_run_solve(path, &opts, &r, err);
+    return r;
+}
+
+/* Read at most size - 1 bytes of a file into buf (NUL-terminated; empty if
+ * the file cannot be read).  Returns the length read. */
+static inline size_t pipe_read_text(const char *path, char *buf, size_t size)
+{
+    buf[0] = '\0';
+    FILE *f = fopen(path, "r");
+    if (f == NULL)
+        return 0;
+    size_t n = fread(buf, 1, size - 1, f);
+    buf[n] = '\0';
+    fclose(f);
+    return n;
 }
 
 #endif

@@ -20,11 +20,7 @@ E="$(cd "$(dirname "$B/eddy2d")" && pwd)/eddy2d"
 ROOT=$(pwd)
 T=$(mktemp -d)
 trap 'chmod -R u+rwx "$T" 2>/dev/null; rm -rf "$T"' EXIT
-pass=0
-fail=0
-ok() { echo "PASS $1"; pass=$((pass + 1)); }
-ko() { echo "FAIL $1: $2"; fail=$((fail + 1)); }
-skip() { echo "SKIP $1: $2"; }
+. tests/harness.sh
 
 # --- small cases -------------------------------------------------------------
 mkdir -p "$T/in"
@@ -364,5 +360,4 @@ nres=$(find "$T/b7" -name result.json | wc -l)
     ok "a batch of the catalogue records all $nfile files as invalid, solves none, exit 1" ||
     ko "catalogue batch" "exit $rc, $ninvalid of $nfile invalid, $nres results: $(tail -3 "$T/log10")"
 
-echo "#counts $pass $fail"
-[ $fail -eq 0 ]
+finish

@@ -6,10 +6,7 @@ B=${1:-build}
 E="$B/eddy2d"
 T=$(mktemp -d)
 trap 'rm -rf "$T"' EXIT
-pass=0
-fail=0
-ok() { echo "PASS $1"; pass=$((pass + 1)); }
-ko() { echo "FAIL $1: $2"; fail=$((fail + 1)); }
+. tests/harness.sh
 
 # bad input: exit 2, a message naming the file and JSON path, nothing written
 bad() { # name, case text, expected message fragment
@@ -114,5 +111,4 @@ else
     ko "check --max-memory 4" "refused a small mesh"
 fi
 
-echo "#counts $pass $fail"
-[ $fail -eq 0 ]
+finish

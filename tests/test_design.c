@@ -26,23 +26,7 @@ static char dir[256];
 static app_report *solve_text(const char *name, const char *json, eddy_status *s,
                                eddy_error *err)
 {
-    char path[400], out[400];
-    snprintf(path, sizeof path, "%s/%s.json", dir, name);
-    snprintf(out, sizeof out, "%s/%s", dir, name);
-    FILE *f = fopen(path, "w");
-    if (f == NULL || fputs(json, f) < 0) {
-        *s = EDDY_ERR_IO;
-        return NULL;
-    }
-    fclose(f);
-    app_run_opts o;
-    app_run_opts_defaults(&o);
-    o.outdir = out;
-    o.reference = 0;
-    o.images = 1;
-    app_report *r = NULL;
-    *s = app_run_solve(path, &o, &r, err);
-    return r;
+    return pipe_solve_text(dir, name, json, NULL, s, err);
 }
 
 /* Thin sheet under a line current (Reitz 1970, 2D): drag F0 v w/(v^2+w^2),

@@ -505,14 +505,10 @@ static void test_pipeline(void)
     char dir[200], casefile[300];
     snprintf(dir, sizeof dir, "/tmp/eddy2d_test_nonlinear_%ld", (long)getpid());
     snprintf(casefile, sizeof casefile, "%s.json", dir);
-    FILE *f = fopen(casefile, "w");
-    if (f == NULL || fputs(steel_json, f) < 0) {
+    if (pipe_write_case(casefile, steel_json) != 0) {
         check(0, "write the case file", "%s", casefile);
-        if (f != NULL)
-            fclose(f);
         return;
     }
-    fclose(f);
     app_run_opts o;
     app_run_opts_defaults(&o);
     o.outdir = dir;
@@ -528,14 +524,9 @@ static void test_pipeline(void)
     check(ok, "solve of a steel plate: every point converged, forces from the stress tensor",
           "%s", s == EDDY_OK ? "" : err.msg);
     app_report_free(r);
-    char path[400], text[65536] = "";
+    char path[400], text[65536];
     snprintf(path, sizeof path, "%s/result.json", dir);
-    f = fopen(path, "r");
-    if (f != NULL) {
-        size_t n = fread(text, 1, sizeof text - 1, f);
-        text[n] = '\0';
-        fclose(f);
-    }
+    pipe_read_text(path, text, sizeof text);
     check(strstr(text, "\"force_method\":\t\"stress_tensor\"") != NULL &&
               strstr(text, "\"newton\":") != NULL && strstr(text, "\"residual_history\":") != NULL,
           "result.json records the force method and the Newton history", "%s", path);

@@ -162,10 +162,8 @@ int main(void)
     mkdir(dir, 0777);
     char casefile[300];
     snprintf(casefile, sizeof casefile, "%s/case.json", dir);
-    FILE *f = fopen(casefile, "w");
-    if (f == NULL || fputs(case_text, f) < 0)
+    if (pipe_write_case(casefile, case_text) != 0)
         return 1;
-    fclose(f);
     test_threads();
     test_memory_guard();
     test_orderings_and_export();
