@@ -36,6 +36,7 @@ $(B)/%.o: %.c $(wildcard */*.h)
 	@$(CC) $(CPPFLAGS) $(CFLAGS) -c $< -o $@
 
 $(B)/libeddy2d.a: $(LIB_OBJ)
+	@rm -f $@
 	ar rcs $@ $^
 
 $(B)/eddy2d: $(CLI_OBJ) $(B)/libeddy2d.a
@@ -136,7 +137,7 @@ browser-test: $(B)/eddy2d $(B)/tests/test_batch_pngstat
 	@sh .ci/browser-test.sh $(B)
 
 valgrind: $(B)/eddy2d $(TEST_BIN)
-	@VALGRIND="valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite --suppressions=tests/valgrind.supp" \
+	@TEST_TIMEOUT=7200 VALGRIND="valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite --suppressions=tests/valgrind.supp" \
 	  sh tests/run.sh $(B) $(TESTS) test_cli.sh test_batch.sh
 
 clean:

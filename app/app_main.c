@@ -8,6 +8,7 @@
  * during computation.
  */
 #include <math.h>
+#include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -205,8 +206,31 @@ static int cmd_solve(const char *path, int reference_only, const app_run_opts *o
     return 0;
 }
 
+/* SIGINT, SIGTERM, SIGHUP: remove the temporary files being written (no
+ * output is ever half-written under its final name), then die of the signal
+ * as the default action would. */
+static void on_fatal_signal(int sig)
+{
+    eddy_remove_temporaries();
+    signal(sig, SIG_DFL);
+    raise(sig);
+}
+
+static void remove_temporaries_on_signals(void)
+{
+    static const int sigs[] = {SIGINT, SIGTERM, SIGHUP};
+    for (size_t k = 0; k < sizeof sigs / sizeof sigs[0]; k++) {
+        struct sigaction sa;
+        memset(&sa, 0, sizeof sa);
+        sa.sa_handler = on_fatal_signal;
+        sigemptyset(&sa.sa_mask);
+        sigaction(sigs[k], &sa, NULL);
+    }
+}
+
 int main(int argc, char **argv)
 {
+    remove_temporaries_on_signals();
     if (argc < 2) {
         usage(stderr);
         return 2;

@@ -21,6 +21,7 @@
 
 #include <stdarg.h>
 #include <stddef.h>
+#include <stdio.h>
 
 typedef enum {
     EDDY_OK = 0,
@@ -93,13 +94,44 @@ eddy_status eddy_read_file(const char *path, long max, char **out, size_t *len,
                            eddy_error *err);
 
 /*
- * Write size bytes to path atomically: to a temporary file in the same
- * directory (path.tmp.<pid>), flushed to disk, then renamed over path, so an
- * interrupted run never leaves a half-written file.
- * Returns EDDY_OK or EDDY_ERR_IO (the temporary file is removed).
+ * An output file written atomically: opened as a new temporary file beside
+ * its final name (path.tmp.<pid>.<serial>, created with O_EXCL | O_NOFOLLOW,
+ * so neither an existing file nor a link planted there is ever written
+ * through), and renamed over the final name only when complete and flushed
+ * to disk.  A failed or interrupted write leaves the final name as it was.
+ * Usage: eddy_atomic_open; write to af.f; eddy_atomic_commit (or
+ * eddy_atomic_abort on any failure).  Not copyable while open.
  */
+typedef struct {
+    FILE *f;                 /* the stream to write to (owned; closed by commit/abort) */
+    int fd;                  /* its descriptor */
+    int slot;                /* entry in the list of live temporaries, -1 if none */
+    char path[4096];         /* the final name */
+    char tmp[4200];          /* the temporary name */
+} eddy_atomic_file;
+
+/* Create the temporary file for path.  Returns EDDY_OK or EDDY_ERR_IO (the
+ * message names the temporary file). */
+eddy_status eddy_atomic_open(eddy_atomic_file *af, const char *path, eddy_error *err);
+
+/* Flush, fsync and close the temporary file and rename it to the final
+ * name.  Returns EDDY_OK or EDDY_ERR_IO (the temporary file is removed and
+ * the message names the final file). */
+eddy_status eddy_atomic_commit(eddy_atomic_file *af, eddy_error *err);
+
+/* Close and remove the temporary file; accepts NULL and an af already
+ * committed or aborted. */
+void eddy_atomic_abort(eddy_atomic_file *af);
+
+/* Write size bytes to path through an eddy_atomic_file.  Returns EDDY_OK or
+ * EDDY_ERR_IO. */
 eddy_status eddy_write_atomic(const char *path, const char *data, size_t size,
                               eddy_error *err);
+
+/* Remove every temporary file of this process that is open now.  Only
+ * unlink() is called, so a signal handler may call it (the command line does,
+ * on SIGINT, SIGTERM and SIGHUP, before it dies of the signal). */
+void eddy_remove_temporaries(void);
 
 /*
  * The memory one run may use, bytes: the hard limit of this process (the

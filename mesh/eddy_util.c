@@ -7,6 +7,8 @@
 
 #include <errno.h>
 #include <fcntl.h>
+#include <pthread.h>
+#include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -165,40 +167,147 @@ eddy_status eddy_make_dir(const char *dir, eddy_error *err)
     return EDDY_OK;
 }
 
-eddy_status eddy_write_atomic(const char *path, const char *data, size_t size, eddy_error *err)
+/* ------------------------------------------------------------------------ */
+/* Atomic output files and the temporaries a signal must remove              */
+/* ------------------------------------------------------------------------ */
+
+/* The temporary files open now, so that a signal handler can remove them
+ * (eddy_remove_temporaries).  Slots are claimed under the mutex; the handler
+ * only reads them (a name is complete before its slot is marked used). */
+#define MAX_TEMPS 64
+static char temp_names[MAX_TEMPS][4200];
+static volatile sig_atomic_t temp_used[MAX_TEMPS];
+static pthread_mutex_t temp_lock = PTHREAD_MUTEX_INITIALIZER;
+static unsigned long temp_counter;
+
+static int temp_claim(const char *name)
 {
-    char tmp[4200];
-    int n = snprintf(tmp, sizeof tmp, "%s.tmp.%ld", path, (long)getpid());
-    if (n < 0 || (size_t)n >= sizeof tmp)
+    pthread_mutex_lock(&temp_lock);
+    int slot = -1;
+    for (int k = 0; k < MAX_TEMPS && slot < 0; k++)
+        if (!temp_used[k])
+            slot = k;
+    if (slot >= 0) {
+        snprintf(temp_names[slot], sizeof temp_names[slot], "%s", name);
+        temp_used[slot] = 1;
+    }
+    pthread_mutex_unlock(&temp_lock);
+    return slot;
+}
+
+static void temp_release(int slot)
+{
+    if (slot < 0)
+        return;
+    pthread_mutex_lock(&temp_lock);
+    temp_used[slot] = 0;
+    pthread_mutex_unlock(&temp_lock);
+}
+
+void eddy_remove_temporaries(void)
+{
+    for (int k = 0; k < MAX_TEMPS; k++)
+        if (temp_used[k])
+            unlink(temp_names[k]);
+}
+
+eddy_status eddy_atomic_open(eddy_atomic_file *af, const char *path, eddy_error *err)
+{
+    memset(af, 0, sizeof *af);
+    af->fd = -1;
+    af->slot = -1;
+    pthread_mutex_lock(&temp_lock);
+    unsigned long serial = ++temp_counter;
+    pthread_mutex_unlock(&temp_lock);
+    int n1 = snprintf(af->path, sizeof af->path, "%s", path);
+    int n2 = snprintf(af->tmp, sizeof af->tmp, "%s.tmp.%ld.%lu", path, (long)getpid(), serial);
+    if (n1 < 0 || (size_t)n1 >= sizeof af->path || n2 < 0 || (size_t)n2 >= sizeof af->tmp)
         return EDDY_RAISE(err, EDDY_ERR_IO, "%s: path too long", path);
-    int fd = open(tmp, O_WRONLY | O_CREAT | O_TRUNC, 0666);
-    if (fd < 0)
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot create: %s", tmp, strerror(errno));
-    size_t done = 0;
-    while (done < size) {
-        ssize_t w = write(fd, data + done, size - done);
-        if (w < 0 && errno == EINTR)
-            continue;
-        if (w <= 0) {
-            int e = errno;
-            close(fd);
-            unlink(tmp);
-            return EDDY_RAISE(err, EDDY_ERR_IO, "%s: write failed: %s", tmp, strerror(e));
-        }
-        done += (size_t)w;
-    }
-    if (fsync(fd) != 0 || close(fd) != 0) {
+    af->slot = temp_claim(af->tmp);
+    /* a new file: never follow a link planted under the temporary name, never
+     * reuse a file that exists */
+    af->fd = open(af->tmp, O_WRONLY | O_CREAT | O_EXCL | O_NOFOLLOW | O_CLOEXEC, 0666);
+    if (af->fd < 0) {
         int e = errno;
-        unlink(tmp);
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot flush: %s", tmp, strerror(e));
+        temp_release(af->slot);
+        af->slot = -1;
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot create: %s", af->tmp, strerror(e));
     }
-    if (rename(tmp, path) != 0) {
+    af->f = fdopen(af->fd, "wb");
+    if (af->f == NULL) {
         int e = errno;
-        unlink(tmp);
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot rename into place: %s", path,
-                          strerror(e));
+        eddy_atomic_abort(af);
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot open: %s", path, strerror(e));
     }
     return EDDY_OK;
+}
+
+void eddy_atomic_abort(eddy_atomic_file *af)
+{
+    if (af == NULL)
+        return;
+    if (af->f != NULL)
+        fclose(af->f);
+    else if (af->fd >= 0)
+        close(af->fd);
+    if (af->fd >= 0)
+        unlink(af->tmp);
+    temp_release(af->slot);
+    af->f = NULL;
+    af->fd = -1;
+    af->slot = -1;
+}
+
+eddy_status eddy_atomic_commit(eddy_atomic_file *af, eddy_error *err)
+{
+    if (af->f == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: not open", af->path);
+    int bad = fflush(af->f) != 0 || ferror(af->f);
+    int e = errno;
+    if (!bad && fsync(af->fd) != 0) {
+        bad = 1;
+        e = errno;
+    }
+    if (fclose(af->f) != 0 && !bad) {
+        bad = 1;
+        e = errno;
+    }
+    af->f = NULL;
+    if (bad) {
+        unlink(af->tmp);
+        temp_release(af->slot);
+        af->fd = -1;
+        af->slot = -1;
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: write failed: %s", af->path,
+                          e ? strerror(e) : "error");
+    }
+    if (rename(af->tmp, af->path) != 0) {
+        e = errno;
+        unlink(af->tmp);
+        temp_release(af->slot);
+        af->fd = -1;
+        af->slot = -1;
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot rename into place: %s", af->path,
+                          strerror(e));
+    }
+    temp_release(af->slot);
+    af->fd = -1;
+    af->slot = -1;
+    return EDDY_OK;
+}
+
+eddy_status eddy_write_atomic(const char *path, const char *data, size_t size, eddy_error *err)
+{
+    eddy_atomic_file af;
+    eddy_status s = eddy_atomic_open(&af, path, err);
+    if (s != EDDY_OK)
+        return s;
+    if (size > 0 && fwrite(data, 1, size, af.f) != size) {
+        int e = errno;
+        eddy_atomic_abort(&af);
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: write failed: %s", path, strerror(e));
+    }
+    return eddy_atomic_commit(&af, err);
 }
 
 

@@ -1,7 +1,8 @@
 /*
  * check.h - the tiny test harness shared by every test program.
  *
- * Each check prints one line "PASS name" or "FAIL name: detail" on stdout.
+ * Each check prints one line "PASS name" or "FAIL name: detail" on stdout
+ * ("SKIP name: why" for one that cannot run here).
  * A test program ends with `return check_summary();`, which prints
  * "#counts <passed> <failed>" (read by tests/run.sh to build the final
  * "N passed, N failed" line) and returns the number of failures (capped at
@@ -52,6 +53,14 @@ static inline int check_close(const char *name, double got, double want, double 
     int ok = isfinite(got) && diff <= rel_tol * fabs(want) + abs_tol;
     double rel = want != 0.0 ? diff / fabs(want) : diff;
     return check(ok, name, "got %.9g want %.9g rel.err %.3g (tol %.3g)", got, want, rel, rel_tol);
+}
+
+/* A check that cannot run here (a missing tool, say): one line "SKIP name:
+ * why", counted by tests/run.sh in its final line, neither passed nor failed. */
+static inline void check_skip(const char *name, const char *why)
+{
+    printf("SKIP %s: %s\n", name, why);
+    fflush(stdout);
 }
 
 static inline int check_summary(void)
