@@ -111,6 +111,12 @@ eddy_status app_design_evaluate(app_report *r, eddy_error *err);
  * speed table is halved (0.005). */
 double app_design_stop_tolerance(void);
 
+/* 1 if a stop was computed from enough speeds: the relative change of its
+ * distance when every other speed is dropped (app_report.stop_table_change)
+ * is finite and smaller than app_design_stop_tolerance() in magnitude,
+ * whichever its sign; else 0. */
+int app_design_stop_enough_points(double table_change);
+
 /* Options of a run. */
 typedef struct {
     const char *outdir;         /* output folder; NULL: results/<case name> */

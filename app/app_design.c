@@ -216,3 +216,8 @@ eddy_status app_design_evaluate(app_report *r, eddy_error *err)
 }
 
 double app_design_stop_tolerance(void) { return STOP_TABLE_TOL; }
+
+int app_design_stop_enough_points(double table_change)
+{
+    return isfinite(table_change) && fabs(table_change) < STOP_TABLE_TOL;
+}

@@ -22,20 +22,43 @@ const char *app_safety_notice(void)
            "other implants; conductors heated by eddy currents can burn.";
 }
 
+/* Every cJSON allocation of result.json goes through J(): a NULL result (an
+ * allocation failure, or an object that a failed allocation left NULL)
+ * marks the document failed, and app_write_results then writes nothing
+ * and returns EDDY_ERR_NOMEM, never a partial result. */
+static _Thread_local int json_failed;
+
+static cJSON *json_checked(cJSON *x)
+{
+    if (x == NULL)
+        json_failed = 1;
+    return x;
+}
+#define J(x) json_checked(x)
+
+/* Append item to array a; on failure free item and mark the document. */
+static void json_push(cJSON *a, cJSON *item)
+{
+    if (a == NULL || item == NULL || !cJSON_AddItemToArray(a, item)) {
+        cJSON_Delete(item);
+        json_failed = 1;
+    }
+}
+
 /* Add a number, or null where it is not finite. */
 static void add_num(cJSON *o, const char *key, double v)
 {
     if (isfinite(v))
-        cJSON_AddNumberToObject(o, key, v);
+        J(cJSON_AddNumberToObject(o, key, v));
     else
-        cJSON_AddNullToObject(o, key);
+        J(cJSON_AddNullToObject(o, key));
 }
 
 static void add_mesh(cJSON *root, const app_report *r);
 
 static void add_reference(cJSON *root, const app_report *r)
 {
-    cJSON *ref = cJSON_AddObjectToObject(root, "reference");
+    cJSON *ref = J(cJSON_AddObjectToObject(root, "reference"));
     const char *state = "not evaluated";
     switch (r->ref_state) {
     case APP_REF_NONE: state = "not evaluated"; break;
@@ -44,10 +67,10 @@ static void add_reference(cJSON *root, const app_report *r)
     case APP_REF_APPROXIMATE: state = "fits approximately"; break;
     case APP_REF_FAILED: state = "failed"; break;
     }
-    cJSON_AddBoolToObject(ref, "applicable",
-                          r->ref_state == APP_REF_OK || r->ref_state == APP_REF_APPROXIMATE);
-    cJSON_AddStringToObject(ref, "state", state);
-    cJSON_AddStringToObject(ref, "note", r->ref_note);
+    J(cJSON_AddBoolToObject(ref, "applicable",
+                          r->ref_state == APP_REF_OK || r->ref_state == APP_REF_APPROXIMATE));
+    J(cJSON_AddStringToObject(ref, "state", state));
+    J(cJSON_AddStringToObject(ref, "note", r->ref_note));
 }
 
 /* Brake-design answers: peak, stop, end effect, temperature, disc. */
@@ -55,63 +78,62 @@ static void add_design(cJSON *root, const app_report *r)
 {
     const mesh_case *c = r->c;
     if (r->has_peak) {
-        cJSON *pk = cJSON_AddObjectToObject(root, "peak");
+        cJSON *pk = J(cJSON_AddObjectToObject(root, "peak"));
         add_num(pk, "drag_force", r->peak_drag);
         add_num(pk, "speed", r->peak_speed);
-        cJSON_AddBoolToObject(pk, "interpolated", r->peak_refined);
-        cJSON_AddStringToObject(
+        J(cJSON_AddBoolToObject(pk, "interpolated", r->peak_refined));
+        J(cJSON_AddStringToObject(
             pk, "note",
             r->peak_at_end ? "the largest drag is at an end of the speed range: the true peak "
                              "may lie outside it"
-                           : "parabola in log speed through the largest drag and its neighbours");
+                           : "parabola in log speed through the largest drag and its neighbours"));
     }
     if (c->speed_mode == MESH_SPEEDS_AUTO) {
-        cJSON *ad = cJSON_AddObjectToObject(root, "adaptive_speeds");
-        cJSON_AddNumberToObject(ad, "points", r->npoint);
-        cJSON_AddNumberToObject(ad, "rounds", r->adapt_rounds);
-        cJSON_AddStringToObject(ad, "rule", "points added where a monotone cubic through the "
+        cJSON *ad = J(cJSON_AddObjectToObject(root, "adaptive_speeds"));
+        J(cJSON_AddNumberToObject(ad, "points", r->npoint));
+        J(cJSON_AddNumberToObject(ad, "rounds", r->adapt_rounds));
+        J(cJSON_AddStringToObject(ad, "rule", "points added where a monotone cubic through the "
                                             "neighbours misses by more than 0.5 % (0.1 % at the "
-                                            "peak)");
+                                            "peak)"));
     }
     if (c->has_temperature) {
-        cJSON *t = cJSON_AddObjectToObject(root, "temperature");
+        cJSON *t = J(cJSON_AddObjectToObject(root, "temperature"));
         add_num(t, "celsius", c->temperature);
-        cJSON *m = cJSON_AddArrayToObject(t, "conductivities");
+        cJSON *m = J(cJSON_AddArrayToObject(t, "conductivities"));
         for (int k = 0; k < c->nmat; k++) {
             if (c->materials[k].sigma_20 <= 0)
                 continue;
-            cJSON *e = cJSON_CreateObject();
-            cJSON_AddStringToObject(e, "material", c->materials[k].name);
+            cJSON *e = J(cJSON_CreateObject());
+            J(cJSON_AddStringToObject(e, "material", c->materials[k].name));
             add_num(e, "sigma_20", c->materials[k].sigma_20);
             add_num(e, "sigma", c->materials[k].sigma);
             add_num(e, "alpha", c->materials[k].alpha);
-            if (!cJSON_AddItemToArray(m, e))
-                cJSON_Delete(e); /* m is NULL after an allocation failure */
+            json_push(m, e);
         }
     }
     if (c->end_effect.present) {
-        cJSON *e = cJSON_AddObjectToObject(root, "end_effect");
+        cJSON *e = J(cJSON_AddObjectToObject(root, "end_effect"));
         add_num(e, "factor", r->end_factor);
         add_num(e, "plate_width", c->end_effect.plate_width);
         add_num(e, "active_width", c->end_effect.active_width);
         add_num(e, "pole_pitch", c->end_effect.pole_pitch);
-        cJSON_AddStringToObject(e, "assumptions",
+        J(cJSON_AddStringToObject(e, "assumptions",
                                 "Russell-Norsworthy factor (Proc. IEE 105A, 1958) for a plate of "
                                 "finite width: low magnetic Reynolds number, thin plate centred "
                                 "under the magnets, fundamental harmonic; it multiplies the "
-                                "conductivity, i.e. the low-speed drag");
+                                "conductivity, i.e. the low-speed drag"));
     }
     if (c->disc.present) {
-        cJSON *d = cJSON_AddObjectToObject(root, "disc");
+        cJSON *d = J(cJSON_AddObjectToObject(root, "disc"));
         add_num(d, "mean_radius", c->disc.mean_radius);
         add_num(d, "active_length", c->disc.active_length);
         add_num(d, "periods", c->disc.periods);
-        cJSON_AddStringToObject(d, "note", "torque and power are of the whole disc: drag x "
-                                           "active_length x periods at the mean radius");
+        J(cJSON_AddStringToObject(d, "note", "torque and power are of the whole disc: drag x "
+                                           "active_length x periods at the mean radius"));
     }
     if (r->has_stop) {
         const design_stop_result *st = &r->stop;
-        cJSON *s = cJSON_AddObjectToObject(root, "stopping");
+        cJSON *s = J(cJSON_AddObjectToObject(root, "stopping"));
         add_num(s, "distance", st->distance);
         add_num(s, "time", st->time);
         add_num(s, "peak_deceleration", st->peak_decel);
@@ -122,15 +144,15 @@ static void add_design(cJSON *root, const app_report *r)
         add_num(s, "extra_force_work", st->extra_work);
         add_num(s, "conductor_temperature_rise", r->stop_temperature_rise);
         add_num(s, "distance_change_on_half_the_points", r->stop_table_change);
-        cJSON_AddBoolToObject(s, "enough_points",
-                              r->stop_table_change <= app_design_stop_tolerance());
-        cJSON_AddStringToObject(
+        J(cJSON_AddBoolToObject(s, "enough_points",
+                              app_design_stop_enough_points(r->stop_table_change)));
+        J(cJSON_AddStringToObject(
             s, "note",
             "m dv/dt = -(drag x depth x repeat + extra_force), drag interpolated by a monotone "
             "cubic (Fritsch and Carlson 1980) in log speed and log drag, linear below the "
             "lowest speed. An eddy-current brake alone never brings a load to rest: its drag "
             "falls to zero with speed. Engineering estimate; brakes that carry or stop people "
-            "must be designed and verified to the applicable codes by qualified engineers.");
+            "must be designed and verified to the applicable codes by qualified engineers."));
     }
 }
 
@@ -138,37 +160,36 @@ static cJSON *build_json(const app_report *r)
 {
     const mesh_case *c = r->c;
     const mesh_grid *g = r->g;
-    cJSON *root = cJSON_CreateObject();
+    cJSON *root = J(cJSON_CreateObject());
     if (root == NULL)
         return NULL;
-    cJSON_AddStringToObject(root, "name", c->name);
-    cJSON_AddStringToObject(root, "description", c->description);
-    cJSON_AddStringToObject(root, "case_file", c->path);
-    cJSON_AddStringToObject(root, "tool", "eddy2d " EDDY_VERSION);
-    cJSON *units = cJSON_AddObjectToObject(root, "units");
-    cJSON_AddStringToObject(units, "speed", "m/s");
-    cJSON_AddStringToObject(units, "force", "N/m (per metre of depth; per period for a periodic domain)");
-    cJSON_AddStringToObject(units, "loss", "W/m");
-    cJSON_AddStringToObject(units, "current_density", "A/m^2");
-    cJSON_AddStringToObject(root, "method", r->method != NULL ? r->method : "");
+    J(cJSON_AddStringToObject(root, "name", c->name));
+    J(cJSON_AddStringToObject(root, "description", c->description));
+    J(cJSON_AddStringToObject(root, "case_file", c->path));
+    J(cJSON_AddStringToObject(root, "tool", "eddy2d " EDDY_VERSION));
+    cJSON *units = J(cJSON_AddObjectToObject(root, "units"));
+    J(cJSON_AddStringToObject(units, "speed", "m/s"));
+    J(cJSON_AddStringToObject(units, "force", "N/m (per metre of depth; per period for a periodic domain)"));
+    J(cJSON_AddStringToObject(units, "loss", "W/m"));
+    J(cJSON_AddStringToObject(units, "current_density", "A/m^2"));
+    J(cJSON_AddStringToObject(root, "method", r->method != NULL ? r->method : ""));
     if (g != NULL)
         add_mesh(root, r);
     add_reference(root, r);
-    cJSON *pts = cJSON_AddArrayToObject(root, "points");
+    cJSON *pts = J(cJSON_AddArrayToObject(root, "points"));
     for (int k = 0; k < r->npoint; k++) {
         const post_forces *f = &r->f[k];
         const app_point_info *in = &r->info[k];
-        cJSON *p = cJSON_CreateObject();
-        if (p == NULL || !cJSON_AddItemToArray(pts, p)) {
-            cJSON_Delete(p); /* pts is NULL after an allocation failure */
+        cJSON *p = J(cJSON_CreateObject());
+        json_push(pts, p);
+        if (json_failed)
             break;
-        }
         add_num(p, "speed", f->speed);
         add_num(p, "drag_force", f->drag);
         add_num(p, "force_x", f->force_x);
         add_num(p, "force_y", f->force_y);
         if (f->force_method != NULL)
-            cJSON_AddStringToObject(p, "force_method", f->force_method);
+            J(cJSON_AddStringToObject(p, "force_method", f->force_method));
         if (g != NULL) {
             add_num(p, "force_x_lorentz", f->lorentz_x);
             add_num(p, "force_y_lorentz", f->lorentz_y);
@@ -198,7 +219,7 @@ static cJSON *build_json(const app_report *r)
         add_num(p, "solve_seconds", in->t_assemble + in->t_factor + in->t_solve + in->t_post);
         if (g == NULL)
             continue;
-        cJSON *si = cJSON_AddObjectToObject(p, "solver_info");
+        cJSON *si = J(cJSON_AddObjectToObject(p, "solver_info"));
         add_num(si, "assemble_seconds", in->t_assemble);
         add_num(si, "factor_seconds", in->t_factor);
         add_num(si, "solve_seconds", in->t_solve);
@@ -206,36 +227,34 @@ static cJSON *build_json(const app_report *r)
         add_num(si, "lu_entries", in->lnz + in->unz);
         add_num(si, "flops", in->flops);
         if (in->newton.n_residual > 0) { /* saturable materials */
-            cJSON *nw = cJSON_AddObjectToObject(si, "newton");
-            cJSON_AddNumberToObject(nw, "iterations", in->newton.iterations);
-            cJSON_AddBoolToObject(nw, "converged", in->newton.converged);
-            cJSON *h = cJSON_AddArrayToObject(nw, "residual_history");
+            cJSON *nw = J(cJSON_AddObjectToObject(si, "newton"));
+            J(cJSON_AddNumberToObject(nw, "iterations", in->newton.iterations));
+            J(cJSON_AddBoolToObject(nw, "converged", in->newton.converged));
+            cJSON *h = J(cJSON_AddArrayToObject(nw, "residual_history"));
             for (int q = 0; q < in->newton.n_residual; q++)
-                cJSON_AddItemToArray(h, cJSON_CreateNumber(in->newton.residual[q]));
-            cJSON *d = cJSON_AddArrayToObject(nw, "damping");
+                json_push(h, J(cJSON_CreateNumber(in->newton.residual[q])));
+            cJSON *d = J(cJSON_AddArrayToObject(nw, "damping"));
             for (int q = 0; q < in->newton.iterations; q++)
-                cJSON_AddItemToArray(d, cJSON_CreateNumber(in->newton.damping[q]));
+                json_push(d, J(cJSON_CreateNumber(in->newton.damping[q])));
             add_num(nw, "max_flux_density_saturable", in->newton.b_max);
         }
     }
     add_design(root, r);
-    cJSON *w = cJSON_AddArrayToObject(root, "warnings");
+    cJSON *w = J(cJSON_AddArrayToObject(root, "warnings"));
     for (int k = 0; k < c->nwarn; k++) {
-        cJSON *ws = cJSON_CreateString(c->warnings[k]);
-        if (!cJSON_AddItemToArray(w, ws))
-            cJSON_Delete(ws); /* w is NULL after an allocation failure */
+        json_push(w, J(cJSON_CreateString(c->warnings[k])));
     }
-    cJSON_AddStringToObject(root, "notice", app_safety_notice());
+    J(cJSON_AddStringToObject(root, "notice", app_safety_notice()));
     return root;
 }
 
 static void add_mesh(cJSON *root, const app_report *r)
 {
     const mesh_grid *g = r->g;
-    cJSON *mesh = cJSON_AddObjectToObject(root, "mesh");
-    cJSON_AddNumberToObject(mesh, "nodes_x", g->nx);
-    cJSON_AddNumberToObject(mesh, "nodes_y", g->ny);
-    cJSON_AddNumberToObject(mesh, "unknowns", (double)r->unknowns);
+    cJSON *mesh = J(cJSON_AddObjectToObject(root, "mesh"));
+    J(cJSON_AddNumberToObject(mesh, "nodes_x", g->nx));
+    J(cJSON_AddNumberToObject(mesh, "nodes_y", g->ny));
+    J(cJSON_AddNumberToObject(mesh, "unknowns", (double)r->unknowns));
     double hmin_x = INFINITY, hmin_y = INFINITY;
     for (int i = 0; i + 1 < g->nx; i++)
         hmin_x = fmin(hmin_x, g->x[i + 1] - g->x[i]);
@@ -245,15 +264,15 @@ static void add_mesh(cJSON *root, const app_report *r)
     add_num(mesh, "min_cell_y", hmin_y);
     add_num(mesh, "skin_cell_size", g->h_skin);
     add_num(mesh, "dominant_wavenumber", g->k_dominant);
-    cJSON_AddStringToObject(mesh, "x_boundary", g->x_periodic ? "periodic" : "zero");
-    cJSON *solver = cJSON_AddObjectToObject(root, "solver");
-    cJSON_AddStringToObject(solver, "scheme",
-                            "box integration, exponentially fitted convection (Scharfetter-Gummel)");
-    cJSON_AddStringToObject(solver, "linear_solver", "UMFPACK (symbolic once, numeric per speed)");
+    J(cJSON_AddStringToObject(mesh, "x_boundary", g->x_periodic ? "periodic" : "zero"));
+    cJSON *solver = J(cJSON_AddObjectToObject(root, "solver"));
+    J(cJSON_AddStringToObject(solver, "scheme",
+                            "box integration, exponentially fitted convection (Scharfetter-Gummel)"));
+    J(cJSON_AddStringToObject(solver, "linear_solver", "UMFPACK (symbolic once, numeric per speed)"));
     add_num(solver, "mesh_seconds", r->t_mesh);
     add_num(solver, "analyse_seconds", r->t_analyse);
-    cJSON_AddStringToObject(solver, "ordering", r->ordering != NULL ? r->ordering : "");
-    cJSON_AddNumberToObject(solver, "threads", r->threads);
+    J(cJSON_AddStringToObject(solver, "ordering", r->ordering != NULL ? r->ordering : ""));
+    J(cJSON_AddNumberToObject(solver, "threads", r->threads));
     add_num(solver, "factor_memory_estimate_bytes", r->factor_bytes);
 }
 
@@ -283,8 +302,9 @@ static eddy_status write_csv(const char *dir, const app_report *r, eddy_error *e
 
 eddy_status app_write_results(const char *dir, const app_report *r, eddy_error *err)
 {
+    json_failed = 0;
     cJSON *root = build_json(r);
-    char *text = root != NULL ? cJSON_Print(root) : NULL;
+    char *text = root != NULL && !json_failed ? cJSON_Print(root) : NULL;
     cJSON_Delete(root);
     if (text == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing result.json");

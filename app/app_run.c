@@ -156,7 +156,9 @@ static eddy_status prepare(const char *case_path, const app_run_opts **o,
         snprintf(r->outdir, sizeof r->outdir, "%s", (*o)->outdir);
     else
         snprintf(r->outdir, sizeof r->outdir, "results/%s", r->c->name);
-    return EDDY_OK;
+    /* a folder that cannot take the outputs is an input error, found before
+     * the computation */
+    return eddy_check_output_dir(r->outdir, err);
 }
 
 static eddy_status write_field_outputs(app_report *r, const mesh_grid *g, const app_run_opts *o,

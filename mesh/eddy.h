@@ -144,6 +144,15 @@ void eddy_remove_temporaries(void);
  */
 double eddy_memory_limit(double option_bytes);
 
+/*
+ * Check, before any work, that dir can become an output folder: a non-empty
+ * name of an existing folder this process may write into, or of one that
+ * eddy_make_dir can create (its nearest existing ancestor is a folder this
+ * process may write into).  Returns EDDY_OK, or EDDY_ERR_INPUT with a
+ * message naming dir and what is wrong (empty, a file, not writable).
+ */
+eddy_status eddy_check_output_dir(const char *dir, eddy_error *err);
+
 /* Create a directory and its parents (like mkdir -p).  Returns EDDY_OK or
  * EDDY_ERR_IO. */
 eddy_status eddy_make_dir(const char *dir, eddy_error *err);

@@ -349,3 +349,46 @@ double eddy_memory_limit(double option_bytes)
         return option_bytes < hard ? option_bytes : hard;
     return 0.5 * hard;
 }
+
+eddy_status eddy_check_output_dir(const char *dir, eddy_error *err)
+{
+    if (dir == NULL || dir[0] == '\0')
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "output folder \"\": the name is empty");
+    char path[4096];
+    if (strlen(dir) >= sizeof path)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "output folder \"%.64s...\": name too long", dir);
+    snprintf(path, sizeof path, "%s", dir);
+    struct stat st;
+    int own = 1; /* path is dir itself, not an ancestor */
+    for (;;) {
+        if (stat(path, &st) == 0) {
+            if (!S_ISDIR(st.st_mode))
+                return EDDY_RAISE(err, EDDY_ERR_INPUT,
+                                  own ? "output folder \"%s\": exists and is not a folder"
+                                      : "output folder \"%s\": cannot be created: \"%s\" is "
+                                        "not a folder",
+                                  dir, path);
+            if (access(path, W_OK | X_OK) != 0)
+                return EDDY_RAISE(err, EDDY_ERR_INPUT,
+                                  "output folder \"%s\": %s is not writable: %s", dir,
+                                  own ? "it" : path, strerror(errno));
+            return EDDY_OK;
+        }
+        if (errno != ENOENT && errno != ENOTDIR)
+            return EDDY_RAISE(err, EDDY_ERR_INPUT, "output folder \"%s\": %s", dir,
+                              strerror(errno));
+        own = 0;
+        char *slash = strrchr(path, '/');
+        while (slash != NULL && slash > path && slash[1] == '\0') { /* trailing '/' */
+            *slash = '\0';
+            slash = strrchr(path, '/');
+        }
+        if (slash == NULL) {
+            snprintf(path, sizeof path, ".");
+        } else if (slash == path) {
+            path[1] = '\0';
+        } else {
+            *slash = '\0';
+        }
+    }
+}

@@ -111,4 +111,31 @@ else
     ko "check --max-memory 4" "refused a small mesh"
 fi
 
+# -o that cannot take the outputs: exit 2 naming the folder, before the
+# computation (nothing written)
+mkdir -p "$T/odir" && : > "$T/odir/file"
+for o in "$T/odir/file" "" "$T/odir/file/sub"; do
+    msg=$($E solve "$T/mem.json" -o "$o" -q 2>&1)
+    rc=$?
+    if [ $rc -eq 2 ] && echo "$msg" | grep -qF "output folder \"$o\"" &&
+        [ "$(ls "$T/odir")" = "file" ]; then
+        ok "solve -o '$o' (not a usable folder) exits 2 naming it, writes nothing"
+    else
+        ko "solve -o '$o'" "exit $rc: $msg"
+    fi
+done
+if [ "$(id -u)" -ne 0 ]; then
+    mkdir -p "$T/ro" && chmod 555 "$T/ro"
+    msg=$($E solve "$T/mem.json" -o "$T/ro/out" -q 2>&1)
+    rc=$?
+    chmod 755 "$T/ro"
+    if [ $rc -eq 2 ] && echo "$msg" | grep -q "not writable" && [ ! -e "$T/ro/out" ]; then
+        ok "solve -o inside a read-only folder exits 2 before the computation"
+    else
+        ko "solve -o read-only" "exit $rc: $msg"
+    fi
+else
+    skip "solve -o inside a read-only folder" "running as root, who may write anywhere"
+fi
+
 finish

@@ -155,6 +155,20 @@ static void test_temperature(void)
     app_report_free(b);
 }
 
+/* stopping.enough_points: the distance must move by less than 0.5 % either
+ * way when the speed table is halved (the tolerance is this project's rule;
+ * a distance that falls by 2.3 % is as unresolved as one that rises). */
+static void test_enough_points_rule(void)
+{
+    double tol = app_design_stop_tolerance();
+    check(app_design_stop_enough_points(0.1 * tol) && app_design_stop_enough_points(-0.1 * tol),
+          "enough_points: a change of +-0.1 x tolerance is enough", "tol %g", tol);
+    check(!app_design_stop_enough_points(-0.023) && !app_design_stop_enough_points(0.023),
+          "enough_points: a change of -2.3 % or +2.3 % is not enough", "tol %g", tol);
+    check(!app_design_stop_enough_points(NAN), "enough_points: an unknown change is not enough",
+          "NaN");
+}
+
 static void test_bad_vehicle(void)
 {
     const char *json =
@@ -174,6 +188,7 @@ int main(void)
     snprintf(dir, sizeof dir, "/tmp/eddy2d_test_design_%ld", (long)getpid());
     mkdir(dir, 0777);
     test_bad_vehicle();
+    test_enough_points_rule();
     test_temperature();
     test_adaptive_peak_and_stop();
     char cmd[400];
