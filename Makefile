@@ -75,10 +75,12 @@ same-outputs: $(B)/eddy2d
 	  echo "same outputs: $$(wc -l < tests/golden/digests.txt) files identical"; \
 	else echo "outputs differ from tests/golden/digests.txt (lines above)"; exit 1; fi
 
-# Installs the Debian packages listed in .ci/debian-packages (needs root).
+# Installs the Debian packages listed in .ci/debian-packages: as root
+# directly, as another user through sudo.
+SUDO := $(shell [ "$$(id -u)" -eq 0 ] || echo sudo)
 deps:
-	apt-get update
-	apt-get install -y $$(grep -v '^#' .ci/debian-packages)
+	$(SUDO) apt-get update
+	$(SUDO) apt-get install -y $$(grep -v '^#' .ci/debian-packages)
 
 demo: $(B)/eddy2d
 	$(B)/eddy2d solve cases/sled_fin.json -o results/sled_fin
