@@ -29,6 +29,9 @@
                                   derivative is first order away from cell centres;
                                   measured 2.2 % */
 #define TOL_ROUNDTRIP 1e-8     /* values read back from the .vtr (9 significant digits) */
+#define TOL_OHM 0.02           /* J_z from the fitted fluxes vs sigma v B_y from the bilinear
+                                  gradients (r.m.s.): measured 0.4 % on the periodic case */
+#define MIN_OHM_RATIO 2.0      /* ... shrinking at least first order under refinement */
 #define TOL_EXACT 1e-12        /* quantities that must agree to rounding */
 
 /* ---------------------------------------------------------------------- */
@@ -383,8 +386,36 @@ static int band_middle_row(const mesh_grid *g, int *jmid)
 
 static char tmpdir[256];
 
+/* J_z against Ohm's law in the moving conductor, J = sigma (v x B), so
+ * J_z = sigma v B_y (PHYSICS.md; e.g. Jackson, Classical Electrodynamics,
+ * 3rd ed. 1999, sec. 5.15, from memory): f->jz comes from the fitted fluxes
+ * of A along x, f->by from the bilinear gradients around the node, two
+ * independent discretisations of the same law that agree as the grid is
+ * refined.  Returns the r.m.s. of J_z - sigma v B_y over the nodes strictly
+ * inside the band (away from the surfaces, where J_z is one-sided) relative
+ * to the r.m.s. of J_z there; *nin receives the number of nodes. */
+static double ohm_mismatch(const mesh_grid *g, const post_fields *f, double v, long *nin)
+{
+    double d = 0.0, jj = 0.0; /* sums of squares */
+    *nin = 0;
+    for (int j = g->jm0 + 1; j < g->jm1; j++)
+        for (int i = 1; i + 1 < g->nx; i++) {
+            size_t kn = (size_t)i + (size_t)g->nx * (size_t)j;
+            size_t kc = (size_t)i + (size_t)g->ncx * (size_t)j;
+            if (!g->moving[kc] || !g->moving[kc - 1] || !g->moving[kc - (size_t)g->ncx] ||
+                !g->moving[kc - 1 - (size_t)g->ncx])
+                continue;
+            double ohm = g->sigma[kc] * v * f->by[kn];
+            d += (f->jz[kn] - ohm) * (f->jz[kn] - ohm);
+            jj += f->jz[kn] * f->jz[kn];
+            (*nin)++;
+        }
+    return jj > 0 ? sqrt(d / jj) : NAN;
+}
+
 /* Fields, .vtr and energy checks on one moving case. */
-static void test_moving_case(const char *label, const char *json, double v, int write_vtr)
+static void test_moving_case(const char *label, const char *json, double v, int write_vtr,
+                             double ohm_tol)
 {
     pipe_run p;
     char name[256];
@@ -450,16 +481,19 @@ static void test_moving_case(const char *label, const char *json, double v, int 
               "inside: %.6g W/m^3 vs J^2/sigma %.6g", f->loss[kn], want);
     }
 
-    /* J_z is post_current_density */
-    double *jz = malloc(nn * sizeof *jz);
-    if (jz != NULL && post_current_density(g, p.a, v, jz, NULL) == EDDY_OK) {
-        double d = 0.0;
-        for (size_t k = 0; k < nn; k++)
-            d = fmax(d, fabs(jz[k] - f->jz[k]));
-        snprintf(name, sizeof name, "%s: J_z field = post_current_density", label);
-        check(d == 0.0, name, "max difference %.3g A/m^2", d);
+    /* J_z against Ohm's law inside the moving conductor (ohm_mismatch) */
+    {
+        long nin = 0;
+        double rel = ohm_mismatch(g, f, v, &nin);
+        snprintf(name, sizeof name, "%s: J_z = sigma v B_y inside the moving conductor", label);
+        if (ohm_tol > 0)
+            check(nin > 0 && rel <= ohm_tol, name,
+                  "%ld nodes: r.m.s. |J_z - sigma v B_y| / r.m.s. |J_z| = %.3g (tol %.3g)", nin,
+                  rel, ohm_tol);
+        else
+            printf("# %s: J_z vs sigma v B_y: r.m.s. difference %.3g over %ld nodes (checked "
+                   "under refinement below)\n", label, rel, nin);
     }
-    free(jz);
 
     /* periodic copy node */
     if (g->x_periodic) {
@@ -473,13 +507,28 @@ static void test_moving_case(const char *label, const char *json, double v, int 
         check(d <= 1e-12, name, "max difference %.3g", d);
     }
 
-    /* region ids */
+    /* region ids against the case's boxes: the cell centre lies in the box
+     * of the region that owns it (the last region listed wins where boxes
+     * overlap), and in no box of a non-air region for an air cell (-1) */
     int reg_ok = 1;
-    for (size_t k = 0; k < (size_t)g->ncx * (size_t)g->ncy; k++)
-        if (f->region[k] != g->region[k])
-            reg_ok = 0;
-    snprintf(name, sizeof name, "%s: cell region ids copied", label);
-    check(reg_ok, name, "%s", reg_ok ? "" : "mismatch");
+    long nbad = 0;
+    for (int j = 0; j < g->ncy; j++)
+        for (int i = 0; i < g->ncx; i++) {
+            double xc = 0.5 * (g->x[i] + g->x[i + 1]), yc = 0.5 * (g->y[j] + g->y[j + 1]);
+            int want = -1;
+            for (int q = 0; q < p.c->nreg; q++) {
+                const double *bx = p.c->regions[q].box;
+                if (xc > bx[0] && xc < bx[2] && yc > bx[1] && yc < bx[3])
+                    want = q;
+            }
+            size_t k = (size_t)i + (size_t)g->ncx * (size_t)j;
+            if (f->region[k] != want) {
+                reg_ok = 0;
+                nbad++;
+            }
+        }
+    snprintf(name, sizeof name, "%s: cell region ids = the region whose box holds the cell", label);
+    check(reg_ok, name, "%ld cells differ", nbad);
 
     if (write_vtr) {
         /* VTK file: layout per the VTK file-format documentation ("XML File
@@ -822,6 +871,36 @@ static void test_magnet(void)
           en[0], en[1], en[2], count[2], order, MIN_ORDER_NODE_B, ec[0], ec[1], ec[2], corder);
 }
 
+/* At cell Peclet numbers near 2 (the isolated copper case at 20 m/s) the two
+ * discretisations of J_z = sigma v B_y differ by a few per cent on the
+ * default grid; both converge, so the difference must shrink under
+ * refinement (grid split 2 x 2, mesh.refine): by at least MIN_OHM_RATIO. */
+static void test_ohm_refinement(void)
+{
+    double rel[2] = {NAN, NAN};
+    for (int r = 0; r < 2; r++) {
+        char json[1024];
+        snprintf(json, sizeof json, "{\"mesh\":{\"refine\":%d},%s", r + 1, isolated_case + 1);
+        pipe_run p;
+        post_forces fo;
+        post_fields *f = NULL;
+        if (pipe_open(&p, json) != 0)
+            break;
+        long nin = 0;
+        if (pipe_speed(&p, ISOLATED_SPEED, &fo) == 0 &&
+            post_fields_alloc(p.g, &f, NULL) == EDDY_OK &&
+            post_fields_compute(p.g, p.a, ISOLATED_SPEED, f, NULL) == EDDY_OK)
+            rel[r] = ohm_mismatch(p.g, f, ISOLATED_SPEED, &nin);
+        post_fields_free(f);
+        pipe_free(&p);
+    }
+    check(isfinite(rel[1]) && rel[1] * MIN_OHM_RATIO <= rel[0],
+          "isolated magnet over copper: J_z - sigma v B_y shrinks under refinement",
+          "r.m.s. difference %.3g on the default grid, %.3g refined 2 x 2 (ratio %.2f, at least "
+          "%.1f)",
+          rel[0], rel[1], rel[0] / rel[1], MIN_OHM_RATIO);
+}
+
 int main(void)
 {
     snprintf(tmpdir, sizeof tmpdir, "/tmp/eddy2d_post_fields_XXXXXX");
@@ -829,8 +908,10 @@ int main(void)
         check(0, "temporary directory", "mkdtemp failed");
         return check_summary();
     }
-    test_moving_case("periodic magnets over aluminium", periodic_case, PERIODIC_SPEED, 1);
-    test_moving_case("isolated magnet over copper", isolated_case, ISOLATED_SPEED, 0);
+    test_moving_case("periodic magnets over aluminium", periodic_case, PERIODIC_SPEED, 1,
+                     TOL_OHM);
+    test_moving_case("isolated magnet over copper", isolated_case, ISOLATED_SPEED, 0, 0.0);
+    test_ohm_refinement();
     test_magnet();
     rmdir(tmpdir);
     return check_summary();
