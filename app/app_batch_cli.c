@@ -35,6 +35,7 @@
 
 #include "mesh/mesh.h"
 #include "app/app.h"
+#include "app/app_batch.h"
 
 int app_batch_main(int argc, char **argv);
 
