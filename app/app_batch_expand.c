@@ -370,63 +370,42 @@ static int variant_names(const char *base, vkey *keys, int nkey, long total,
     return 1;
 }
 
-#define FAIL_INPUT(...)                                                                        \
-    do {                                                                                       \
-        s = EDDY_RAISE(err, EDDY_ERR_INPUT, __VA_ARGS__);                                     \
-        goto done;                                                                             \
-    } while (0)
-#define FAIL_NOMEM()                                                                           \
-    do {                                                                                       \
-        s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory expanding %s", source);            \
-        goto done;                                                                             \
-    } while (0)
-
-eddy_status app_batch_expand(const char *text, const char *source, int images,
-                              app_batch_case **cases, int *ncase, eddy_error *err)
+static eddy_status no_memory(const char *source, eddy_error *err)
 {
-    *cases = NULL;
-    *ncase = 0;
-    if (source == NULL)
-        source = "(case)";
-    eddy_status s = EDDY_OK;
-    cJSON *root = NULL, *base = NULL;
-    vkey *keys = NULL;
-    int nkey = 0;
-    char (*names)[APP_BATCH_NAME_MAX] = NULL;
-    app_batch_case *out = NULL;
-    long total = 1;
+    return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory expanding %s", source);
+}
 
-    const char *end = NULL;
-    root = cJSON_ParseWithOpts(text, &end, 1);
-    if (root == NULL || !cJSON_IsObject(root)) {
-        /* the plain solve's message (line and column, or the top level) */
-        s = parse_message(text, source, err);
-        goto done;
-    }
-    char where[512] = "";
-    if (find_nonfinite(root, where, sizeof where, 0))
-        FAIL_INPUT("%s: %s: must be a finite number", source, where[0] ? where : "(top level)");
-    /* the base name */
-    char basename[APP_BATCH_NAME_MAX];
+/* The base name of the variants: the case's "name", else the file's stem. */
+static eddy_status base_name(const cJSON *root, const char *source, char *name, size_t size,
+                             eddy_error *err)
+{
     const cJSON *nm = cJSON_GetObjectItemCaseSensitive(root, "name");
-    if (nm != NULL) {
-        if (!cJSON_IsString(nm) || nm->valuestring == NULL || !mesh_name_is_safe(nm->valuestring))
-            FAIL_INPUT("%s: name: must have 1 to 63 characters, only letters, digits, '_', '-' "
-                       "and '.' (it names the result folder), and not start with '.'",
-                       source);
-        snprintf(basename, sizeof basename, "%s", nm->valuestring);
-    } else {
-        eddy_name_from_path(source, basename, sizeof basename);
+    if (nm == NULL) {
+        eddy_name_from_path(source, name, size);
+        return EDDY_OK;
     }
-    /* the case without "variants" and "name": the base of every variant */
-    base = cJSON_CreateObject();
-    if (base == NULL)
-        FAIL_NOMEM();
-    const cJSON *variants = NULL;
+    if (!cJSON_IsString(nm) || nm->valuestring == NULL || !mesh_name_is_safe(nm->valuestring))
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: name: must have 1 to 63 characters, only "
+                          "letters, digits, '_', '-' and '.' (it names the result folder), and "
+                          "not start with '.'", source);
+    snprintf(name, size, "%s", nm->valuestring);
+    return EDDY_OK;
+}
+
+/* The case without "variants" and "name" (*base, the base of every variant;
+ * the caller deletes it, also on error) and its "variants" object
+ * (*variants, inside root; NULL if there is none). */
+static eddy_status split_variants(const cJSON *root, const char *source, cJSON **base,
+                                  const cJSON **variants, eddy_error *err)
+{
+    *variants = NULL;
+    *base = cJSON_CreateObject();
+    if (*base == NULL)
+        return no_memory(source, err);
     int nvariants_key = 0;
     for (const cJSON *e = root->child; e != NULL; e = e->next) {
         if (strcmp(e->string, "variants") == 0) {
-            variants = e;
+            *variants = e;
             nvariants_key++;
             continue;
         }
@@ -434,154 +413,252 @@ eddy_status app_batch_expand(const char *text, const char *source, int images,
             continue;
         cJSON *d = cJSON_Duplicate(e, 1);
         if (d == NULL)
-            FAIL_NOMEM();
-        if (!cJSON_AddItemToObject(base, e->string, d)) {
+            return no_memory(source, err);
+        if (!cJSON_AddItemToObject(*base, e->string, d)) {
             cJSON_Delete(d);
-            FAIL_NOMEM();
+            return no_memory(source, err);
         }
     }
     if (nvariants_key > 1)
-        FAIL_INPUT("%s: variants: key \"variants\" appears more than once", source);
-    if (variants != NULL && !cJSON_IsObject(variants))
-        FAIL_INPUT("%s: variants: must be an object {\"path.to.key\": [value, ...], ...}",
-                   source);
-    nkey = variants != NULL ? cJSON_GetArraySize(variants) : 0;
-    if (nkey > APP_BATCH_MAX_KEYS)
-        FAIL_INPUT("%s: variants: %d keys, at most %d", source, nkey, APP_BATCH_MAX_KEYS);
-    if (nkey > 0) {
-        keys = calloc((size_t)nkey, sizeof *keys);
-        if (keys == NULL)
-            FAIL_NOMEM();
-    }
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants: key \"variants\" appears more "
+                          "than once", source);
+    if (*variants != NULL && !cJSON_IsObject(*variants))
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants: must be an object "
+                          "{\"path.to.key\": [value, ...], ...}", source);
+    return EDDY_OK;
+}
+
+/* Check key k of "variants" (e, its value list) against the keys before it
+ * and the base case; multiply *total by its number of values. */
+static eddy_status read_key(cJSON *e, vkey *keys, int k, cJSON *base, const char *source,
+                            long *total, eddy_error *err)
+{
+    keys[k].path = e->string;
+    keys[k].values = e;
+    if (strcmp(e->string, "name") == 0)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants.name: the name cannot vary (each "
+                          "variant is named <name>__<key>-<value>)", source);
+    if (strcmp(e->string, "variants") == 0 || strncmp(e->string, "variants.", 9) == 0)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants.%.300s: variants cannot vary "
+                          "themselves", source, e->string);
+    for (int q = 0; q < k; q++)
+        if (strcmp(keys[q].path, e->string) == 0)
+            return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants: key \"%.300s\" appears more "
+                              "than once", source, e->string);
+    if (!cJSON_IsArray(e))
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants.%.300s: must be an array of "
+                          "values", source, e->string);
+    keys[k].n = cJSON_GetArraySize(e);
+    if (keys[k].n == 0)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants.%.300s: must not be empty", source,
+                          e->string);
+    if (keys[k].n > APP_BATCH_MAX_VALUES)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants.%.300s: %d values, at most %d",
+                          source, e->string, keys[k].n, APP_BATCH_MAX_VALUES);
+    cJSON *parent = NULL, *item = NULL;
+    char why[768];
+    if (resolve_path(base, e->string, &parent, &item, why, sizeof why) != 0)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants.%.300s: %s", source, e->string,
+                          why);
+    *total *= keys[k].n;
+    if (*total > APP_BATCH_MAX_VARIANTS)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants: more than %d combinations",
+                          source, APP_BATCH_MAX_VARIANTS);
+    return EDDY_OK;
+}
+
+/* The keys of a "variants" object (NULL: none), each checked against the
+ * base case: *keys (*nkey entries; the caller frees the array, also on
+ * error) and the number of combinations *total. */
+static eddy_status read_keys(const cJSON *variants, cJSON *base, const char *source,
+                             vkey **keys, int *nkey, long *total, eddy_error *err)
+{
+    *keys = NULL;
+    *total = 1;
+    *nkey = variants != NULL ? cJSON_GetArraySize(variants) : 0;
+    if (*nkey > APP_BATCH_MAX_KEYS)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants: %d keys, at most %d", source,
+                          *nkey, APP_BATCH_MAX_KEYS);
+    if (*nkey == 0)
+        return EDDY_OK;
+    vkey *ks = calloc((size_t)*nkey, sizeof *ks);
+    *keys = ks;
+    if (ks == NULL)
+        return no_memory(source, err);
     int k = 0;
-    for (cJSON *e = variants != NULL ? variants->child : NULL; e != NULL; e = e->next, k++) {
-        keys[k].path = e->string;
-        keys[k].values = e;
-        if (strcmp(e->string, "name") == 0)
-            FAIL_INPUT("%s: variants.name: the name cannot vary (each variant is named "
-                       "<name>__<key>-<value>)", source);
-        if (strcmp(e->string, "variants") == 0 || strncmp(e->string, "variants.", 9) == 0)
-            FAIL_INPUT("%s: variants.%.300s: variants cannot vary themselves", source, e->string);
-        for (int q = 0; q < k; q++)
-            if (strcmp(keys[q].path, e->string) == 0)
-                FAIL_INPUT("%s: variants: key \"%.300s\" appears more than once", source,
-                           e->string);
-        if (!cJSON_IsArray(e))
-            FAIL_INPUT("%s: variants.%.300s: must be an array of values", source, e->string);
-        keys[k].n = cJSON_GetArraySize(e);
-        if (keys[k].n == 0)
-            FAIL_INPUT("%s: variants.%.300s: must not be empty", source, e->string);
-        if (keys[k].n > APP_BATCH_MAX_VALUES)
-            FAIL_INPUT("%s: variants.%.300s: %d values, at most %d", source, e->string,
-                       keys[k].n, APP_BATCH_MAX_VALUES);
-        cJSON *parent = NULL, *item = NULL;
-        char why[768];
-        if (resolve_path(base, e->string, &parent, &item, why, sizeof why) != 0)
-            FAIL_INPUT("%s: variants.%.300s: %s", source, e->string, why);
-        total *= keys[k].n;
-        if (total > APP_BATCH_MAX_VARIANTS)
-            FAIL_INPUT("%s: variants: more than %d combinations", source,
-                       APP_BATCH_MAX_VARIANTS);
+    for (cJSON *e = variants->child; e != NULL; e = e->next, k++) {
+        eddy_status s = read_key(e, ks, k, base, source, total, err);
+        if (s != EDDY_OK)
+            return s;
     }
     /* no two paths may name the same value or one inside another */
-    for (int a = 0; a < nkey; a++)
-        for (int b = 0; b < nkey; b++) {
+    for (int a = 0; a < *nkey; a++)
+        for (int b = 0; b < *nkey; b++) {
             if (a == b)
                 continue;
             cJSON *pa, *ia, *pb, *ib;
             char why[8];
-            resolve_path(base, keys[a].path, &pa, &ia, why, sizeof why);
-            resolve_path(base, keys[b].path, &pb, &ib, why, sizeof why);
+            resolve_path(base, ks[a].path, &pa, &ia, why, sizeof why);
+            resolve_path(base, ks[b].path, &pb, &ib, why, sizeof why);
             if (inside(ia, ib))
-                FAIL_INPUT("%s: variants: \"%.300s\" and \"%.300s\" change the same value",
-                           source, keys[a].path, keys[b].path);
+                return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variants: \"%.300s\" and \"%.300s\" "
+                                  "change the same value", source, ks[a].path, ks[b].path);
         }
-    make_labels(keys, nkey);
-    names = calloc((size_t)total, sizeof *names);
-    out = calloc((size_t)total, sizeof *out);
-    if (names == NULL || out == NULL)
-        FAIL_NOMEM();
-    if (nkey == 0 || !variant_names(basename, keys, nkey, total, names)) {
-        int width = 3;
-        for (long t = 1000; t <= total; t *= 10)
-            width++;
-        for (long t = 0; t < total; t++) {
-            if (nkey == 0) {
-                snprintf(names[t], sizeof names[t], "%s", basename);
-                continue;
-            }
-            char tail[32];
-            int tl = snprintf(tail, sizeof tail, "__v%0*ld", width, t + 1);
-            int keep = (int)strlen(basename);
-            if (keep + tl >= APP_BATCH_NAME_MAX)
-                keep = APP_BATCH_NAME_MAX - 1 - tl;
-            snprintf(names[t], sizeof names[t], "%.*s%s", keep, basename, tail);
-        }
-    }
+    return EDDY_OK;
+}
+
+/* The names of the total cases: the base name alone without variants, else
+ * <name>__<label>-<value>..., or <name>__vNNN when those will not do. */
+static void case_names(const char *basename, vkey *keys, int nkey, long total,
+                       char (*names)[APP_BATCH_NAME_MAX])
+{
+    if (nkey > 0 && variant_names(basename, keys, nkey, total, names))
+        return;
+    int width = 3;
+    for (long t = 1000; t <= total; t *= 10)
+        width++;
     for (long t = 0; t < total; t++) {
-        app_batch_case *c = &out[t];
-        snprintf(c->name, sizeof c->name, "%s", names[t]);
-        c->source = app_batch_strdup(source);
-        if (c->source == NULL)
-            FAIL_NOMEM();
-        if (nkey > 0) {
-            c->paths = calloc((size_t)nkey, sizeof *c->paths);
-            c->values = calloc((size_t)nkey, sizeof *c->values);
-            if (c->paths == NULL || c->values == NULL)
-                FAIL_NOMEM();
-            c->nvalue = nkey;
+        if (nkey == 0) {
+            snprintf(names[t], sizeof names[t], "%s", basename);
+            continue;
         }
-        /* the expanded case: "name" first, then the base with the values set */
-        cJSON *one = cJSON_CreateObject();
-        if (one == NULL || cJSON_AddStringToObject(one, "name", c->name) == NULL) {
-            cJSON_Delete(one);
-            FAIL_NOMEM();
-        }
-        for (const cJSON *e = base->child; e != NULL; e = e->next) {
-            cJSON *d = cJSON_Duplicate(e, 1);
-            if (d == NULL || !cJSON_AddItemToObject(one, e->string, d)) {
-                cJSON_Delete(d);
-                cJSON_Delete(one);
-                FAIL_NOMEM();
-            }
-        }
-        long rest = t, stride = total;
-        for (int q = 0; q < nkey; q++) {
-            stride /= keys[q].n;
-            int idx = (int)(rest / stride);
-            rest %= stride;
-            const cJSON *v = cJSON_GetArrayItem(keys[q].values, idx);
-            s = set_path(one, keys[q].path, v, err);
-            if (s != EDDY_OK) {
-                cJSON_Delete(one);
-                goto done;
-            }
-            c->paths[q] = app_batch_strdup(keys[q].path);
-            c->values[q] = cJSON_PrintUnformatted(v);
-            if (c->paths[q] == NULL || c->values[q] == NULL) {
-                cJSON_Delete(one);
-                FAIL_NOMEM();
-            }
-        }
-        char *printed = cJSON_Print(one);
-        cJSON_Delete(one);
-        if (printed == NULL)
-            FAIL_NOMEM();
-        size_t plen = strlen(printed);
-        c->text = malloc(plen + 2);
-        if (c->text == NULL) {
-            cJSON_free(printed);
-            FAIL_NOMEM();
-        }
-        memcpy(c->text, printed, plen);
-        c->text[plen] = '\n';
-        c->text[plen + 1] = '\0';
-        cJSON_free(printed);
-        app_batch_text_hash(c->text, images, c->hash);
-        if (validate_case(c) != EDDY_OK)
-            FAIL_NOMEM();
+        char tail[32];
+        int tl = snprintf(tail, sizeof tail, "__v%0*ld", width, t + 1);
+        int keep = (int)strlen(basename);
+        if (keep + tl >= APP_BATCH_NAME_MAX)
+            keep = APP_BATCH_NAME_MAX - 1 - tl;
+        snprintf(names[t], sizeof names[t], "%.*s%s", keep, basename, tail);
     }
-done:
+}
+
+/* Combination t of total as a case tree (*out, NULL on error): "name"
+ * first, then the base with each key's value set; the paths and values go
+ * into c (allocated by the caller with nkey entries). */
+static eddy_status expanded_tree(app_batch_case *c, const cJSON *base, const vkey *keys,
+                                 int nkey, long t, long total, const char *source, cJSON **out,
+                                 eddy_error *err)
+{
+    *out = NULL;
+    cJSON *one = cJSON_CreateObject();
+    if (one == NULL || cJSON_AddStringToObject(one, "name", c->name) == NULL) {
+        cJSON_Delete(one);
+        return no_memory(source, err);
+    }
+    for (const cJSON *e = base->child; e != NULL; e = e->next) {
+        cJSON *d = cJSON_Duplicate(e, 1);
+        if (d == NULL || !cJSON_AddItemToObject(one, e->string, d)) {
+            cJSON_Delete(d);
+            cJSON_Delete(one);
+            return no_memory(source, err);
+        }
+    }
+    long rest = t, stride = total;
+    for (int q = 0; q < nkey; q++) {
+        stride /= keys[q].n;
+        int idx = (int)(rest / stride);
+        rest %= stride;
+        const cJSON *v = cJSON_GetArrayItem(keys[q].values, idx);
+        eddy_status s = set_path(one, keys[q].path, v, err);
+        if (s != EDDY_OK) {
+            cJSON_Delete(one);
+            return s;
+        }
+        c->paths[q] = app_batch_strdup(keys[q].path);
+        c->values[q] = cJSON_PrintUnformatted(v);
+        if (c->paths[q] == NULL || c->values[q] == NULL) {
+            cJSON_Delete(one);
+            return no_memory(source, err);
+        }
+    }
+    *out = one;
+    return EDDY_OK;
+}
+
+/* Fill case c, combination t of total named name: its source, variant
+ * values, expanded text (ending in a newline), hash, and the reader's
+ * verdict. */
+static eddy_status build_case(app_batch_case *c, const char *name, const char *source,
+                              const cJSON *base, const vkey *keys, int nkey, long t, long total,
+                              int images, eddy_error *err)
+{
+    snprintf(c->name, sizeof c->name, "%s", name);
+    c->source = app_batch_strdup(source);
+    if (c->source == NULL)
+        return no_memory(source, err);
+    if (nkey > 0) {
+        c->paths = calloc((size_t)nkey, sizeof *c->paths);
+        c->values = calloc((size_t)nkey, sizeof *c->values);
+        if (c->paths == NULL || c->values == NULL)
+            return no_memory(source, err);
+        c->nvalue = nkey;
+    }
+    cJSON *one = NULL;
+    eddy_status s = expanded_tree(c, base, keys, nkey, t, total, source, &one, err);
+    if (s != EDDY_OK)
+        return s;
+    char *printed = cJSON_Print(one);
+    cJSON_Delete(one);
+    if (printed == NULL)
+        return no_memory(source, err);
+    size_t plen = strlen(printed);
+    c->text = malloc(plen + 2);
+    if (c->text == NULL) {
+        cJSON_free(printed);
+        return no_memory(source, err);
+    }
+    memcpy(c->text, printed, plen);
+    c->text[plen] = '\n';
+    c->text[plen + 1] = '\0';
+    cJSON_free(printed);
+    app_batch_text_hash(c->text, images, c->hash);
+    if (validate_case(c) != EDDY_OK)
+        return no_memory(source, err);
+    return EDDY_OK;
+}
+
+eddy_status app_batch_expand(const char *text, const char *source, int images,
+                             app_batch_case **cases, int *ncase, eddy_error *err)
+{
+    *cases = NULL;
+    *ncase = 0;
+    if (source == NULL)
+        source = "(case)";
+    eddy_status s = EDDY_OK;
+    cJSON *base = NULL;
+    const cJSON *variants = NULL;
+    vkey *keys = NULL;
+    int nkey = 0;
+    long total = 1;
+    char (*names)[APP_BATCH_NAME_MAX] = NULL;
+    app_batch_case *out = NULL;
+    char basename[APP_BATCH_NAME_MAX];
+    char where[512] = "";
+
+    const char *end = NULL;
+    cJSON *root = cJSON_ParseWithOpts(text, &end, 1);
+    if (root == NULL || !cJSON_IsObject(root))
+        /* the plain solve's message (line and column, or the top level) */
+        s = parse_message(text, source, err);
+    else if (find_nonfinite(root, where, sizeof where, 0))
+        s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: %s: must be a finite number", source,
+                       where[0] ? where : "(top level)");
+    if (s == EDDY_OK)
+        s = base_name(root, source, basename, sizeof basename, err);
+    if (s == EDDY_OK)
+        s = split_variants(root, source, &base, &variants, err);
+    if (s == EDDY_OK)
+        s = read_keys(variants, base, source, &keys, &nkey, &total, err);
+    if (s == EDDY_OK) {
+        make_labels(keys, nkey);
+        names = calloc((size_t)total, sizeof *names);
+        out = calloc((size_t)total, sizeof *out);
+        if (names == NULL || out == NULL)
+            s = no_memory(source, err);
+    }
+    if (s == EDDY_OK)
+        case_names(basename, keys, nkey, total, names);
+    for (long t = 0; t < total && s == EDDY_OK; t++)
+        s = build_case(&out[t], names[t], source, base, keys, nkey, t, total, images, err);
     free(names);
     free(keys);
     cJSON_Delete(base);

@@ -162,8 +162,97 @@ static eddy_status invalid_source(const char *path, const char *text, size_t len
     return EDDY_OK;
 }
 
+/* The cases of one case file, appended to the plan (*cap: the size of
+ * p->cases); a file that cannot be read or expanded gives one invalid
+ * case.  Fails only for lack of memory. */
+static eddy_status add_file(app_batch_plan *p, int *cap, const char *file, eddy_error *err)
+{
+    char *text = NULL;
+    size_t len = 0;
+    eddy_error e = {0};
+    app_batch_case *cs = NULL;
+    int nc = 0;
+    eddy_status r = eddy_read_file(file, APP_BATCH_CASE_BYTES, &text, &len, &e);
+    if (r == EDDY_OK)
+        r = app_batch_expand(text, file, p->images, &cs, &nc, &e);
+    if (r != EDDY_OK && r != EDDY_ERR_NOMEM) {
+        /* the reading error as the plain solve words it (e.g. a folder) */
+        if (text == NULL) {
+            mesh_case *mc = NULL;
+            eddy_error e2 = {0};
+            if (mesh_case_load(file, &mc, &e2) != EDDY_OK && e2.msg[0] != '\0')
+                e = e2;
+            mesh_case_free(mc);
+        }
+        r = invalid_source(file, text, len, r == EDDY_ERR_IO ? EDDY_ERR_INPUT : r,
+                           e.msg[0] ? e.msg : eddy_strerror(r), p->images, &cs, &nc);
+    }
+    free(text);
+    if (r != EDDY_OK)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory planning the batch");
+    if (p->ncase + nc > *cap) {
+        int ncap = *cap ? 2 * *cap : 16;
+        while (ncap < p->ncase + nc)
+            ncap *= 2;
+        app_batch_case *q = realloc(p->cases, (size_t)ncap * sizeof *q);
+        if (q == NULL) {
+            app_batch_cases_free(cs, nc);
+            return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory planning the batch");
+        }
+        p->cases = q;
+        *cap = ncap;
+    }
+    memcpy(p->cases + p->ncase, cs, (size_t)nc * sizeof *cs);
+    p->ncase += nc;
+    free(cs); /* the members now belong to the plan */
+    return EDDY_OK;
+}
+
+/* Every case needs its own folder: no two cases with one name, and none
+ * named like a file of the batch folder. */
+static eddy_status check_names(const app_batch_plan *p, eddy_error *err)
+{
+    eddy_status s = EDDY_OK;
+    for (int a = 0; a < p->ncase && s == EDDY_OK; a++) {
+        const app_batch_case *c = &p->cases[a];
+        if (reserved_name(c->name))
+            s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: the case name \"%s\" is the name of a "
+                           "file of the batch folder; rename the case", c->source, c->name);
+        for (int b = 0; b < a && s == EDDY_OK; b++)
+            if (strcmp(c->name, p->cases[b].name) == 0)
+                s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s and %s: two cases named \"%s\" would "
+                               "write to the same folder; give them different names",
+                               p->cases[b].source, c->source, c->name);
+    }
+    return s;
+}
+
+/* p->keys: the distinct variant paths of the cases, in order of first
+ * appearance. */
+static eddy_status collect_keys(app_batch_plan *p, eddy_error *err)
+{
+    for (int a = 0; a < p->ncase; a++)
+        for (int q = 0; q < p->cases[a].nvalue; q++) {
+            const char *path = p->cases[a].paths[q];
+            int seen = 0;
+            for (int k = 0; k < p->nkey && !seen; k++)
+                seen = strcmp(p->keys[k], path) == 0;
+            if (seen)
+                continue;
+            char **nk = realloc(p->keys, (size_t)(p->nkey + 1) * sizeof *nk);
+            if (nk == NULL)
+                return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+            p->keys = nk;
+            p->keys[p->nkey] = app_batch_strdup(path);
+            if (p->keys[p->nkey] == NULL)
+                return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+            p->nkey++;
+        }
+    return EDDY_OK;
+}
+
 eddy_status app_batch_plan_build(int nargs, const char *const *args, int images,
-                                  app_batch_plan **out, eddy_error *err)
+                                 app_batch_plan **out, eddy_error *err)
 {
     *out = NULL;
     char **files = NULL;
@@ -178,83 +267,13 @@ eddy_status app_batch_plan_build(int nargs, const char *const *args, int images,
     }
     p->images = images ? 1 : 0;
     int cap = 0;
-    for (int f = 0; f < nfiles && s == EDDY_OK; f++) {
-        char *text = NULL;
-        size_t len = 0;
-        eddy_error e = {0};
-        app_batch_case *cs = NULL;
-        int nc = 0;
-        eddy_status r = eddy_read_file(files[f], APP_BATCH_CASE_BYTES, &text, &len, &e);
-        if (r == EDDY_OK)
-            r = app_batch_expand(text, files[f], p->images, &cs, &nc, &e);
-        if (r != EDDY_OK && r != EDDY_ERR_NOMEM) {
-            /* the reading error as the plain solve words it (e.g. a folder) */
-            if (text == NULL) {
-                mesh_case *mc = NULL;
-                eddy_error e2 = {0};
-                if (mesh_case_load(files[f], &mc, &e2) != EDDY_OK && e2.msg[0] != '\0')
-                    e = e2;
-                mesh_case_free(mc);
-            }
-            r = invalid_source(files[f], text, len, r == EDDY_ERR_IO ? EDDY_ERR_INPUT : r,
-                               e.msg[0] ? e.msg : eddy_strerror(r), p->images, &cs, &nc);
-        }
-        free(text);
-        if (r != EDDY_OK) {
-            s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory planning the batch");
-            break;
-        }
-        if (p->ncase + nc > cap) {
-            int ncap = cap ? 2 * cap : 16;
-            while (ncap < p->ncase + nc)
-                ncap *= 2;
-            app_batch_case *q = realloc(p->cases, (size_t)ncap * sizeof *q);
-            if (q == NULL) {
-                app_batch_cases_free(cs, nc);
-                s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory planning the batch");
-                break;
-            }
-            p->cases = q;
-            cap = ncap;
-        }
-        memcpy(p->cases + p->ncase, cs, (size_t)nc * sizeof *cs);
-        p->ncase += nc;
-        free(cs); /* the members now belong to the plan */
-    }
+    for (int f = 0; f < nfiles && s == EDDY_OK; f++)
+        s = add_file(p, &cap, files[f], err);
     free_list(files, nfiles);
-    /* every case needs its own folder */
-    for (int a = 0; a < p->ncase && s == EDDY_OK; a++) {
-        const app_batch_case *c = &p->cases[a];
-        if (reserved_name(c->name))
-            s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: the case name \"%s\" is the name of a "
-                           "file of the batch folder; rename the case", c->source, c->name);
-        for (int b = 0; b < a && s == EDDY_OK; b++)
-            if (strcmp(c->name, p->cases[b].name) == 0)
-                s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s and %s: two cases named \"%s\" would "
-                               "write to the same folder; give them different names",
-                               p->cases[b].source, c->source, c->name);
-    }
-    /* the distinct variant paths, in order of first appearance */
-    for (int a = 0; a < p->ncase && s == EDDY_OK; a++)
-        for (int q = 0; q < p->cases[a].nvalue && s == EDDY_OK; q++) {
-            const char *path = p->cases[a].paths[q];
-            int seen = 0;
-            for (int k = 0; k < p->nkey && !seen; k++)
-                seen = strcmp(p->keys[k], path) == 0;
-            if (seen)
-                continue;
-            char **nk = realloc(p->keys, (size_t)(p->nkey + 1) * sizeof *nk);
-            if (nk == NULL) {
-                s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-                break;
-            }
-            p->keys = nk;
-            p->keys[p->nkey] = app_batch_strdup(path);
-            if (p->keys[p->nkey] == NULL)
-                s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-            else
-                p->nkey++;
-        }
+    if (s == EDDY_OK)
+        s = check_names(p, err);
+    if (s == EDDY_OK)
+        s = collect_keys(p, err);
     if (s != EDDY_OK) {
         app_batch_plan_free(p);
         return s;
@@ -326,6 +345,75 @@ eddy_status app_batch_plan_save(const app_batch_plan *p, const char *outdir, edd
     return s;
 }
 
+/* p->keys from the "variant_keys" array of batch.json (path names it). */
+static eddy_status load_keys(const cJSON *keys, app_batch_plan *p, const char *path,
+                             eddy_error *err)
+{
+    for (const cJSON *e = keys->child; e != NULL; e = e->next) {
+        if (!cJSON_IsString(e))
+            return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variant_keys: must be strings", path);
+        if ((p->keys[p->nkey] = app_batch_strdup(e->valuestring)) == NULL)
+            return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+        p->nkey++;
+    }
+    return EDDY_OK;
+}
+
+/* c from entry e (index k) of the "cases" of batch.json (path names it);
+ * for a valid case also its text from OUT/<case>/case.json, which must
+ * still have the planned hash. */
+static eddy_status load_case(const cJSON *e, int k, const char *path, const char *outdir,
+                             int images, app_batch_case *c, eddy_error *err)
+{
+    const cJSON *nm = cJSON_GetObjectItemCaseSensitive(e, "name");
+    const cJSON *src = cJSON_GetObjectItemCaseSensitive(e, "source");
+    const cJSON *hash = cJSON_GetObjectItemCaseSensitive(e, "hash");
+    const cJSON *var = cJSON_GetObjectItemCaseSensitive(e, "variant");
+    const cJSON *inv = cJSON_GetObjectItemCaseSensitive(e, "invalid");
+    const cJSON *msg = cJSON_GetObjectItemCaseSensitive(e, "error");
+    if (!cJSON_IsString(nm) || !mesh_name_is_safe(nm->valuestring) || !cJSON_IsString(src) ||
+        !cJSON_IsString(hash) || strlen(hash->valuestring) != 16 || !cJSON_IsObject(var) ||
+        !cJSON_IsBool(inv))
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: cases[%d]: damaged entry", path, k);
+    snprintf(c->name, sizeof c->name, "%s", nm->valuestring);
+    snprintf(c->hash, sizeof c->hash, "%s", hash->valuestring);
+    c->invalid = cJSON_IsTrue(inv);
+    if ((c->source = app_batch_strdup(src->valuestring)) == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    int nv = cJSON_GetArraySize(var);
+    if (nv > 0) {
+        c->paths = calloc((size_t)nv, sizeof *c->paths);
+        c->values = calloc((size_t)nv, sizeof *c->values);
+        if (c->paths == NULL || c->values == NULL)
+            return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    }
+    for (const cJSON *v = var->child; v != NULL; v = v->next) {
+        c->paths[c->nvalue] = app_batch_strdup(v->string);
+        c->values[c->nvalue] = cJSON_PrintUnformatted(v);
+        c->nvalue++;
+        if (c->paths[c->nvalue - 1] == NULL || c->values[c->nvalue - 1] == NULL)
+            return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    }
+    if (c->invalid) {
+        c->error_status = EDDY_ERR_INPUT;
+        snprintf(c->error, sizeof c->error, "%s",
+                 cJSON_IsString(msg) ? msg->valuestring : "invalid case");
+        return EDDY_OK;
+    }
+    char cpath[4200];
+    if (!app_batch_join(cpath, sizeof cpath, outdir, c->name, "case.json"))
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s/%s: path too long", outdir, c->name);
+    eddy_status s = eddy_read_file(cpath, APP_BATCH_CASE_BYTES, &c->text, NULL, err);
+    if (s != EDDY_OK)
+        return s;
+    char h[17];
+    app_batch_text_hash(c->text, images, h);
+    if (strcmp(h, c->hash) != 0)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: changed since the batch was planned "
+                          "(hash %s, planned %s); plan the batch again", cpath, h, c->hash);
+    return EDDY_OK;
+}
+
 eddy_status app_batch_plan_load(const char *outdir, app_batch_plan **out, eddy_error *err)
 {
     *out = NULL;
@@ -343,102 +431,33 @@ eddy_status app_batch_plan_load(const char *outdir, app_batch_plan **out, eddy_e
     const cJSON *cases = cJSON_GetObjectItemCaseSensitive(root, "cases");
     const cJSON *keys = cJSON_GetObjectItemCaseSensitive(root, "variant_keys");
     if (!cJSON_IsObject(root) || !cJSON_IsString(tool) || !cJSON_IsArray(cases) ||
-        !cJSON_IsArray(keys)) {
+        !cJSON_IsArray(keys))
         s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: not a batch plan written by eddy2d", path);
-        goto fail;
-    }
-    if (strcmp(tool->valuestring, "eddy2d " EDDY_VERSION) != 0) {
+    else if (strcmp(tool->valuestring, "eddy2d " EDDY_VERSION) != 0)
         s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: written by %s, this is eddy2d %s; plan the "
                        "batch again", path, tool->valuestring, EDDY_VERSION);
-        goto fail;
-    }
-    p = calloc(1, sizeof *p);
-    int n = cJSON_GetArraySize(cases), nk = cJSON_GetArraySize(keys);
-    if (p == NULL || (n > 0 && (p->cases = calloc((size_t)n, sizeof *p->cases)) == NULL) ||
-        (nk > 0 && (p->keys = calloc((size_t)nk, sizeof *p->keys)) == NULL)) {
-        s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-        goto fail;
-    }
-    p->images = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(root, "images"));
-    for (const cJSON *e = keys->child; e != NULL; e = e->next) {
-        if (!cJSON_IsString(e)) {
-            s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: variant_keys: must be strings", path);
-            goto fail;
-        }
-        if ((p->keys[p->nkey] = app_batch_strdup(e->valuestring)) == NULL) {
+    if (s == EDDY_OK) {
+        p = calloc(1, sizeof *p);
+        int n = cJSON_GetArraySize(cases), nk = cJSON_GetArraySize(keys);
+        if (p == NULL || (n > 0 && (p->cases = calloc((size_t)n, sizeof *p->cases)) == NULL) ||
+            (nk > 0 && (p->keys = calloc((size_t)nk, sizeof *p->keys)) == NULL))
             s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-            goto fail;
-        }
-        p->nkey++;
+    }
+    if (s == EDDY_OK) {
+        p->images = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(root, "images"));
+        s = load_keys(keys, p, path, err);
     }
     int k = 0;
-    for (const cJSON *e = cases->child; e != NULL; e = e->next, k++) {
-        app_batch_case *c = &p->cases[k];
+    for (const cJSON *e = s == EDDY_OK ? cases->child : NULL; e != NULL && s == EDDY_OK;
+         e = e->next, k++) {
         p->ncase = k + 1;
-        const cJSON *nm = cJSON_GetObjectItemCaseSensitive(e, "name");
-        const cJSON *src = cJSON_GetObjectItemCaseSensitive(e, "source");
-        const cJSON *hash = cJSON_GetObjectItemCaseSensitive(e, "hash");
-        const cJSON *var = cJSON_GetObjectItemCaseSensitive(e, "variant");
-        const cJSON *inv = cJSON_GetObjectItemCaseSensitive(e, "invalid");
-        const cJSON *msg = cJSON_GetObjectItemCaseSensitive(e, "error");
-        if (!cJSON_IsString(nm) || !mesh_name_is_safe(nm->valuestring) || !cJSON_IsString(src) ||
-            !cJSON_IsString(hash) || strlen(hash->valuestring) != 16 || !cJSON_IsObject(var) ||
-            !cJSON_IsBool(inv)) {
-            s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: cases[%d]: damaged entry", path, k);
-            goto fail;
-        }
-        snprintf(c->name, sizeof c->name, "%s", nm->valuestring);
-        snprintf(c->hash, sizeof c->hash, "%s", hash->valuestring);
-        c->invalid = cJSON_IsTrue(inv);
-        if ((c->source = app_batch_strdup(src->valuestring)) == NULL) {
-            s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-            goto fail;
-        }
-        int nv = cJSON_GetArraySize(var);
-        if (nv > 0) {
-            c->paths = calloc((size_t)nv, sizeof *c->paths);
-            c->values = calloc((size_t)nv, sizeof *c->values);
-            if (c->paths == NULL || c->values == NULL) {
-                s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-                goto fail;
-            }
-        }
-        for (const cJSON *v = var->child; v != NULL; v = v->next) {
-            c->paths[c->nvalue] = app_batch_strdup(v->string);
-            c->values[c->nvalue] = cJSON_PrintUnformatted(v);
-            c->nvalue++;
-            if (c->paths[c->nvalue - 1] == NULL || c->values[c->nvalue - 1] == NULL) {
-                s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-                goto fail;
-            }
-        }
-        if (c->invalid) {
-            c->error_status = EDDY_ERR_INPUT;
-            snprintf(c->error, sizeof c->error, "%s",
-                     cJSON_IsString(msg) ? msg->valuestring : "invalid case");
-            continue;
-        }
-        char cpath[4200];
-        if (!app_batch_join(cpath, sizeof cpath, outdir, c->name, "case.json")) {
-            s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s/%s: path too long", outdir, c->name);
-            goto fail;
-        }
-        s = eddy_read_file(cpath, APP_BATCH_CASE_BYTES, &c->text, NULL, err);
-        if (s != EDDY_OK)
-            goto fail;
-        char h[17];
-        app_batch_text_hash(c->text, p->images, h);
-        if (strcmp(h, c->hash) != 0) {
-            s = EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: changed since the batch was planned "
-                           "(hash %s, planned %s); plan the batch again", cpath, h, c->hash);
-            goto fail;
-        }
+        s = load_case(e, k, path, outdir, p->images, &p->cases[k], err);
     }
     cJSON_Delete(root);
+    if (s != EDDY_OK) {
+        app_batch_plan_free(p);
+        return s;
+    }
     *out = p;
     return EDDY_OK;
-fail:
-    cJSON_Delete(root);
-    app_batch_plan_free(p);
-    return s;
 }

@@ -48,8 +48,10 @@ static eddy_status write_script(const char *path, eddy_text *b, eddy_error *err)
     return s;
 }
 
-eddy_status app_batch_write_slurm(const char *outdir, const app_batch_plan *p,
-                                   const app_batch_slurm_opts *o, eddy_error *err)
+/* The options must suit the plan: absolute paths, increasing case
+ * indices, cpus in 1..4096, each extra option one line starting with '-'. */
+static eddy_status check_opts(const char *outdir, const app_batch_plan *p,
+                              const app_batch_slurm_opts *o, eddy_error *err)
 {
     if (o->exe == NULL || o->exe[0] != '/' || outdir[0] != '/')
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "the Slurm scripts need absolute paths");
@@ -62,14 +64,16 @@ eddy_status app_batch_write_slurm(const char *outdir, const app_batch_plan *p,
             return EDDY_RAISE(err, EDDY_ERR_INPUT, "Slurm option \"%s\": must be one line "
                               "starting with '-'", o->extra[k]);
     for (int k = 0; k < o->ntask; k++)
-        if (o->tasks[k] < 0 || o->tasks[k] >= p->ncase || (k > 0 && o->tasks[k] <= o->tasks[k - 1]))
+        if (o->tasks[k] < 0 || o->tasks[k] >= p->ncase ||
+            (k > 0 && o->tasks[k] <= o->tasks[k - 1]))
             return EDDY_RAISE(err, EDDY_ERR_INPUT, "task list must be increasing case indices");
-    char path[4200];
-    if (!app_batch_join(path, sizeof path, outdir, "slurm", NULL))
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: path too long", outdir);
-    eddy_status s = eddy_make_dir(path, err);
-    if (s != EDDY_OK)
-        return s;
+    return EDDY_OK;
+}
+
+/* OUT/batch.sbatch: the job array, one task per listed case. */
+static eddy_status write_array_script(const char *outdir, const app_batch_slurm_opts *o,
+                                      eddy_error *err)
+{
     /* the array: ranges of consecutive indices, "0-3,7,9-12" */
     eddy_text arr = {0};
     for (int k = 0; k < o->ntask;) {
@@ -105,11 +109,16 @@ eddy_status app_batch_write_slurm(const char *outdir, const app_batch_plan *p,
         eddy_text_printf(&b, " --case-timeout %g", o->case_timeout);
     eddy_text_printf(&b, " --threads %d\n", o->cpus_per_task);
     free(arr.p);
+    char path[4200];
     app_batch_join(path, sizeof path, outdir, "batch.sbatch", NULL);
-    s = write_script(path, &b, err);
-    if (s != EDDY_OK)
-        return s;
+    return write_script(path, &b, err);
+}
 
+/* OUT/summary.sbatch: the summary, after every array task has ended. */
+static eddy_status write_summary_script(const char *outdir, const app_batch_slurm_opts *o,
+                                        eddy_error *err)
+{
+    eddy_text b = {0};
     eddy_text_printf(&b, "#!/bin/sh\n"
                   "# eddy2d %s batch: the final step, after every array task has ended (ok or\n"
                   "# not): summary.csv, summary.json and summary.html from the case folders.\n",
@@ -123,11 +132,15 @@ eddy_status app_batch_write_slurm(const char *outdir, const app_batch_plan *p,
     eddy_text_str(&b, " batch --summary-only -o ");
     sh_quote(&b, outdir);
     eddy_text_str(&b, "\n");
+    char path[4200];
     app_batch_join(path, sizeof path, outdir, "summary.sbatch", NULL);
-    s = write_script(path, &b, err);
-    if (s != EDDY_OK)
-        return s;
+    return write_script(path, &b, err);
+}
 
+/* OUT/submit.sh: queue the array, then the summary job depending on it. */
+static eddy_status write_submit_script(const char *outdir, eddy_error *err)
+{
+    eddy_text b = {0};
     eddy_text_printf(&b, "#!/bin/sh\n"
                   "# Queue the eddy2d batch in %s: the case array, then the summary job\n"
                   "# once every task has ended.  Prints the two job ids.\n"
@@ -140,6 +153,26 @@ eddy_status app_batch_write_slurm(const char *outdir, const app_batch_plan *p,
     sh_quote(&b, outdir);
     eddy_text_str(&b, "/summary.sbatch)\nsummary=${summary%%;*}\n"
                "echo \"array job $array, summary job $summary\"\n");
+    char path[4200];
     app_batch_join(path, sizeof path, outdir, "submit.sh", NULL);
     return write_script(path, &b, err);
+}
+
+eddy_status app_batch_write_slurm(const char *outdir, const app_batch_plan *p,
+                                  const app_batch_slurm_opts *o, eddy_error *err)
+{
+    eddy_status s = check_opts(outdir, p, o, err);
+    if (s != EDDY_OK)
+        return s;
+    char path[4200];
+    if (!app_batch_join(path, sizeof path, outdir, "slurm", NULL))
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: path too long", outdir);
+    s = eddy_make_dir(path, err);
+    if (s == EDDY_OK)
+        s = write_array_script(outdir, o, err);
+    if (s == EDDY_OK)
+        s = write_summary_script(outdir, o, err);
+    if (s == EDDY_OK)
+        s = write_submit_script(outdir, err);
+    return s;
 }

@@ -303,12 +303,10 @@ static void html_status(eddy_text *b, app_case_state st)
               app_case_state_name(st));
 }
 
-static eddy_status write_html(const char *outdir, const app_batch_plan *p,
-                              const case_result *res, const app_batch_counts *n,
-                              const char *when, eddy_error *err)
+/* The page's head, its style, the title, the counts and the notice. */
+static void html_head(eddy_text *b, const app_batch_counts *n, const char *when)
 {
-    eddy_text b = {0};
-    eddy_text_str(&b,
+    eddy_text_str(b,
            "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"
            "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n"
            "<title>eddy2d batch summary</title>\n<style>\n"
@@ -326,107 +324,133 @@ static eddy_status write_html(const char *outdir, const app_batch_plan *p,
            "figcaption{font-size:.85em;margin-top:.3em}.missing{padding:2em 1em;color:#444}\n"
            ".notice{border:1px solid #888;padding:.5em;font-size:.85em;max-width:70em}\n"
            "</style>\n</head>\n<body>\n<h1>eddy2d batch summary</h1>\n");
-    eddy_text_printf(&b, "<p id=\"counts\">%d cases: %d ok, %d failed, %d not run. Written %s by "
-                  "eddy2d %s.</p>\n",
-              n->cases, n->ok, n->failed, n->not_run, when, EDDY_VERSION);
-    eddy_text_str(&b, "<p class=\"notice\"><strong>Caution.</strong> ");
-    html_text(&b, app_safety_notice());
-    eddy_text_str(&b, "</p>\n<h2>Cases</h2>\n<table id=\"cases\">\n<thead><tr><th>case</th>");
+    eddy_text_printf(b, "<p id=\"counts\">%d cases: %d ok, %d failed, %d not run. Written %s by "
+                     "eddy2d %s.</p>\n",
+                     n->cases, n->ok, n->failed, n->not_run, when, EDDY_VERSION);
+    eddy_text_str(b, "<p class=\"notice\"><strong>Caution.</strong> ");
+    html_text(b, app_safety_notice());
+    eddy_text_str(b, "</p>\n");
+}
+
+/* The table of the cases: variant values, status, peak drag, error. */
+static void html_cases(eddy_text *b, const app_batch_plan *p, const case_result *res)
+{
+    eddy_text_str(b, "<h2>Cases</h2>\n<table id=\"cases\">\n<thead><tr><th>case</th>");
     for (int k = 0; k < p->nkey; k++) {
-        eddy_text_str(&b, "<th>");
-        html_text(&b, p->keys[k]);
-        eddy_text_str(&b, "</th>");
+        eddy_text_str(b, "<th>");
+        html_text(b, p->keys[k]);
+        eddy_text_str(b, "</th>");
     }
-    eddy_text_str(&b, "<th>status</th><th>peak drag (N/m)</th><th>at speed (m/s)</th>"
-               "<th>seconds</th><th>error</th></tr></thead>\n<tbody>\n");
+    eddy_text_str(b, "<th>status</th><th>peak drag (N/m)</th><th>at speed (m/s)</th>"
+                  "<th>seconds</th><th>error</th></tr></thead>\n<tbody>\n");
     for (int c = 0; c < p->ncase; c++) {
         const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
-        eddy_text_str(&b, "<tr><td><a href=\"#fig-");
-        html_text(&b, pc->name);
-        eddy_text_str(&b, "\">");
-        html_text(&b, pc->name);
-        eddy_text_str(&b, "</a></td>");
+        eddy_text_str(b, "<tr><td><a href=\"#fig-");
+        html_text(b, pc->name);
+        eddy_text_str(b, "\">");
+        html_text(b, pc->name);
+        eddy_text_str(b, "</a></td>");
         for (int q = 0; q < p->nkey; q++) {
             const char *v = app_batch_variant_value(pc, p->keys[q]);
-            eddy_text_str(&b, "<td>");
-            html_text(&b, v != NULL ? v : "");
-            eddy_text_str(&b, "</td>");
+            eddy_text_str(b, "<td>");
+            html_text(b, v != NULL ? v : "");
+            eddy_text_str(b, "</td>");
         }
-        html_status(&b, r->state);
-        html_num(&b, r->peak_drag, "num");
-        html_num(&b, r->peak_speed, "num");
-        html_num(&b, r->seconds, "num");
-        eddy_text_str(&b, "<td class=\"err\">");
-        html_text(&b, r->error);
-        eddy_text_str(&b, "</td></tr>\n");
+        html_status(b, r->state);
+        html_num(b, r->peak_drag, "num");
+        html_num(b, r->peak_speed, "num");
+        html_num(b, r->seconds, "num");
+        eddy_text_str(b, "<td class=\"err\">");
+        html_text(b, r->error);
+        eddy_text_str(b, "</td></tr>\n");
     }
-    eddy_text_str(&b, "</tbody>\n</table>\n<h2>Force-speed plots</h2>\n<div class=\"plots\">\n");
-    for (int c = 0; c < p->ncase; c++) {
-        const app_batch_case *pc = &p->cases[c];
-        const case_result *r = &res[c];
-        eddy_text_str(&b, "<figure id=\"fig-");
-        html_text(&b, pc->name);
-        eddy_text_str(&b, "\">");
-        if (r->png_w > 0) {
-            eddy_text_str(&b, "<a href=\"");
-            html_text(&b, pc->name);
-            eddy_text_str(&b, "/forces.png\"><img src=\"");
-            html_text(&b, pc->name);
-            eddy_text_printf(&b, "/forces.png\" width=\"%d\" height=\"%d\" alt=\"drag and normal force "
-                          "against speed, ", r->png_w, r->png_h);
-            html_text(&b, pc->name);
-            eddy_text_str(&b, "\"></a>");
-        } else {
-            eddy_text_str(&b, "<div class=\"missing\">");
-            if (r->state == APP_CASE_OK)
-                eddy_text_str(&b, "no plot (run without pictures)");
-            else {
-                html_text(&b, app_case_state_name(r->state));
-                if (r->error[0]) {
-                    eddy_text_str(&b, ": ");
-                    html_text(&b, r->error);
-                }
+    eddy_text_str(b, "</tbody>\n</table>\n");
+}
+
+/* One case's figure: its forces.png linked, or why there is none. */
+static void html_figure(eddy_text *b, const app_batch_case *pc, const case_result *r)
+{
+    eddy_text_str(b, "<figure id=\"fig-");
+    html_text(b, pc->name);
+    eddy_text_str(b, "\">");
+    if (r->png_w > 0) {
+        eddy_text_str(b, "<a href=\"");
+        html_text(b, pc->name);
+        eddy_text_str(b, "/forces.png\"><img src=\"");
+        html_text(b, pc->name);
+        eddy_text_printf(b, "/forces.png\" width=\"%d\" height=\"%d\" alt=\"drag and normal "
+                         "force against speed, ", r->png_w, r->png_h);
+        html_text(b, pc->name);
+        eddy_text_str(b, "\"></a>");
+    } else {
+        eddy_text_str(b, "<div class=\"missing\">");
+        if (r->state == APP_CASE_OK)
+            eddy_text_str(b, "no plot (run without pictures)");
+        else {
+            html_text(b, app_case_state_name(r->state));
+            if (r->error[0]) {
+                eddy_text_str(b, ": ");
+                html_text(b, r->error);
             }
-            eddy_text_str(&b, "</div>");
         }
-        eddy_text_str(&b, "<figcaption><strong>");
-        html_text(&b, pc->name);
-        eddy_text_str(&b, "</strong>");
-        if (pc->nvalue > 0) {
-            eddy_text_str(&b, "<br>");
-            eddy_text v = {0};
-            variant_text(&v, pc);
-            html_text(&b, v.p != NULL ? v.p : "");
-            if (v.oom)
-                b.oom = 1;
-            free(v.p);
-        }
-        eddy_text_str(&b, "</figcaption></figure>\n");
+        eddy_text_str(b, "</div>");
     }
-    eddy_text_str(&b, "</div>\n<h2>Every speed</h2>\n<table id=\"points\">\n<thead><tr><th>case</th>"
-               "<th>speed (m/s)</th><th>drag (N/m)</th><th>normal force (N/m)</th>"
-               "<th>loss (W/m)</th><th>status</th></tr></thead>\n<tbody>\n");
+    eddy_text_str(b, "<figcaption><strong>");
+    html_text(b, pc->name);
+    eddy_text_str(b, "</strong>");
+    if (pc->nvalue > 0) {
+        eddy_text_str(b, "<br>");
+        eddy_text v = {0};
+        variant_text(&v, pc);
+        html_text(b, v.p != NULL ? v.p : "");
+        if (v.oom)
+            b->oom = 1;
+        free(v.p);
+    }
+    eddy_text_str(b, "</figcaption></figure>\n");
+}
+
+/* The table of every case and speed. */
+static void html_points(eddy_text *b, const app_batch_plan *p, const case_result *res)
+{
+    eddy_text_str(b, "<h2>Every speed</h2>\n<table id=\"points\">\n<thead><tr><th>case</th>"
+                  "<th>speed (m/s)</th><th>drag (N/m)</th><th>normal force (N/m)</th>"
+                  "<th>loss (W/m)</th><th>status</th></tr></thead>\n<tbody>\n");
     for (int c = 0; c < p->ncase; c++) {
         const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
         int rows = r->npoint > 0 ? r->npoint : 1;
         for (int k = 0; k < rows; k++) {
             int has = k < r->npoint;
-            eddy_text_str(&b, "<tr><td>");
-            html_text(&b, pc->name);
-            eddy_text_str(&b, "</td>");
-            html_num(&b, has ? r->speed[k] : NAN, "num");
-            html_num(&b, has ? r->drag[k] : NAN, "num");
-            html_num(&b, has ? r->force_y[k] : NAN, "num");
-            html_num(&b, has ? r->loss[k] : NAN, "num");
-            html_status(&b, r->state);
-            eddy_text_str(&b, "</tr>\n");
+            eddy_text_str(b, "<tr><td>");
+            html_text(b, pc->name);
+            eddy_text_str(b, "</td>");
+            html_num(b, has ? r->speed[k] : NAN, "num");
+            html_num(b, has ? r->drag[k] : NAN, "num");
+            html_num(b, has ? r->force_y[k] : NAN, "num");
+            html_num(b, has ? r->loss[k] : NAN, "num");
+            html_status(b, r->state);
+            eddy_text_str(b, "</tr>\n");
         }
     }
-    eddy_text_str(&b, "</tbody>\n</table>\n<p>Forces per metre of depth (per period for a periodic "
-               "domain); the same numbers are in summary.csv and summary.json.</p>\n"
-               "</body>\n</html>\n");
+    eddy_text_str(b, "</tbody>\n</table>\n");
+}
+
+static eddy_status write_html(const char *outdir, const app_batch_plan *p,
+                              const case_result *res, const app_batch_counts *n,
+                              const char *when, eddy_error *err)
+{
+    eddy_text b = {0};
+    html_head(&b, n, when);
+    html_cases(&b, p, res);
+    eddy_text_str(&b, "<h2>Force-speed plots</h2>\n<div class=\"plots\">\n");
+    for (int c = 0; c < p->ncase; c++)
+        html_figure(&b, &p->cases[c], &res[c]);
+    eddy_text_str(&b, "</div>\n");
+    html_points(&b, p, res);
+    eddy_text_str(&b, "<p>Forces per metre of depth (per period for a periodic domain); the "
+                  "same numbers are in summary.csv and summary.json.</p>\n</body>\n</html>\n");
     if (b.oom) {
         free(b.p);
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing summary.html");
