@@ -6,8 +6,8 @@
  * of cases (variant expansion, plans, resume, summaries, Slurm scripts) have
  * their own header, app/app_batch.h.  It drives mesh/, solver/, post/ and
  * design/; nothing below it includes this header.  The command line
- * (app/app_main.c, app/app_batch_cli.c) is the only code that prints or
- * chooses an exit status.
+ * (app/app_main.c, app/app_batch_cli.c, app/app_batch_runner.c) is the only
+ * code that prints or chooses an exit status.
  */
 #ifndef EDDY_APP_H
 #define EDDY_APP_H

@@ -21,8 +21,8 @@
  * through a pointer belongs to the caller, who frees it with the function
  * named.  Paths are used as given (relative to the current folder).
  *
- * The command line (app/app_batch_cli.c) runs each case in a child
- * process, N at a time, and decides what the user sees.
+ * The command line (app/app_batch_cli.c, app/app_batch_runner.c) runs each
+ * case in a child process, N at a time, and decides what the user sees.
  * Implementation: app/app_batch.c (hash, state names, freeing),
  * app_batch_expand.c (variants), app_batch_plan.c (case files, the plan),
  * app_batch_case.c (resume state, per-case files), app_batch_summary.c,
