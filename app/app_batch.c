@@ -1,7 +1,7 @@
 /*
  * app_batch.c - what every batch file shares: the content hash, the state
  * names, freeing cases and plans, and the private helpers of
- * app/app_batch_int.h (paths, files, the JSON of variants).
+ * app/app_batch_int.h (paths, files, the JSON of variants, quoting).
  */
 #include "app/app_batch_int.h"
 
@@ -173,4 +173,16 @@ int app_batch_json_variant_keys(cJSON *root, const app_batch_plan *p)
             cJSON_Delete(x);
     }
     return ok;
+}
+
+void app_batch_quote(eddy_text *b, const char *s, char q, const char *escaped)
+{
+    eddy_text_put(b, &q, 1);
+    for (const char *c = s; *c != '\0'; c++) {
+        if (*c == q)
+            eddy_text_str(b, escaped);
+        else
+            eddy_text_put(b, c, 1);
+    }
+    eddy_text_put(b, &q, 1);
 }

@@ -51,6 +51,10 @@ int app_batch_json_variant(cJSON *obj, const char *key, const app_batch_case *c)
 /* root.variant_keys = the plan's variant paths; 0 if out of memory. */
 int app_batch_json_variant_keys(cJSON *root, const app_batch_plan *p);
 
+/* Append s to b between two q characters, each q inside s written as
+ * escaped (CSV: '"' and "\"\"", sh: '\'' and "'\\''"). */
+void app_batch_quote(eddy_text *b, const char *s, char q, const char *escaped);
+
 /*
  * The state of case c from OUT/<case>/ (as app_batch_case_state) and what
  * was recorded with it: *seconds from input.hash or error.json (NAN if

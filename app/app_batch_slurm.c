@@ -15,14 +15,7 @@
 /* A word quoted for sh: '...' with ' as '\''. */
 static void sh_quote(eddy_text *b, const char *s)
 {
-    eddy_text_str(b, "'");
-    for (const char *q = s; *q != '\0'; q++) {
-        if (*q == '\'')
-            eddy_text_str(b, "'\\''");
-        else
-            eddy_text_put(b, q, 1);
-    }
-    eddy_text_str(b, "'");
+    app_batch_quote(b, s, '\'', "'\\''");
 }
 
 void app_batch_slurm_opts_defaults(app_batch_slurm_opts *o)
@@ -46,6 +39,18 @@ static eddy_status write_script(const char *path, eddy_text *b, eddy_error *err)
         s = EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot make executable: %s", path,
                        strerror(errno));
     return s;
+}
+
+/* The extra "#SBATCH" lines, then "exec EXE batch MODE -o OUT" (no newline). */
+static void sbatch_exec(eddy_text *b, const app_batch_slurm_opts *o, const char *mode,
+                        const char *outdir)
+{
+    for (int k = 0; k < o->nextra; k++)
+        eddy_text_printf(b, "#SBATCH %s\n", o->extra[k]);
+    eddy_text_str(b, "exec ");
+    sh_quote(b, o->exe);
+    eddy_text_printf(b, " batch %s -o ", mode);
+    sh_quote(b, outdir);
 }
 
 /* The options must suit the plan: absolute paths, increasing case
@@ -99,12 +104,7 @@ static eddy_status write_array_script(const char *outdir, const app_batch_slurm_
     eddy_text_printf(&b, "#SBATCH --output=%s/slurm/case_%%a.out\n", outdir);
     if (o->case_timeout > 0)
         eddy_text_printf(&b, "#SBATCH --time=%d\n", (int)ceil(o->case_timeout / 60.0) + 2);
-    for (int k = 0; k < o->nextra; k++)
-        eddy_text_printf(&b, "#SBATCH %s\n", o->extra[k]);
-    eddy_text_str(&b, "exec ");
-    sh_quote(&b, o->exe);
-    eddy_text_str(&b, " batch --run-one \"$SLURM_ARRAY_TASK_ID\" -o ");
-    sh_quote(&b, outdir);
+    sbatch_exec(&b, o, "--run-one \"$SLURM_ARRAY_TASK_ID\"", outdir);
     if (o->case_timeout > 0)
         eddy_text_printf(&b, " --case-timeout %g", o->case_timeout);
     eddy_text_printf(&b, " --threads %d\n", o->cpus_per_task);
@@ -125,12 +125,7 @@ static eddy_status write_summary_script(const char *outdir, const app_batch_slur
               EDDY_VERSION);
     eddy_text_str(&b, "#SBATCH --job-name=eddy2d-summary\n");
     eddy_text_printf(&b, "#SBATCH --output=%s/slurm/summary.out\n", outdir);
-    for (int k = 0; k < o->nextra; k++)
-        eddy_text_printf(&b, "#SBATCH %s\n", o->extra[k]);
-    eddy_text_str(&b, "exec ");
-    sh_quote(&b, o->exe);
-    eddy_text_str(&b, " batch --summary-only -o ");
-    sh_quote(&b, outdir);
+    sbatch_exec(&b, o, "--summary-only", outdir);
     eddy_text_str(&b, "\n");
     char path[4200];
     app_batch_join(path, sizeof path, outdir, "summary.sbatch", NULL);

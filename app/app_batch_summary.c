@@ -123,14 +123,7 @@ static void csv_field(eddy_text *b, const char *s)
         eddy_text_str(b, s);
         return;
     }
-    eddy_text_str(b, "\"");
-    for (const char *q = s; *q != '\0'; q++) {
-        if (*q == '"')
-            eddy_text_str(b, "\"\"");
-        else
-            eddy_text_put(b, q, 1);
-    }
-    eddy_text_str(b, "\"");
+    app_batch_quote(b, s, '"', "\"\"");
 }
 
 static void csv_num(eddy_text *b, double v)
@@ -185,6 +178,21 @@ static int json_add(cJSON *o, const char *key, cJSON *x)
     return 1;
 }
 
+/* Write b (then freed) to OUT/name atomically; out of memory if b is. */
+static eddy_status write_text(const char *outdir, const char *name, eddy_text *b,
+                              eddy_error *err)
+{
+    if (b->oom) {
+        free(b->p);
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing %s", name);
+    }
+    char path[4200];
+    app_batch_join(path, sizeof path, outdir, name, NULL);
+    eddy_status s = eddy_write_atomic(path, b->p, b->len, err);
+    free(b->p);
+    return s;
+}
+
 static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
                              const case_result *res, eddy_error *err)
 {
@@ -224,15 +232,7 @@ static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
             eddy_text_str(&b, "\n");
         }
     }
-    if (b.oom) {
-        free(b.p);
-        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing summary.csv");
-    }
-    char path[4200];
-    app_batch_join(path, sizeof path, outdir, "summary.csv", NULL);
-    eddy_status s = eddy_write_atomic(path, b.p, b.len, err);
-    free(b.p);
-    return s;
+    return write_text(outdir, "summary.csv", &b, err);
 }
 
 static eddy_status write_summary_json(const char *outdir, const app_batch_plan *p,
@@ -451,15 +451,7 @@ static eddy_status write_html(const char *outdir, const app_batch_plan *p,
     html_points(&b, p, res);
     eddy_text_str(&b, "<p>Forces per metre of depth (per period for a periodic domain); the "
                   "same numbers are in summary.csv and summary.json.</p>\n</body>\n</html>\n");
-    if (b.oom) {
-        free(b.p);
-        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing summary.html");
-    }
-    char path[4200];
-    app_batch_join(path, sizeof path, outdir, "summary.html", NULL);
-    eddy_status s = eddy_write_atomic(path, b.p, b.len, err);
-    free(b.p);
-    return s;
+    return write_text(outdir, "summary.html", &b, err);
 }
 
 eddy_status app_batch_write_summary(const char *outdir, const app_batch_plan *p,
