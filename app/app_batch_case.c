@@ -116,7 +116,7 @@ static eddy_status case_dir_unmark(const char *outdir, const app_batch_case *c, 
 }
 
 eddy_status app_batch_case_prepare(const char *outdir, const app_batch_case *c,
-                                    eddy_error *err)
+                                   eddy_error *err)
 {
     char dir[4200], path[4600];
     /* the completion marker first, so that an interruption leaves an unfinished case */
@@ -144,7 +144,7 @@ eddy_status app_batch_case_prepare(const char *outdir, const app_batch_case *c,
 }
 
 eddy_status app_batch_case_solve(const char *outdir, const app_batch_case *c, int images,
-                                  int threads, double max_memory, eddy_error *err)
+                                 int threads, double max_memory, eddy_error *err)
 {
     if (c->invalid)
         return EDDY_RAISE(err, c->error_status ? c->error_status : EDDY_ERR_INPUT, "%s",
@@ -166,7 +166,7 @@ eddy_status app_batch_case_solve(const char *outdir, const app_batch_case *c, in
 }
 
 eddy_status app_batch_case_done(const char *outdir, const app_batch_case *c, double seconds,
-                                 eddy_error *err)
+                                eddy_error *err)
 {
     char path[4200];
     struct stat st;
@@ -205,8 +205,8 @@ eddy_status app_batch_case_done(const char *outdir, const app_batch_case *c, dou
 }
 
 eddy_status app_batch_case_failed(const char *outdir, const app_batch_case *c,
-                                   app_case_state state, const char *message, double seconds,
-                                   eddy_error *err)
+                                  app_case_state state, const char *message, double seconds,
+                                  eddy_error *err)
 {
     char dir[4200], path[4400];
     eddy_status s = case_dir_unmark(outdir, c, dir, sizeof dir, err);

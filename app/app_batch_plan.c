@@ -47,7 +47,7 @@ static eddy_status list_add(char ***list, int *n, int *cap, const char *s)
 }
 
 eddy_status app_batch_collect(int nargs, const char *const *args, char ***files, int *nfiles,
-                               eddy_error *err)
+                              eddy_error *err)
 {
     *files = NULL;
     *nfiles = 0;

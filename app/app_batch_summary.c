@@ -455,7 +455,7 @@ static eddy_status write_html(const char *outdir, const app_batch_plan *p,
 }
 
 eddy_status app_batch_write_summary(const char *outdir, const app_batch_plan *p,
-                                     app_batch_counts *counts, eddy_error *err)
+                                    app_batch_counts *counts, eddy_error *err)
 {
     app_batch_counts n = {0};
     n.cases = p->ncase;
