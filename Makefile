@@ -14,10 +14,10 @@ LDFLAGS += $(SAN)
 B = build
 
 # One folder per module; every .c file of a folder belongs to its library,
-# except the two command-line files of app/ (they hold main and the batch
-# runner's process handling).  Dependencies point one way:
+# except the command-line files of app/ (CLI_SRC: main, the batch command and
+# its case runner).  Dependencies point one way:
 #   mesh -> solver -> post -> app, and design (numbers only) -> app.
-CLI_SRC    = app/app_main.c app/app_batch_cli.c
+CLI_SRC    = app/app_main.c app/app_batch_cli.c app/app_batch_runner.c
 LIB_SRC    = $(wildcard mesh/*.c) $(wildcard solver/*.c) $(wildcard post/*.c) \
              $(wildcard design/*.c) $(filter-out $(CLI_SRC),$(wildcard app/*.c))
 LIB_OBJ    = $(LIB_SRC:%.c=$(B)/%.o)

@@ -1,46 +1,27 @@
 /*
- * app_batch_main.c - front end of `eddy2d batch`: argument parsing, running the
- * cases (each in a child process, N at a time, with a time limit), the
- * progress line or log, Slurm submission, and the exit status.  The
- * library side (planning, resume decisions, status files, summaries) is in
- * app/app_batch.c.
- *
- * Why a child process per case: a crash, a runaway allocation or a hang in
- * one case must not lose the others.  The child only solves; the parent
- * writes the completion marker (input.hash) or error.json after the child
- * has ended, so a half-finished case is never taken as done.  On Linux the
- * child asks to be killed when the parent dies (PR_SET_PDEATHSIG), so a
- * batch killed with SIGKILL leaves no orphan writing into its folders.
+ * app_batch_cli.c - the command line of `eddy2d batch` (app/app_batch_cli.h):
+ * argument parsing, planning or loading the batch, the folder lock, the
+ * resume decision, Slurm submission, and the exit status.  The cases run in
+ * app/app_batch_runner.c; the library side (planning, resume decisions,
+ * status files, summaries, Slurm scripts) is app/app_batch.h.
  *
  * Exit status: 0 every case ok; 1 some case failed or did not run (or the
  * Slurm submission failed); 2 bad command line or unusable inputs.
  */
+#include "app/app_batch_cli.h"
+
 #include <errno.h>
 #include <fcntl.h>
 #include <limits.h>
 #include <math.h>
-#include <poll.h>
-#include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 #include <sys/types.h>
 #include <sys/wait.h>
-#include <time.h>
 #include <unistd.h>
-#if defined(__linux__)
-#include <sys/prctl.h>
-#endif
 
-#include "mesh/mesh.h"
 #include "app/app.h"
-
-int app_batch_main(int argc, char **argv);
-
-/* Cases at once at most (-j). */
-#define MAX_JOBS 256
-#define MAX_JOBS_TEXT "256"
 
 typedef struct {
     const char **inputs;
@@ -116,6 +97,29 @@ static int parse_long(const char *s, long lo, long hi, long *out)
     return 0;
 }
 
+/* The options must make one mode: a batch (local or --slurm), --run-one or
+ * --summary-only.  0, or 2 after a message. */
+static int check_modes(const batch_args *a)
+{
+    if (a->outdir == NULL)
+        return bad_usage("%sbatch needs an output folder: -o OUTDIR", "");
+    int modes = (a->run_one >= 0) + a->summary_only + a->slurm;
+    if (modes > 1)
+        return bad_usage("%s--slurm, --run-one and --summary-only exclude each other", "");
+    if (a->dry_run && !a->slurm)
+        return bad_usage("%s--dry-run only goes with --slurm", "");
+    if (a->nslurm_opt > 0 && !a->slurm)
+        return bad_usage("%s--slurm-option only goes with --slurm", "");
+    if ((a->run_one >= 0 || a->summary_only) && a->ninput > 0)
+        return bad_usage("--run-one and --summary-only read the plan in OUTDIR; drop \"%s\"",
+                         a->inputs[0]);
+    if (a->run_one < 0 && !a->summary_only && a->ninput == 0)
+        return bad_usage("%sbatch needs case files or folders", "");
+    return 0;
+}
+
+/* The arguments into *a (which the caller frees with args_free, also on
+ * error): 0; -1 after --help; 2 after a message on a bad command line. */
 static int parse_args(int argc, char **argv, batch_args *a)
 {
     memset(a, 0, sizeof *a);
@@ -140,8 +144,8 @@ static int parse_args(int argc, char **argv, batch_args *a)
             a->outdir = val;
             k++;
         } else if (strcmp(o, "-j") == 0) {
-            if (val == NULL || parse_long(val, 1, MAX_JOBS, &n) != 0)
-                return bad_usage("-j needs a number of cases from 1 to " MAX_JOBS_TEXT
+            if (val == NULL || parse_long(val, 1, APP_BATCH_MAX_JOBS, &n) != 0)
+                return bad_usage("-j needs a number of cases from 1 to " APP_BATCH_MAX_JOBS_TEXT
                                  ", got \"%s\"", val != NULL ? val : "");
             a->jobs = (int)n;
             k++;
@@ -195,325 +199,19 @@ static int parse_args(int argc, char **argv, batch_args *a)
             a->inputs[a->ninput++] = o;
         }
     }
-    if (a->outdir == NULL)
-        return bad_usage("%sbatch needs an output folder: -o OUTDIR", "");
-    int modes = (a->run_one >= 0) + a->summary_only + a->slurm;
-    if (modes > 1)
-        return bad_usage("%s--slurm, --run-one and --summary-only exclude each other", "");
-    if (a->dry_run && !a->slurm)
-        return bad_usage("%s--dry-run only goes with --slurm", "");
-    if (a->nslurm_opt > 0 && !a->slurm)
-        return bad_usage("%s--slurm-option only goes with --slurm", "");
-    if ((a->run_one >= 0 || a->summary_only) && a->ninput > 0)
-        return bad_usage("--run-one and --summary-only read the plan in OUTDIR; drop \"%s\"",
-                         a->inputs[0]);
-    if (a->run_one < 0 && !a->summary_only && a->ninput == 0)
-        return bad_usage("%sbatch needs case files or folders", "");
-    return 0;
+    return check_modes(a);
+}
+
+static void args_free(batch_args *a)
+{
+    free(a->inputs);
+    free(a->slurm_opts);
 }
 
 static int cores(void)
 {
     long n = sysconf(_SC_NPROCESSORS_ONLN);
     return n > 0 && n < 65536 ? (int)n : 1;
-}
-
-static void fmt_duration(double s, char *out, size_t size)
-{
-    long t = (long)(s + 0.5);
-    if (t >= 3600)
-        snprintf(out, size, "%ldh%02ldm", t / 3600, (t / 60) % 60);
-    else if (t >= 60)
-        snprintf(out, size, "%ldm%02lds", t / 60, t % 60);
-    else
-        snprintf(out, size, "%lds", t);
-}
-
-/* ------------------------------------------------------------------------ */
-/* Running cases                                                             */
-/* ------------------------------------------------------------------------ */
-
-/* What a child sends back: fits in one atomic pipe write (< PIPE_BUF). */
-typedef struct {
-    int status;
-    char msg[1024];
-} child_msg;
-
-typedef struct {
-    pid_t pid;
-    int fd;            /* read end of the child's pipe; -1 if the slot is free */
-    int idx;
-    double start;
-    int timed_out;
-} slot;
-
-typedef struct {
-    const batch_args *a;
-    const app_batch_plan *p;
-    int jobs, threads;
-    int tty;
-    int total, finished, ok, skipped, failed, ran;
-    double t0, last_draw;
-    int line_shown;
-    slot *slots;
-} runner;
-
-static void clear_line(runner *r)
-{
-    if (r->tty && r->line_shown) {
-        fprintf(stderr, "\r\033[K");
-        r->line_shown = 0;
-    }
-}
-
-static void draw_progress(runner *r, int force)
-{
-    if (!r->tty || r->a->quiet)
-        return;
-    double t = eddy_now();
-    if (!force && t - r->last_draw < 0.5)
-        return;
-    r->last_draw = t;
-    int running = 0;
-    for (int k = 0; k < r->jobs; k++)
-        running += r->slots[k].fd >= 0;
-    char el[32], rem[48] = "";
-    fmt_duration(t - r->t0, el, sizeof el);
-    int left = r->total - r->finished;
-    if (r->ran > 0 && left > 0) {
-        char d[32];
-        fmt_duration((t - r->t0) / r->ran * left, d, sizeof d);
-        snprintf(rem, sizeof rem, ", about %s left", d);
-    }
-    fprintf(stderr, "\r\033[K  batch [%d/%d] %d failed, %d running, %s elapsed%s", r->finished,
-            r->total, r->failed, running, el, rem);
-    fflush(stderr);
-    r->line_shown = 1;
-}
-
-/* One finished case: a log line (always for failures, per case in log mode). */
-static void report_case(runner *r, int idx, const char *what, const char *msg, double sec)
-{
-    r->finished++;
-    if (r->a->quiet)
-        return;
-    const app_batch_case *c = &r->p->cases[idx];
-    int failed = msg != NULL;
-    if (r->tty && !failed) {
-        draw_progress(r, 1);
-        return;
-    }
-    clear_line(r);
-    int w = r->total >= 1000 ? 4 : r->total >= 100 ? 3 : r->total >= 10 ? 2 : 1;
-    if (failed)
-        fprintf(stderr, "eddy2d batch: [%*d/%d] %s: %s: %s\n", w, r->finished, r->total,
-                c->name, what, msg);
-    else if (isfinite(sec))
-        fprintf(stderr, "eddy2d batch: [%*d/%d] %s: %s in %.1f s\n", w, r->finished, r->total,
-                c->name, what, sec);
-    else
-        fprintf(stderr, "eddy2d batch: [%*d/%d] %s: %s\n", w, r->finished, r->total, c->name,
-                what);
-    fflush(stderr);
-    draw_progress(r, 1);
-}
-
-static void record_failure(runner *r, int idx, app_case_state st, const char *msg, double sec)
-{
-    eddy_error err = {0};
-    const app_batch_case *c = &r->p->cases[idx];
-    eddy_status s = app_batch_case_failed(r->a->outdir, c, st, msg, sec, &err);
-    r->failed++;
-    report_case(r, idx, app_case_state_name(st), msg, sec);
-    if (s != EDDY_OK && !r->a->quiet)
-        fprintf(stderr, "eddy2d: error: %s\n", err.msg);
-}
-
-/* Test hooks (fault injection, common practice for testing crash handling):
- * EDDY2D_TEST_FAULT="crash:<case>" aborts that case's process, "hang:<case>"
- * makes it wait forever.  Nothing else reads the variable. */
-static void test_fault(const char *name)
-{
-    const char *f = getenv("EDDY2D_TEST_FAULT");
-    if (f == NULL)
-        return;
-    if (strncmp(f, "crash:", 6) == 0 && strcmp(f + 6, name) == 0)
-        abort();
-    if (strncmp(f, "hang:", 5) == 0 && strcmp(f + 5, name) == 0)
-        for (;;)
-            pause();
-}
-
-static void child_main(runner *r, int idx, int wfd, pid_t parent)
-{
-#if defined(__linux__)
-    prctl(PR_SET_PDEATHSIG, SIGKILL);
-#endif
-    if (getppid() != parent) /* the parent died before the request took effect */
-        _exit(3);
-    for (int k = 0; k < r->jobs; k++)
-        if (r->slots[k].fd >= 0)
-            close(r->slots[k].fd);
-    const app_batch_case *c = &r->p->cases[idx];
-    test_fault(c->name);
-    /* N cases share the machine: each may use its share of the memory */
-    double memory = eddy_memory_limit(r->a->max_memory) / (r->jobs > 1 ? r->jobs : 1);
-    eddy_error err = {0};
-    eddy_status s =
-        app_batch_case_solve(r->a->outdir, c, r->p->images, r->threads, memory, &err);
-    child_msg m;
-    memset(&m, 0, sizeof m);
-    m.status = (int)s;
-    snprintf(m.msg, sizeof m.msg, "%s", s == EDDY_OK ? "" : err.msg[0] ? err.msg
-                                                                       : eddy_strerror(s));
-    ssize_t w;
-    do
-        w = write(wfd, &m, sizeof m);
-    while (w < 0 && errno == EINTR);
-    close(wfd);
-    /* exit (not _exit) so that the leak checker of a sanitizer build sees the child */
-    exit(w == (ssize_t)sizeof m ? (s == EDDY_OK ? 0 : 1) : 4);
-}
-
-/* Start case idx in slot sl.  0 on success; -1 if it could not start (recorded). */
-static int start_case(runner *r, slot *sl, int idx)
-{
-    eddy_error err = {0};
-    const app_batch_case *c = &r->p->cases[idx];
-    if (app_batch_case_prepare(r->a->outdir, c, &err) != EDDY_OK) {
-        record_failure(r, idx, APP_CASE_FAILED, err.msg, NAN);
-        return -1;
-    }
-    int fds[2];
-    if (pipe(fds) != 0) {
-        char msg[256];
-        snprintf(msg, sizeof msg, "cannot create a pipe: %s", strerror(errno));
-        record_failure(r, idx, APP_CASE_FAILED, msg, NAN);
-        return -1;
-    }
-    fflush(NULL); /* nothing buffered may be written twice */
-    pid_t parent = getpid();
-    pid_t pid = fork();
-    if (pid < 0) {
-        char msg[256];
-        snprintf(msg, sizeof msg, "cannot start a process: %s", strerror(errno));
-        close(fds[0]);
-        close(fds[1]);
-        record_failure(r, idx, APP_CASE_FAILED, msg, NAN);
-        return -1;
-    }
-    if (pid == 0) {
-        close(fds[0]);
-        child_main(r, idx, fds[1], parent);
-    }
-    close(fds[1]);
-    sl->pid = pid;
-    sl->fd = fds[0];
-    sl->idx = idx;
-    sl->start = eddy_now();
-    sl->timed_out = 0;
-    return 0;
-}
-
-/* The child of slot sl has closed its pipe: collect it and record the case. */
-static void finish_case(runner *r, slot *sl)
-{
-    child_msg m;
-    memset(&m, 0, sizeof m);
-    size_t got = 0;
-    while (got < sizeof m) {
-        ssize_t n = read(sl->fd, (char *)&m + got, sizeof m - got);
-        if (n < 0 && errno == EINTR)
-            continue;
-        if (n <= 0)
-            break;
-        got += (size_t)n;
-    }
-    close(sl->fd);
-    sl->fd = -1;
-    int wst = 0;
-    while (waitpid(sl->pid, &wst, 0) < 0 && errno == EINTR)
-        ;
-    double sec = eddy_now() - sl->start;
-    int idx = sl->idx;
-    r->ran++;
-    m.msg[sizeof m.msg - 1] = '\0';
-    char msg[1200];
-    if (sl->timed_out) {
-        snprintf(msg, sizeof msg, "stopped after the case time limit of %g s", r->a->timeout);
-        record_failure(r, idx, APP_CASE_TIMEOUT, msg, sec);
-    } else if (WIFSIGNALED(wst)) {
-        snprintf(msg, sizeof msg, "the case's process died of signal %d (%s)", WTERMSIG(wst),
-                 strsignal(WTERMSIG(wst)));
-        record_failure(r, idx, APP_CASE_CRASHED, msg, sec);
-    } else if (got == sizeof m && m.status == EDDY_OK && WIFEXITED(wst) &&
-               WEXITSTATUS(wst) == 0) {
-        eddy_error err = {0};
-        if (app_batch_case_done(r->a->outdir, &r->p->cases[idx], sec, &err) != EDDY_OK) {
-            record_failure(r, idx, APP_CASE_FAILED, err.msg, sec);
-        } else {
-            r->ok++;
-            report_case(r, idx, "ok", NULL, sec);
-        }
-    } else if (got == sizeof m && m.status != EDDY_OK) {
-        eddy_status s = (eddy_status)m.status;
-        int input = s == EDDY_ERR_INPUT || s == EDDY_ERR_TOO_LARGE;
-        record_failure(r, idx, input ? APP_CASE_INVALID : APP_CASE_FAILED, m.msg, sec);
-    } else {
-        snprintf(msg, sizeof msg, "the case's process ended (exit status %d) without a result",
-                 WIFEXITED(wst) ? WEXITSTATUS(wst) : -1);
-        record_failure(r, idx, APP_CASE_FAILED, msg, sec);
-    }
-}
-
-/* Run the listed cases, r->jobs at a time. */
-static void run_cases(runner *r, const int *todo, int ntodo)
-{
-    int next = 0;
-    for (;;) {
-        int running = 0;
-        for (int k = 0; k < r->jobs; k++) {
-            slot *sl = &r->slots[k];
-            while (sl->fd < 0 && next < ntodo) {
-                if (start_case(r, sl, todo[next++]) == 0)
-                    break;
-            }
-            running += sl->fd >= 0;
-        }
-        if (running == 0 && next >= ntodo)
-            break;
-        draw_progress(r, 0);
-        /* wait for a child to end, a deadline, or the next progress update */
-        struct pollfd pf[MAX_JOBS];
-        int map[MAX_JOBS], np = 0;
-        double t = eddy_now(), wait_s = 0.5;
-        for (int k = 0; k < r->jobs && np < MAX_JOBS; k++) {
-            slot *sl = &r->slots[k];
-            if (sl->fd < 0)
-                continue;
-            pf[np].fd = sl->fd;
-            pf[np].events = POLLIN;
-            pf[np].revents = 0;
-            map[np++] = k;
-            if (r->a->timeout > 0 && !sl->timed_out) {
-                double left = sl->start + r->a->timeout - t;
-                if (left <= 0) {
-                    kill(sl->pid, SIGKILL);
-                    sl->timed_out = 1;
-                } else if (left < wait_s) {
-                    wait_s = left;
-                }
-            }
-        }
-        int ms = (int)ceil(wait_s * 1000.0);
-        int n = poll(pf, (nfds_t)np, ms < 1 ? 1 : ms);
-        if (n < 0 && errno != EINTR)
-            n = 0;
-        for (int q = 0; n > 0 && q < np; q++)
-            if (pf[q].revents != 0)
-                finish_case(r, &r->slots[map[q]]);
-    }
-    clear_line(r);
 }
 
 /* Take the advisory lock OUTDIR/.lock (fcntl: not inherited by the case
@@ -636,7 +334,7 @@ static int submit(const char *outdir)
     return 0;
 }
 
-static int run_slurm(batch_args *a, app_batch_plan *p, runner *r)
+static int run_slurm(const batch_args *a, const app_batch_plan *p, app_batch_runner *r)
 {
     eddy_error err = {0};
     char absdir[PATH_MAX], exe[PATH_MAX];
@@ -662,7 +360,7 @@ static int run_slurm(batch_args *a, app_batch_plan *p, runner *r)
             skipped++;
         else if (p->cases[k].invalid) {
             if (st != APP_CASE_INVALID)
-                record_failure(r, k, APP_CASE_INVALID, p->cases[k].error, NAN);
+                app_batch_runner_failed(r, k, APP_CASE_INVALID, p->cases[k].error, NAN);
         } else
             todo[ntodo++] = k;
     }
@@ -701,141 +399,159 @@ static int run_slurm(batch_args *a, app_batch_plan *p, runner *r)
     return submit(absdir);
 }
 
+/* The plan: loaded from OUTDIR for --run-one and --summary-only, else built
+ * from the inputs.  0, or the exit status after a message. */
+static int get_plan(const batch_args *a, app_batch_plan **p)
+{
+    eddy_error err = {0};
+    eddy_status s;
+    if (a->run_one >= 0 || a->summary_only)
+        s = app_batch_plan_load(a->outdir, p, &err);
+    else
+        s = app_batch_plan_build(a->ninput, a->inputs, a->images, p, &err);
+    if (s != EDDY_OK) {
+        fprintf(stderr, "eddy2d: error: %s\n", err.msg[0] ? err.msg : eddy_strerror(s));
+        return s == EDDY_ERR_NOMEM ? 1 : 2;
+    }
+    if (a->run_one >= (*p)->ncase) {
+        fprintf(stderr, "eddy2d: error: --run-one %ld: the plan in %s has %d cases (0 to %d)\n",
+                a->run_one, a->outdir, (*p)->ncase, (*p)->ncase - 1);
+        return 2;
+    }
+    return 0;
+}
+
+/* Make OUTDIR, take its lock (*lock_fd) and save the plan in it.  One
+ * batch at a time in a folder (the lock is released when this process
+ * ends, even by SIGKILL); array tasks work on different cases and take no
+ * lock.  0, or the exit status after a message. */
+static int take_folder(const batch_args *a, const app_batch_plan *p, int *lock_fd)
+{
+    eddy_error err = {0};
+    eddy_status s = eddy_make_dir(a->outdir, &err);
+    if (s != EDDY_OK) { /* the folder named by -o is unusable */
+        fprintf(stderr, "eddy2d: error: %s\n", err.msg);
+        return 2;
+    }
+    if ((*lock_fd = lock_folder(a->outdir)) == -1) {
+        fprintf(stderr, "eddy2d: error: %s: another batch is running in this folder\n",
+                a->outdir);
+        return 2;
+    }
+    s = app_batch_plan_save(p, a->outdir, &err);
+    if (s != EDDY_OK) {
+        fprintf(stderr, "eddy2d: error: %s\n", err.msg);
+        return 1;
+    }
+    return 0;
+}
+
+/* N cases at once (-j, else the cores; at most the cases to solve), each
+ * with its share of the cores (--threads, else an array task's
+ * SLURM_CPUS_PER_TASK, else cores / N). */
+static void choose_shares(const batch_args *a, app_batch_runner *r, int ntodo)
+{
+    int ncore = cores();
+    r->jobs = a->jobs > 0 ? a->jobs : ncore;
+    if (r->jobs > ntodo)
+        r->jobs = ntodo > 0 ? ntodo : 1;
+    if (r->jobs > APP_BATCH_MAX_JOBS)
+        r->jobs = APP_BATCH_MAX_JOBS;
+    if (a->threads > 0) {
+        r->threads = a->threads;
+    } else if (a->run_one >= 0 && getenv("SLURM_CPUS_PER_TASK") != NULL) {
+        long n = 0;
+        r->threads = parse_long(getenv("SLURM_CPUS_PER_TASK"), 1, 4096, &n) == 0 ? (int)n : 1;
+    } else {
+        r->threads = ncore / r->jobs > 0 ? ncore / r->jobs : 1;
+    }
+}
+
+/* Solve here the cases not up to date (all of the plan, or the one of
+ * --run-one), then write the summary (not for --run-one).  The exit
+ * status. */
+static int run_local(const batch_args *a, const app_batch_plan *p, app_batch_runner *r)
+{
+    /* the resume decision for every case */
+    int *todo = malloc((size_t)(p->ncase > 0 ? p->ncase : 1) * sizeof *todo);
+    if (todo == NULL) {
+        fprintf(stderr, "eddy2d: error: out of memory\n");
+        return 1;
+    }
+    int first = a->run_one >= 0 ? (int)a->run_one : 0;
+    int last = a->run_one >= 0 ? (int)a->run_one + 1 : p->ncase;
+    int ntodo = 0;
+    r->total = last - first;
+    for (int k = first; k < last; k++) {
+        int done = app_batch_case_state(a->outdir, &p->cases[k]) == APP_CASE_OK;
+        if (!done && !p->cases[k].invalid)
+            todo[ntodo++] = k;
+    }
+    choose_shares(a, r, ntodo);
+    if (!a->quiet && !r->tty && a->run_one < 0)
+        fprintf(stderr, "eddy2d batch: %d cases, %d to solve, %d at a time, %d thread%s each\n",
+                p->ncase, ntodo, r->jobs, r->threads, r->threads == 1 ? "" : "s");
+    for (int k = first; k < last; k++) {
+        if (app_batch_case_state(a->outdir, &p->cases[k]) == APP_CASE_OK)
+            app_batch_runner_up_to_date(r, k);
+        else if (p->cases[k].invalid)
+            app_batch_runner_failed(r, k, APP_CASE_INVALID, p->cases[k].error, NAN);
+    }
+    app_batch_runner_run(r, todo, ntodo);
+    free(todo);
+    if (a->run_one >= 0)
+        return r->failed > 0 ? 1 : 0;
+    return finish_summary(a, p, r->ran, r->skipped);
+}
+
+/* Everything after the plan, by mode: the summary alone; or (a batch: in
+ * a locked folder with the plan saved) the cases under Slurm or here.
+ * The exit status. */
+static int run_plan(const batch_args *a, app_batch_plan *p, app_batch_runner *r, int *lock_fd)
+{
+    if (a->summary_only)
+        return finish_summary(a, p, 0, 0);
+    if (a->run_one < 0) {
+        int rc = take_folder(a, p, lock_fd);
+        if (rc != 0)
+            return rc;
+    }
+    if (app_batch_runner_open(r) != 0) {
+        fprintf(stderr, "eddy2d: error: out of memory\n");
+        return 1;
+    }
+    if (a->slurm) {
+        r->total = p->ncase;
+        return run_slurm(a, p, r);
+    }
+    return run_local(a, p, r);
+}
+
 int app_batch_main(int argc, char **argv)
 {
     batch_args a;
     int rc = parse_args(argc, argv, &a);
     if (rc != 0) {
-        free(a.inputs);
-        free(a.slurm_opts);
+        args_free(&a);
         return rc < 0 ? 0 : rc;
     }
-    eddy_error err = {0};
     app_batch_plan *p = NULL;
-    eddy_status s;
-    if (a.run_one >= 0 || a.summary_only)
-        s = app_batch_plan_load(a.outdir, &p, &err);
-    else
-        s = app_batch_plan_build(a.ninput, a.inputs, a.images, &p, &err);
-    if (s != EDDY_OK) {
-        fprintf(stderr, "eddy2d: error: %s\n", err.msg[0] ? err.msg : eddy_strerror(s));
-        free(a.inputs);
-        free(a.slurm_opts);
-        return s == EDDY_ERR_NOMEM ? 1 : 2;
-    }
-    if (a.run_one >= p->ncase) {
-        fprintf(stderr, "eddy2d: error: --run-one %ld: the plan in %s has %d cases (0 to %d)\n",
-                a.run_one, a.outdir, p->ncase, p->ncase - 1);
+    rc = get_plan(&a, &p);
+    if (rc != 0) {
         app_batch_plan_free(p);
-        free(a.inputs);
-        free(a.slurm_opts);
-        return 2;
+        args_free(&a);
+        return rc;
     }
     if (!a.quiet && a.run_one < 0 && !a.summary_only)
         print_warnings(p);
     int lock_fd = -1;
-    runner r;
-    memset(&r, 0, sizeof r);
-    r.a = &a;
-    r.p = p;
-    r.tty = isatty(STDERR_FILENO) && !a.quiet;
-    r.t0 = eddy_now();
-    int ncore = cores();
-    if (a.summary_only) {
-        rc = finish_summary(&a, p, 0, 0);
-        goto out;
-    }
-    if (a.run_one < 0) {
-        /* one batch at a time in a folder (released when this process ends, even
-         * by SIGKILL); array tasks work on different cases and take no lock */
-        s = eddy_make_dir(a.outdir, &err);
-        if (s != EDDY_OK) { /* the folder named by -o is unusable */
-            fprintf(stderr, "eddy2d: error: %s\n", err.msg);
-            rc = 2;
-            goto out;
-        }
-        if ((lock_fd = lock_folder(a.outdir)) == -1) {
-            fprintf(stderr, "eddy2d: error: %s: another batch is running in this folder\n",
-                    a.outdir);
-            rc = 2;
-            goto out;
-        }
-        s = app_batch_plan_save(p, a.outdir, &err);
-        if (s != EDDY_OK) {
-            fprintf(stderr, "eddy2d: error: %s\n", err.msg);
-            rc = 1;
-            goto out;
-        }
-    }
-    r.jobs = 1;
-    r.slots = calloc(MAX_JOBS, sizeof *r.slots);
-    if (r.slots == NULL) {
-        fprintf(stderr, "eddy2d: error: out of memory\n");
-        rc = 1;
-        goto out;
-    }
-    for (int k = 0; k < MAX_JOBS; k++)
-        r.slots[k].fd = -1;
-    if (a.slurm) {
-        r.total = p->ncase;
-        rc = run_slurm(&a, p, &r);
-        goto out;
-    }
-    /* the resume decision for every case */
-    int *todo = malloc((size_t)(p->ncase > 0 ? p->ncase : 1) * sizeof *todo);
-    if (todo == NULL) {
-        fprintf(stderr, "eddy2d: error: out of memory\n");
-        rc = 1;
-        goto out;
-    }
-    int first = a.run_one >= 0 ? (int)a.run_one : 0;
-    int last = a.run_one >= 0 ? (int)a.run_one + 1 : p->ncase;
-    int ntodo = 0;
-    r.total = last - first;
-    for (int k = first; k < last; k++) {
-        int done = app_batch_case_state(a.outdir, &p->cases[k]) == APP_CASE_OK;
-        if (!done && !p->cases[k].invalid)
-            todo[ntodo++] = k;
-    }
-    /* N cases at once, each with its share of the cores */
-    r.jobs = a.jobs > 0 ? a.jobs : ncore;
-    if (r.jobs > ntodo)
-        r.jobs = ntodo > 0 ? ntodo : 1;
-    if (r.jobs > MAX_JOBS)
-        r.jobs = MAX_JOBS;
-    if (a.threads > 0) {
-        r.threads = a.threads;
-    } else if (a.run_one >= 0 && getenv("SLURM_CPUS_PER_TASK") != NULL) {
-        long n = 0;
-        r.threads = parse_long(getenv("SLURM_CPUS_PER_TASK"), 1, 4096, &n) == 0 ? (int)n : 1;
-    } else {
-        r.threads = ncore / r.jobs > 0 ? ncore / r.jobs : 1;
-    }
-    if (!a.quiet && !r.tty && a.run_one < 0)
-        fprintf(stderr, "eddy2d batch: %d cases, %d to solve, %d at a time, %d thread%s each\n",
-                p->ncase, ntodo, r.jobs, r.threads, r.threads == 1 ? "" : "s");
-    for (int k = first; k < last; k++) {
-        if (app_batch_case_state(a.outdir, &p->cases[k]) == APP_CASE_OK) {
-            r.skipped++;
-            r.ok++;
-            report_case(&r, k, "up to date, skipped", NULL, NAN);
-        } else if (p->cases[k].invalid) {
-            record_failure(&r, k, APP_CASE_INVALID, p->cases[k].error, NAN);
-        }
-    }
-    run_cases(&r, todo, ntodo);
-    free(todo);
-    if (a.run_one >= 0) {
-        rc = r.failed > 0 ? 1 : 0;
-        goto out;
-    }
-    rc = finish_summary(&a, p, r.ran, r.skipped);
-out:
+    app_batch_runner r;
+    app_batch_runner_init(&r, a.outdir, p, a.quiet, a.timeout, a.max_memory);
+    rc = run_plan(&a, p, &r, &lock_fd);
     if (lock_fd >= 0)
         close(lock_fd);
-    free(r.slots);
+    app_batch_runner_free(&r);
     app_batch_plan_free(p);
-    free(a.inputs);
-    free(a.slurm_opts);
+    args_free(&a);
     return rc;
 }

@@ -24,7 +24,7 @@
 #include <string.h>
 
 #include "mesh/mesh.h"
-#include "app/app.h"
+#include "app/app_batch.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
 

@@ -23,7 +23,7 @@
 #include <unistd.h>
 
 #include "mesh/mesh.h"
-#include "app/app.h"
+#include "app/app_batch.h"
 #include "tests/check.h"
 
 /* Peak of a parabola in log10(speed) through three samples: exact. */

@@ -33,6 +33,7 @@
 #include "SuiteSparse_config.h"
 #include "mesh/mesh.h"
 #include "app/app.h"
+#include "app/app_batch.h"
 #include "tests/check.h"
 
 /* ------------------------------------------------------------------------ */

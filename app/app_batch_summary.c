@@ -1,0 +1,496 @@
+/*
+ * app_batch_summary.c - the summary of a batch from its case folders:
+ * OUT/summary.csv, summary.json and summary.html (app_batch_write_summary).
+ */
+#include "app/app_batch_int.h"
+
+#include <cJSON.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#include "app/app.h"
+#include "design/design.h"
+
+typedef struct {
+    app_case_state state;
+    double seconds;
+    char error[1024];
+    int npoint;
+    double *speed, *drag, *force_y, *loss; /* one allocation, 4 * npoint */
+    double peak_drag, peak_speed;
+    int png_w, png_h;                      /* forces.png size, 0 if none */
+} case_result;
+
+static double json_num(const cJSON *o, const char *key)
+{
+    const cJSON *x = cJSON_GetObjectItemCaseSensitive(o, key);
+    return cJSON_IsNumber(x) ? x->valuedouble : NAN;
+}
+
+/* Width and height of a PNG from its IHDR chunk; 0 if it is not a PNG. */
+static void png_size(const char *path, int *w, int *h)
+{
+    *w = *h = 0;
+    FILE *f = fopen(path, "rb");
+    if (f == NULL)
+        return;
+    unsigned char b[24];
+    size_t n = fread(b, 1, sizeof b, f);
+    fclose(f);
+    static const unsigned char sig[8] = {137, 80, 78, 71, 13, 10, 26, 10};
+    if (n < 24 || memcmp(b, sig, 8) != 0 || memcmp(b + 12, "IHDR", 4) != 0)
+        return;
+    unsigned long ww = ((unsigned long)b[16] << 24) | ((unsigned long)b[17] << 16) |
+                       ((unsigned long)b[18] << 8) | b[19];
+    unsigned long hh = ((unsigned long)b[20] << 24) | ((unsigned long)b[21] << 16) |
+                       ((unsigned long)b[22] << 8) | b[23];
+    if (ww > 0 && ww < 100000 && hh > 0 && hh < 100000) {
+        *w = (int)ww;
+        *h = (int)hh;
+    }
+}
+
+static eddy_status load_result(const char *outdir, const app_batch_case *c, case_result *r,
+                               eddy_error *err)
+{
+    memset(r, 0, sizeof *r);
+    r->peak_drag = r->peak_speed = NAN;
+    r->state = app_batch_disk_state(outdir, c, &r->seconds, r->error, sizeof r->error);
+    if (r->state != APP_CASE_OK) {
+        if (r->state == APP_CASE_NOT_RUN && c->invalid) { /* planned invalid, not yet recorded */
+            r->state = APP_CASE_INVALID;
+            snprintf(r->error, sizeof r->error, "%s", c->error);
+        }
+        return EDDY_OK;
+    }
+    char path[4200];
+    app_batch_join(path, sizeof path, outdir, c->name, "forces.png");
+    png_size(path, &r->png_w, &r->png_h);
+    app_batch_join(path, sizeof path, outdir, c->name, "result.json");
+    char *text = NULL;
+    eddy_status s = eddy_read_file(path, 1L << 30, &text, NULL, err);
+    if (s != EDDY_OK)
+        return s == EDDY_ERR_NOMEM ? s : EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot read", path);
+    cJSON *root = cJSON_Parse(text);
+    free(text);
+    const cJSON *pts = cJSON_GetObjectItemCaseSensitive(root, "points");
+    if (!cJSON_IsArray(pts)) {
+        cJSON_Delete(root);
+        r->state = APP_CASE_FAILED;
+        snprintf(r->error, sizeof r->error, "%.900s: no points in the result", path);
+        return EDDY_OK;
+    }
+    int n = cJSON_GetArraySize(pts);
+    r->speed = n > 0 ? malloc((size_t)n * 4 * sizeof *r->speed) : NULL;
+    if (n > 0 && r->speed == NULL) {
+        cJSON_Delete(root);
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory reading %s", path);
+    }
+    r->drag = r->speed + n;
+    r->force_y = r->speed + 2 * n;
+    r->loss = r->speed + 3 * n;
+    int k = 0;
+    for (const cJSON *p = pts->child; p != NULL; p = p->next, k++) {
+        r->speed[k] = json_num(p, "speed");
+        r->drag[k] = json_num(p, "drag_force");
+        r->force_y[k] = json_num(p, "force_y");
+        r->loss[k] = json_num(p, "loss");
+    }
+    r->npoint = n;
+    cJSON_Delete(root);
+    int all_pos = n > 0, finite = n > 0;
+    for (k = 0; k < n; k++) {
+        all_pos = all_pos && r->speed[k] > 0;
+        finite = finite && isfinite(r->speed[k]) && isfinite(r->drag[k]);
+    }
+    if (finite) {
+        double v = NAN, f = NAN;
+        if (design_peak(n, r->speed, r->drag, all_pos, &v, &f, NULL, NULL) == EDDY_OK) {
+            r->peak_drag = f;
+            r->peak_speed = v;
+        }
+    }
+    return EDDY_OK;
+}
+
+/* CSV field: quoted when it holds a comma, quote or line break (RFC 4180). */
+static void csv_field(eddy_text *b, const char *s)
+{
+    if (strpbrk(s, ",\"\r\n") == NULL) {
+        eddy_text_str(b, s);
+        return;
+    }
+    app_batch_quote(b, s, '"', "\"\"");
+}
+
+static void csv_num(eddy_text *b, double v)
+{
+    if (isfinite(v))
+        eddy_text_printf(b, ",%.10g", v);
+    else
+        eddy_text_str(b, ",");
+}
+
+static void html_text(eddy_text *b, const char *s)
+{
+    for (const char *q = s; *q != '\0'; q++) {
+        switch (*q) {
+        case '&': eddy_text_str(b, "&amp;"); break;
+        case '<': eddy_text_str(b, "&lt;"); break;
+        case '>': eddy_text_str(b, "&gt;"); break;
+        case '"': eddy_text_str(b, "&quot;"); break;
+        default: eddy_text_put(b, q, 1);
+        }
+    }
+}
+
+static void html_num(eddy_text *b, double v, const char *cls)
+{
+    eddy_text_printf(b, "<td class=\"%s\">", cls);
+    if (isfinite(v))
+        eddy_text_printf(b, "%.5g", v);
+    else
+        eddy_text_str(b, "&ndash;");
+    eddy_text_str(b, "</td>");
+}
+
+/* "path=value; path=value" (compact JSON values). */
+static void variant_text(eddy_text *b, const app_batch_case *c)
+{
+    for (int q = 0; q < c->nvalue; q++)
+        eddy_text_printf(b, "%s%s=%s", q > 0 ? "; " : "", c->paths[q], c->values[q]);
+}
+
+static cJSON *json_num_or_null(double v)
+{
+    return isfinite(v) ? cJSON_CreateNumber(v) : cJSON_CreateNull();
+}
+
+static int json_add(cJSON *o, const char *key, cJSON *x)
+{
+    if (x == NULL || !cJSON_AddItemToObject(o, key, x)) {
+        cJSON_Delete(x);
+        return 0;
+    }
+    return 1;
+}
+
+/* Write b (then freed) to OUT/name atomically; out of memory if b is. */
+static eddy_status write_text(const char *outdir, const char *name, eddy_text *b,
+                              eddy_error *err)
+{
+    if (b->oom) {
+        free(b->p);
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing %s", name);
+    }
+    char path[4200];
+    app_batch_join(path, sizeof path, outdir, name, NULL);
+    eddy_status s = eddy_write_atomic(path, b->p, b->len, err);
+    free(b->p);
+    return s;
+}
+
+static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
+                             const case_result *res, eddy_error *err)
+{
+    eddy_text b = {0};
+    eddy_text_str(&b, "case,source");
+    for (int k = 0; k < p->nkey; k++) {
+        eddy_text_str(&b, ",");
+        csv_field(&b, p->keys[k]);
+    }
+    eddy_text_str(&b, ",speed_m_per_s,drag_force_N_per_m,force_y_N_per_m,loss_W_per_m,"
+               "peak_drag_N_per_m,peak_drag_speed_m_per_s,status,error,seconds\n");
+    for (int c = 0; c < p->ncase; c++) {
+        const app_batch_case *pc = &p->cases[c];
+        const case_result *r = &res[c];
+        int rows = r->npoint > 0 ? r->npoint : 1;
+        for (int k = 0; k < rows; k++) {
+            csv_field(&b, pc->name);
+            eddy_text_str(&b, ",");
+            csv_field(&b, pc->source);
+            for (int q = 0; q < p->nkey; q++) {
+                const char *v = app_batch_variant_value(pc, p->keys[q]);
+                eddy_text_str(&b, ",");
+                csv_field(&b, v != NULL ? v : "");
+            }
+            int has = k < r->npoint;
+            csv_num(&b, has ? r->speed[k] : NAN);
+            csv_num(&b, has ? r->drag[k] : NAN);
+            csv_num(&b, has ? r->force_y[k] : NAN);
+            csv_num(&b, has ? r->loss[k] : NAN);
+            csv_num(&b, r->peak_drag);
+            csv_num(&b, r->peak_speed);
+            eddy_text_str(&b, ",");
+            csv_field(&b, app_case_state_name(r->state));
+            eddy_text_str(&b, ",");
+            csv_field(&b, r->error);
+            csv_num(&b, r->seconds);
+            eddy_text_str(&b, "\n");
+        }
+    }
+    return write_text(outdir, "summary.csv", &b, err);
+}
+
+static eddy_status write_summary_json(const char *outdir, const app_batch_plan *p,
+                                      const case_result *res, const app_batch_counts *n,
+                                      const char *when, eddy_error *err)
+{
+    cJSON *root = cJSON_CreateObject();
+    int ok = root != NULL;
+    ok = ok && cJSON_AddStringToObject(root, "tool", "eddy2d " EDDY_VERSION) != NULL;
+    ok = ok && cJSON_AddStringToObject(root, "written", when) != NULL;
+    cJSON *units = ok ? cJSON_AddObjectToObject(root, "units") : NULL;
+    ok = units != NULL && cJSON_AddStringToObject(units, "speed", "m/s") != NULL &&
+         cJSON_AddStringToObject(units, "drag_force", "N/m") != NULL &&
+         cJSON_AddStringToObject(units, "force_y", "N/m") != NULL &&
+         cJSON_AddStringToObject(units, "loss", "W/m") != NULL &&
+         cJSON_AddStringToObject(units, "seconds", "s (wall time of the case)") != NULL;
+    cJSON *cnt = ok ? cJSON_AddObjectToObject(root, "counts") : NULL;
+    ok = cnt != NULL && cJSON_AddNumberToObject(cnt, "cases", n->cases) != NULL &&
+         cJSON_AddNumberToObject(cnt, "ok", n->ok) != NULL &&
+         cJSON_AddNumberToObject(cnt, "failed", n->failed) != NULL &&
+         cJSON_AddNumberToObject(cnt, "not_run", n->not_run) != NULL;
+    ok = ok && app_batch_json_variant_keys(root, p);
+    cJSON *rows = ok ? cJSON_AddArrayToObject(root, "rows") : NULL;
+    ok = rows != NULL;
+    for (int c = 0; ok && c < p->ncase; c++) {
+        const app_batch_case *pc = &p->cases[c];
+        const case_result *r = &res[c];
+        int nrow = r->npoint > 0 ? r->npoint : 1;
+        for (int k = 0; ok && k < nrow; k++) {
+            cJSON *o = cJSON_CreateObject();
+            ok = o != NULL && cJSON_AddItemToArray(rows, o);
+            if (!ok) {
+                cJSON_Delete(o);
+                break;
+            }
+            int has = k < r->npoint;
+            ok = cJSON_AddStringToObject(o, "case", pc->name) != NULL &&
+                 cJSON_AddStringToObject(o, "source", pc->source) != NULL &&
+                 app_batch_json_variant(o, "variant", pc) &&
+                 json_add(o, "speed", json_num_or_null(has ? r->speed[k] : NAN)) &&
+                 json_add(o, "drag_force", json_num_or_null(has ? r->drag[k] : NAN)) &&
+                 json_add(o, "force_y", json_num_or_null(has ? r->force_y[k] : NAN)) &&
+                 json_add(o, "loss", json_num_or_null(has ? r->loss[k] : NAN)) &&
+                 json_add(o, "peak_drag", json_num_or_null(r->peak_drag)) &&
+                 json_add(o, "peak_drag_speed", json_num_or_null(r->peak_speed)) &&
+                 cJSON_AddStringToObject(o, "status", app_case_state_name(r->state)) != NULL &&
+                 json_add(o, "error", r->error[0] ? cJSON_CreateString(r->error)
+                                                  : cJSON_CreateNull()) &&
+                 json_add(o, "seconds", json_num_or_null(r->seconds));
+        }
+    }
+    ok = ok && cJSON_AddStringToObject(root, "notice", app_safety_notice()) != NULL;
+    if (!ok) {
+        cJSON_Delete(root);
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing summary.json");
+    }
+    char path[4200];
+    app_batch_join(path, sizeof path, outdir, "summary.json", NULL);
+    eddy_status s = app_batch_write_json(path, root, err);
+    cJSON_Delete(root);
+    return s;
+}
+
+static void html_status(eddy_text *b, app_case_state st)
+{
+    eddy_text_printf(b, "<td class=\"st %s\">%s</td>",
+              st == APP_CASE_OK ? "ok" : st == APP_CASE_NOT_RUN ? "notrun" : "bad",
+              app_case_state_name(st));
+}
+
+/* The page's head, its style, the title, the counts and the notice. */
+static void html_head(eddy_text *b, const app_batch_counts *n, const char *when)
+{
+    eddy_text_str(b,
+           "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"
+           "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n"
+           "<title>eddy2d batch summary</title>\n<style>\n"
+           "body{font-family:sans-serif;margin:1.2em;color:#111;background:#fff}\n"
+           "h1{font-size:1.5em;margin:0 0 .3em}h2{font-size:1.2em;margin:1.2em 0 .4em}\n"
+           "table{border-collapse:collapse;font-size:.9em}\n"
+           "th,td{border:1px solid #bbb;padding:.2em .5em;text-align:left;vertical-align:top}\n"
+           "th{background:#eee}td.num{text-align:right;font-variant-numeric:tabular-nums}\n"
+           "td.st.ok{font-weight:bold}td.st.bad{font-weight:bold;text-decoration:underline}\n"
+           "td.err{max-width:40em;font-size:.9em}\n"
+           ".plots{display:grid;grid-template-columns:repeat(auto-fill,minmax(420px,1fr));"
+           "gap:1em}\n"
+           "figure{margin:0;border:1px solid #bbb;padding:.4em}"
+           "figure img{width:100%;height:auto;display:block}\n"
+           "figcaption{font-size:.85em;margin-top:.3em}.missing{padding:2em 1em;color:#444}\n"
+           ".notice{border:1px solid #888;padding:.5em;font-size:.85em;max-width:70em}\n"
+           "</style>\n</head>\n<body>\n<h1>eddy2d batch summary</h1>\n");
+    eddy_text_printf(b, "<p id=\"counts\">%d cases: %d ok, %d failed, %d not run. Written %s by "
+                     "eddy2d %s.</p>\n",
+                     n->cases, n->ok, n->failed, n->not_run, when, EDDY_VERSION);
+    eddy_text_str(b, "<p class=\"notice\"><strong>Caution.</strong> ");
+    html_text(b, app_safety_notice());
+    eddy_text_str(b, "</p>\n");
+}
+
+/* The table of the cases: variant values, status, peak drag, error. */
+static void html_cases(eddy_text *b, const app_batch_plan *p, const case_result *res)
+{
+    eddy_text_str(b, "<h2>Cases</h2>\n<table id=\"cases\">\n<thead><tr><th>case</th>");
+    for (int k = 0; k < p->nkey; k++) {
+        eddy_text_str(b, "<th>");
+        html_text(b, p->keys[k]);
+        eddy_text_str(b, "</th>");
+    }
+    eddy_text_str(b, "<th>status</th><th>peak drag (N/m)</th><th>at speed (m/s)</th>"
+                  "<th>seconds</th><th>error</th></tr></thead>\n<tbody>\n");
+    for (int c = 0; c < p->ncase; c++) {
+        const app_batch_case *pc = &p->cases[c];
+        const case_result *r = &res[c];
+        eddy_text_str(b, "<tr><td><a href=\"#fig-");
+        html_text(b, pc->name);
+        eddy_text_str(b, "\">");
+        html_text(b, pc->name);
+        eddy_text_str(b, "</a></td>");
+        for (int q = 0; q < p->nkey; q++) {
+            const char *v = app_batch_variant_value(pc, p->keys[q]);
+            eddy_text_str(b, "<td>");
+            html_text(b, v != NULL ? v : "");
+            eddy_text_str(b, "</td>");
+        }
+        html_status(b, r->state);
+        html_num(b, r->peak_drag, "num");
+        html_num(b, r->peak_speed, "num");
+        html_num(b, r->seconds, "num");
+        eddy_text_str(b, "<td class=\"err\">");
+        html_text(b, r->error);
+        eddy_text_str(b, "</td></tr>\n");
+    }
+    eddy_text_str(b, "</tbody>\n</table>\n");
+}
+
+/* One case's figure: its forces.png linked, or why there is none. */
+static void html_figure(eddy_text *b, const app_batch_case *pc, const case_result *r)
+{
+    eddy_text_str(b, "<figure id=\"fig-");
+    html_text(b, pc->name);
+    eddy_text_str(b, "\">");
+    if (r->png_w > 0) {
+        eddy_text_str(b, "<a href=\"");
+        html_text(b, pc->name);
+        eddy_text_str(b, "/forces.png\"><img src=\"");
+        html_text(b, pc->name);
+        eddy_text_printf(b, "/forces.png\" width=\"%d\" height=\"%d\" alt=\"drag and normal "
+                         "force against speed, ", r->png_w, r->png_h);
+        html_text(b, pc->name);
+        eddy_text_str(b, "\"></a>");
+    } else {
+        eddy_text_str(b, "<div class=\"missing\">");
+        if (r->state == APP_CASE_OK)
+            eddy_text_str(b, "no plot (run without pictures)");
+        else {
+            html_text(b, app_case_state_name(r->state));
+            if (r->error[0]) {
+                eddy_text_str(b, ": ");
+                html_text(b, r->error);
+            }
+        }
+        eddy_text_str(b, "</div>");
+    }
+    eddy_text_str(b, "<figcaption><strong>");
+    html_text(b, pc->name);
+    eddy_text_str(b, "</strong>");
+    if (pc->nvalue > 0) {
+        eddy_text_str(b, "<br>");
+        eddy_text v = {0};
+        variant_text(&v, pc);
+        html_text(b, v.p != NULL ? v.p : "");
+        if (v.oom)
+            b->oom = 1;
+        free(v.p);
+    }
+    eddy_text_str(b, "</figcaption></figure>\n");
+}
+
+/* The table of every case and speed. */
+static void html_points(eddy_text *b, const app_batch_plan *p, const case_result *res)
+{
+    eddy_text_str(b, "<h2>Every speed</h2>\n<table id=\"points\">\n<thead><tr><th>case</th>"
+                  "<th>speed (m/s)</th><th>drag (N/m)</th><th>normal force (N/m)</th>"
+                  "<th>loss (W/m)</th><th>status</th></tr></thead>\n<tbody>\n");
+    for (int c = 0; c < p->ncase; c++) {
+        const app_batch_case *pc = &p->cases[c];
+        const case_result *r = &res[c];
+        int rows = r->npoint > 0 ? r->npoint : 1;
+        for (int k = 0; k < rows; k++) {
+            int has = k < r->npoint;
+            eddy_text_str(b, "<tr><td>");
+            html_text(b, pc->name);
+            eddy_text_str(b, "</td>");
+            html_num(b, has ? r->speed[k] : NAN, "num");
+            html_num(b, has ? r->drag[k] : NAN, "num");
+            html_num(b, has ? r->force_y[k] : NAN, "num");
+            html_num(b, has ? r->loss[k] : NAN, "num");
+            html_status(b, r->state);
+            eddy_text_str(b, "</tr>\n");
+        }
+    }
+    eddy_text_str(b, "</tbody>\n</table>\n");
+}
+
+static eddy_status write_html(const char *outdir, const app_batch_plan *p,
+                              const case_result *res, const app_batch_counts *n,
+                              const char *when, eddy_error *err)
+{
+    eddy_text b = {0};
+    html_head(&b, n, when);
+    html_cases(&b, p, res);
+    eddy_text_str(&b, "<h2>Force-speed plots</h2>\n<div class=\"plots\">\n");
+    for (int c = 0; c < p->ncase; c++)
+        html_figure(&b, &p->cases[c], &res[c]);
+    eddy_text_str(&b, "</div>\n");
+    html_points(&b, p, res);
+    eddy_text_str(&b, "<p>Forces per metre of depth (per period for a periodic domain); the "
+                  "same numbers are in summary.csv and summary.json.</p>\n</body>\n</html>\n");
+    return write_text(outdir, "summary.html", &b, err);
+}
+
+eddy_status app_batch_write_summary(const char *outdir, const app_batch_plan *p,
+                                    app_batch_counts *counts, eddy_error *err)
+{
+    app_batch_counts n = {0};
+    n.cases = p->ncase;
+    case_result *res = calloc((size_t)(p->ncase > 0 ? p->ncase : 1), sizeof *res);
+    if (res == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing the summary");
+    eddy_status s = EDDY_OK;
+    for (int c = 0; c < p->ncase && s == EDDY_OK; c++) {
+        s = load_result(outdir, &p->cases[c], &res[c], err);
+        if (s != EDDY_OK)
+            break;
+        if (res[c].state == APP_CASE_OK)
+            n.ok++;
+        else if (res[c].state == APP_CASE_NOT_RUN)
+            n.not_run++;
+        else
+            n.failed++;
+    }
+    char when[64] = "";
+    time_t now = time(NULL);
+    struct tm tm;
+    if (gmtime_r(&now, &tm) != NULL)
+        strftime(when, sizeof when, "%Y-%m-%d %H:%M:%S UTC", &tm);
+    if (s == EDDY_OK)
+        s = eddy_make_dir(outdir, err);
+    if (s == EDDY_OK)
+        s = write_csv(outdir, p, res, err);
+    if (s == EDDY_OK)
+        s = write_summary_json(outdir, p, res, &n, when, err);
+    if (s == EDDY_OK)
+        s = write_html(outdir, p, res, &n, when, err);
+    for (int c = 0; c < p->ncase; c++)
+        free(res[c].speed);
+    free(res);
+    if (s == EDDY_OK && counts != NULL)
+        *counts = n;
+    return s;
+}
