@@ -13,7 +13,6 @@
 #define EDDY_APP_H
 
 #include <stddef.h>
-#include <stdint.h>
 
 #include "design/design.h"
 #include "mesh/mesh.h"
@@ -183,19 +182,6 @@ eddy_status app_run_reference(const char *case_path, const app_run_opts *o,
  * Returns EDDY_OK, EDDY_ERR_IO, EDDY_ERR_NOMEM.
  */
 eddy_status app_write_results(const char *dir, const app_report *r, eddy_error *err);
-
-/*
- * Create a directory and its parents (like mkdir -p).  Returns EDDY_OK or
- * EDDY_ERR_IO.
- */
-eddy_status eddy_make_dir(const char *dir, eddy_error *err);
-
-/*
- * Write `size` bytes to path atomically: to a temporary file in the same
- * directory, flushed to disk, then renamed over path.
- */
-eddy_status eddy_write_atomic(const char *path, const char *data, size_t size,
-                              eddy_error *err);
 
 /* The safety notice printed by the tool and written into result.json. */
 const char *app_safety_notice(void);

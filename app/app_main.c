@@ -14,13 +14,10 @@
 #include <string.h>
 #include <unistd.h>
 
-#include "mesh/mesh.h"
 #include "app/app.h"
+#include "app/app_batch_cli.h"
+#include "mesh/mesh.h"
 #include "solver/sol.h"
-
-/* The batch command (post/app_batch_main.c). */
-int app_batch_main(int argc, char **argv);
-
 
 static void usage(FILE *out)
 {
