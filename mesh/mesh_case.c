@@ -26,9 +26,7 @@ static eddy_status read_domain(mesh_reader *r, const cJSON *root)
     if (dom == NULL)
         return mesh_json_bad(r, "domain",
                              "missing (an object with x, y and boundaries is required)");
-    if (!cJSON_IsObject(dom))
-        return mesh_json_bad(r, "domain", "must be an object");
-    MESH_TRY(mesh_json_check_keys(r, dom, "domain", keys));
+    MESH_TRY(mesh_json_object(r, dom, "domain", keys));
     double xs[2], ys[2];
     const cJSON *it = cJSON_GetObjectItemCaseSensitive(dom, "x");
     if (it == NULL)
@@ -70,9 +68,7 @@ static eddy_status read_mesh(mesh_reader *r, const cJSON *root)
     const cJSON *m = cJSON_GetObjectItemCaseSensitive(root, "mesh");
     if (m == NULL)
         return EDDY_OK;
-    if (!cJSON_IsObject(m))
-        return mesh_json_bad(r, "mesh", "must be an object");
-    MESH_TRY(mesh_json_check_keys(r, m, "mesh", keys));
+    MESH_TRY(mesh_json_object(r, m, "mesh", keys));
     int f1 = 0, f2 = 0, f3 = 0;
     double mx = 0, mn = 0, gr = 0;
     MESH_TRY(mesh_json_number(r, m, "max_size", "mesh", 0, &mx, &f1));
@@ -139,9 +135,7 @@ static eddy_status read_profiles(mesh_reader *r, const cJSON *root)
     for (const cJSON *e = pr->child; e != NULL; e = e->next, k++) {
         char p[64], q[96];
         snprintf(p, sizeof p, "profiles[%d]", k);
-        if (!cJSON_IsObject(e))
-            return mesh_json_bad(r, p, "must be an object");
-        MESH_TRY(mesh_json_check_keys(r, e, p, keys));
+        MESH_TRY(mesh_json_object(r, e, p, keys));
         mesh_profile *m = &c->profiles[k];
         const char *s = NULL;
         MESH_TRY(mesh_json_string(r, e, "name", p, 0, &s));

@@ -108,9 +108,7 @@ eddy_status mesh_case_read_vehicle(mesh_reader *r, const cJSON *root)
     const cJSON *v = cJSON_GetObjectItemCaseSensitive(root, "vehicle");
     if (v == NULL)
         return EDDY_OK;
-    if (!cJSON_IsObject(v))
-        return mesh_json_bad(r, "vehicle", "must be an object");
-    MESH_TRY(mesh_json_check_keys(r, v, "vehicle", keys));
+    MESH_TRY(mesh_json_object(r, v, "vehicle", keys));
     mesh_vehicle *h = &c->vehicle;
     h->present = 1;
     h->repeat = 1.0;
@@ -144,9 +142,7 @@ eddy_status mesh_case_read_end_effect(mesh_reader *r, const cJSON *root)
     const cJSON *e = cJSON_GetObjectItemCaseSensitive(root, "end_effect");
     if (e == NULL)
         return EDDY_OK;
-    if (!cJSON_IsObject(e))
-        return mesh_json_bad(r, "end_effect", "must be an object");
-    MESH_TRY(mesh_json_check_keys(r, e, "end_effect", keys));
+    MESH_TRY(mesh_json_object(r, e, "end_effect", keys));
     mesh_end_effect *h = &c->end_effect;
     h->present = 1;
     MESH_TRY(mesh_json_positive(r, e, "plate_width", "end_effect", c->length_scale,
@@ -177,9 +173,7 @@ eddy_status mesh_case_read_disc(mesh_reader *r, const cJSON *root)
     const cJSON *d = cJSON_GetObjectItemCaseSensitive(root, "disc");
     if (d == NULL)
         return EDDY_OK;
-    if (!cJSON_IsObject(d))
-        return mesh_json_bad(r, "disc", "must be an object");
-    MESH_TRY(mesh_json_check_keys(r, d, "disc", keys));
+    MESH_TRY(mesh_json_object(r, d, "disc", keys));
     mesh_disc *h = &c->disc;
     h->present = 1;
     MESH_TRY(mesh_json_positive(r, d, "mean_radius", "disc", c->length_scale, &h->mean_radius));

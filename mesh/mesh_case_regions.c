@@ -57,11 +57,63 @@ static eddy_status read_bh_curve(mesh_reader *r, const cJSON *item, const char *
     return EDDY_OK;
 }
 
-eddy_status mesh_case_read_materials(mesh_reader *r, const cJSON *root)
+/* The material m (an object at path p, named m->string) into mat: its
+ * numbers, checked, and its B-H curve. */
+static eddy_status read_material(mesh_reader *r, const cJSON *m, const char *p,
+                                 mesh_material *mat)
 {
     static const char *const keys[] = {"conductivity", "relative_permeability", "remanence",
                                        "density", "specific_heat", "temperature_coefficient",
                                        "bh_curve", "description", "source", NULL};
+    MESH_TRY(mesh_json_object(r, m, p, keys));
+    snprintf(mat->name, sizeof mat->name, "%s", m->string);
+    mat->sigma = 0.0;
+    mat->mu_r = 1.0;
+    mat->br = 0.0;
+    mat->source = NULL;
+    MESH_TRY(mesh_json_number(r, m, "conductivity", p, 0, &mat->sigma, NULL));
+    MESH_TRY(mesh_json_number(r, m, "relative_permeability", p, 0, &mat->mu_r, NULL));
+    MESH_TRY(mesh_json_number(r, m, "remanence", p, 0, &mat->br, NULL));
+    mat->density = mat->specific_heat = mat->alpha = 0.0;
+    MESH_TRY(mesh_json_number(r, m, "density", p, 0, &mat->density, NULL));
+    MESH_TRY(mesh_json_number(r, m, "specific_heat", p, 0, &mat->specific_heat, NULL));
+    MESH_TRY(mesh_json_number(r, m, "temperature_coefficient", p, 0, &mat->alpha, NULL));
+    char q[340];
+    if (mat->density < 0 || mat->specific_heat < 0) {
+        snprintf(q, sizeof q, "%s.%s", p, mat->density < 0 ? "density" : "specific_heat");
+        return mesh_json_bad(r, q, "must not be negative");
+    }
+    if (mat->sigma < 0.0) {
+        snprintf(q, sizeof q, "%s.conductivity", p);
+        return mesh_json_bad(r, q, "must not be negative (got %g S/m)", mat->sigma);
+    }
+    if (!(mat->mu_r > 0.0)) {
+        snprintf(q, sizeof q, "%s.relative_permeability", p);
+        return mesh_json_bad(r, q, "must be positive (got %g)", mat->mu_r);
+    }
+    if (mat->br < 0.0) {
+        snprintf(q, sizeof q, "%s.remanence", p);
+        return mesh_json_bad(r, q, "must not be negative (got %g T); give the direction "
+                                   "with the region's magnetization_angle", mat->br);
+    }
+    mat->bh.n = 0;
+    const cJSON *bh = cJSON_GetObjectItemCaseSensitive(m, "bh_curve");
+    if (bh != NULL) {
+        snprintf(q, sizeof q, "%s.bh_curve", p);
+        if (cJSON_GetObjectItemCaseSensitive(m, "relative_permeability") != NULL)
+            return mesh_json_bad(r, q, "give either \"bh_curve\" or "
+                                       "\"relative_permeability\", not both");
+        if (mat->br > 0.0)
+            return mesh_json_bad(r, q, "a material with a B-H curve cannot have a remanence");
+        MESH_TRY(read_bh_curve(r, bh, q, &mat->bh));
+        mat->mu_r = mat->bh.b[1] / (EDDY_MU0 * mat->bh.h[1]);
+    }
+    mat->sigma_20 = mat->sigma;
+    return EDDY_OK;
+}
+
+eddy_status mesh_case_read_materials(mesh_reader *r, const cJSON *root)
+{
     mesh_case *c = r->c;
     const cJSON *mats = cJSON_GetObjectItemCaseSensitive(root, "materials");
     if (mats == NULL)
@@ -82,54 +134,7 @@ eddy_status mesh_case_read_materials(mesh_reader *r, const cJSON *root)
         if (m->string[0] == '\0' || strlen(m->string) >= sizeof c->materials[0].name)
             return mesh_json_bad(r, p, "material name must have 1 to %d characters",
                                  (int)sizeof c->materials[0].name - 1);
-        if (!cJSON_IsObject(m))
-            return mesh_json_bad(r, p, "must be an object");
-        MESH_TRY(mesh_json_check_keys(r, m, p, keys));
-        mesh_material *mat = &c->materials[c->nmat];
-        snprintf(mat->name, sizeof mat->name, "%s", m->string);
-        mat->sigma = 0.0;
-        mat->mu_r = 1.0;
-        mat->br = 0.0;
-        mat->source = NULL;
-        MESH_TRY(mesh_json_number(r, m, "conductivity", p, 0, &mat->sigma, NULL));
-        MESH_TRY(mesh_json_number(r, m, "relative_permeability", p, 0, &mat->mu_r, NULL));
-        MESH_TRY(mesh_json_number(r, m, "remanence", p, 0, &mat->br, NULL));
-        mat->density = mat->specific_heat = mat->alpha = 0.0;
-        MESH_TRY(mesh_json_number(r, m, "density", p, 0, &mat->density, NULL));
-        MESH_TRY(mesh_json_number(r, m, "specific_heat", p, 0, &mat->specific_heat, NULL));
-        MESH_TRY(mesh_json_number(r, m, "temperature_coefficient", p, 0, &mat->alpha, NULL));
-        char q[340];
-        if (mat->density < 0 || mat->specific_heat < 0) {
-            snprintf(q, sizeof q, "%s.%s", p, mat->density < 0 ? "density" : "specific_heat");
-            return mesh_json_bad(r, q, "must not be negative");
-        }
-        if (mat->sigma < 0.0) {
-            snprintf(q, sizeof q, "%s.conductivity", p);
-            return mesh_json_bad(r, q, "must not be negative (got %g S/m)", mat->sigma);
-        }
-        if (!(mat->mu_r > 0.0)) {
-            snprintf(q, sizeof q, "%s.relative_permeability", p);
-            return mesh_json_bad(r, q, "must be positive (got %g)", mat->mu_r);
-        }
-        if (mat->br < 0.0) {
-            snprintf(q, sizeof q, "%s.remanence", p);
-            return mesh_json_bad(r, q, "must not be negative (got %g T); give the direction "
-                                       "with the region's magnetization_angle", mat->br);
-        }
-        mat->bh.n = 0;
-        const cJSON *bh = cJSON_GetObjectItemCaseSensitive(m, "bh_curve");
-        if (bh != NULL) {
-            snprintf(q, sizeof q, "%s.bh_curve", p);
-            if (cJSON_GetObjectItemCaseSensitive(m, "relative_permeability") != NULL)
-                return mesh_json_bad(r, q, "give either \"bh_curve\" or "
-                                           "\"relative_permeability\", not both");
-            if (mat->br > 0.0)
-                return mesh_json_bad(r, q, "a material with a B-H curve cannot have a "
-                                           "remanence");
-            MESH_TRY(read_bh_curve(r, bh, q, &mat->bh));
-            mat->mu_r = mat->bh.b[1] / (EDDY_MU0 * mat->bh.h[1]);
-        }
-        mat->sigma_20 = mat->sigma;
+        MESH_TRY(read_material(r, m, p, &c->materials[c->nmat]));
         c->nmat++;
     }
     return EDDY_OK;
@@ -284,9 +289,7 @@ static eddy_status read_region(mesh_reader *r, const cJSON *e, int k, double tol
                                        "current_density", "description", NULL};
     char p[64];
     snprintf(p, sizeof p, "regions[%d]", k);
-    if (!cJSON_IsObject(e))
-        return mesh_json_bad(r, p, "must be an object");
-    MESH_TRY(mesh_json_check_keys(r, e, p, keys));
+    MESH_TRY(mesh_json_object(r, e, p, keys));
     MESH_TRY(read_region_material(r, e, p, g));
     MESH_TRY(read_region_box(r, e, p, tol, g));
     const cJSON *mv = cJSON_GetObjectItemCaseSensitive(e, "moving");

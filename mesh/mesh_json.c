@@ -58,6 +58,14 @@ eddy_status mesh_json_check_keys(mesh_reader *r, const cJSON *obj, const char *p
     return EDDY_OK;
 }
 
+eddy_status mesh_json_object(mesh_reader *r, const cJSON *obj, const char *path,
+                             const char *const *allowed)
+{
+    if (!cJSON_IsObject(obj))
+        return mesh_json_bad(r, path, "must be an object");
+    return mesh_json_check_keys(r, obj, path, allowed);
+}
+
 eddy_status mesh_json_number(mesh_reader *r, const cJSON *obj, const char *key,
                              const char *path, int required, double *out, int *found)
 {

@@ -59,6 +59,12 @@ eddy_status mesh_json_warn(mesh_reader *r, const char *fmt, ...)
 eddy_status mesh_json_check_keys(mesh_reader *r, const cJSON *obj, const char *path,
                                  const char *const *allowed);
 
+/* The value obj at path must be an object ("must be an object") whose keys
+ * pass mesh_json_check_keys with allowed.  Returns EDDY_OK, EDDY_ERR_INPUT,
+ * EDDY_ERR_NOMEM. */
+eddy_status mesh_json_object(mesh_reader *r, const cJSON *obj, const char *path,
+                             const char *const *allowed);
+
 /* A finite number at obj[key] into *out.  An absent key is an error if
  * required, else leaves *out unchanged.  found (may be NULL) receives 1 if
  * the key is present, else 0.  Returns EDDY_OK or EDDY_ERR_INPUT. */
