@@ -5,6 +5,7 @@
  * prints nothing; progress goes through an optional callback.
  */
 #include "app/app.h"
+#include "solver/sol_ref.h"
 
 #include <math.h>
 #include <stdio.h>

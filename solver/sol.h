@@ -9,13 +9,20 @@
  *
  * discretised by vertex-centred finite volumes (box integration) with
  * exponentially fitted (Scharfetter-Gummel / Il'in-Allen-Southwell)
- * convective fluxes on the x-edges of moving cells.  See sol.c for the
- * derivation.
+ * convective fluxes on the x-edges of moving cells.  See sol_assemble.c for
+ * the derivation.
  *
  * Analysis is split from numbers, as in UMFPACK: sol_system_alloc builds the
- * fixed sparsity pattern once per mesh; sol_analyse runs the symbolic
- * factorisation once; each sol_solve only assembles values into the fixed
- * pattern, factorises numerically and solves.
+ * fixed sparsity pattern once per mesh (sol_pattern.c); sol_analyse runs the
+ * symbolic factorisation once; each sol_solve only assembles values into the
+ * fixed pattern, factorises numerically and solves (sol_umf.c).  Saturable
+ * materials are solved by Newton-Raphson (sol_newton.c, sol_bh.c).  The
+ * layered Fourier reference, an independent analytic solution, has its own
+ * header, solver/sol_ref.h.
+ *
+ * Conventions: SI units (m, m/s, Wb/m, m/H, T, A/m); every eddy_error *err
+ * may be NULL, and on failure receives the message of the returned status;
+ * nothing prints and nothing exits.
  */
 #ifndef EDDY_SOL_H
 #define EDDY_SOL_H
@@ -29,7 +36,7 @@ typedef struct sol_work sol_work;
 typedef enum {
     SOL_ORDER_AMD = 0,   /* UMFPACK's AMD on A + A' */
     SOL_ORDER_METIS,     /* METIS nested dissection (through UMFPACK) */
-    SOL_ORDER_GRID_ND    /* geometric nested dissection of the tensor grid (sol.c) */
+    SOL_ORDER_GRID_ND    /* geometric nested dissection of the tensor grid (sol_pattern.c) */
 } sol_ordering;
 
 /* The default of a new system (cheapest analysis); the runner (app_run.c)
@@ -52,36 +59,71 @@ typedef struct {
     const char *ordering;  /* name of the fill-reducing ordering (static) */
 } sol_info;
 
+/* ------------------------------------------------------------------------ */
+/* System: unknowns and the fixed pattern (sol_pattern.c)                    */
+/* ------------------------------------------------------------------------ */
+
 /*
- * Build the unknown numbering and the fixed CSC sparsity pattern for a grid.
+ * Build the unknown numbering and the fixed CSC sparsity pattern for a grid,
+ * with the interpolants of its B-H curves, and the system's own workspace
+ * (for sol_solve).  The ordering is SOL_ORDER_DEFAULT, without memory limit.
  *   g:   the grid; borrowed, must outlive the system.
- *   out: receives the system (free with sol_system_free); NULL on error.
- * Returns EDDY_OK, EDDY_ERR_NOMEM, EDDY_ERR_INPUT (grid without unknowns).
+ *   out: receives the system, owned by the caller (free with
+ *        sol_system_free); NULL on error.
+ * Returns EDDY_OK, EDDY_ERR_NOMEM, EDDY_ERR_INPUT (a grid without unknowns,
+ * a B-H curve sol_bh_build rejects, a saturable cell with a remanence).
  */
 eddy_status sol_system_alloc(const mesh_grid *g, sol_system **out, eddy_error *err);
 
-/* Free a system (pattern, symbolic and numeric factors); accepts NULL. */
+/* Free a system (pattern, symbolic factorisation, its workspace); accepts
+ * NULL.  Workspaces from sol_work_alloc are freed separately. */
 void sol_system_free(sol_system *s);
 
-/* Number of unknowns of a system. */
+/* Number of unknowns of a system (the grid nodes off the zero boundaries,
+ * a periodic pair counted once); 0 for s = NULL. */
 long sol_unknowns(const sol_system *s);
 
-/* Choose the fill-reducing ordering (before sol_analyse; discards an earlier
- * symbolic factorisation). */
+/*
+ * Workspace of one concurrent solve (matrix values, right-hand side,
+ * solution, UMFPACK solve workspaces, and the Newton iterates when the grid
+ * has saturable cells), sized for system s.  Several workspaces may solve
+ * different speeds on one analysed system at the same time, from different
+ * threads.
+ *   s:   the system (borrowed; the workspace is used only with it).
+ *   out: receives the workspace, owned by the caller (free with
+ *        sol_work_free, before or after s); NULL on error.
+ * Returns EDDY_OK or EDDY_ERR_NOMEM.
+ */
+eddy_status sol_work_alloc(const sol_system *s, sol_work **out, eddy_error *err);
+
+/* Free a workspace; accepts NULL. */
+void sol_work_free(sol_work *w);
+
+/* ------------------------------------------------------------------------ */
+/* Analysis, factorisation and solve with UMFPACK (sol_umf.c)                */
+/* ------------------------------------------------------------------------ */
+
+/* Choose the fill-reducing ordering o of system s (before sol_analyse;
+ * discards an earlier symbolic factorisation). */
 void sol_set_ordering(sol_system *s, sol_ordering o);
 
-/* Name of an ordering ("amd", "metis", "grid-nd"); static storage. */
+/* Name of an ordering ("amd", "metis", "grid-nd"; "unknown" for another
+ * value); static storage, not to be freed. */
 const char *sol_ordering_name(sol_ordering o);
 
-/* Refuse factorisations whose estimated peak memory (sol_factor_bytes)
- * exceeds bytes (checked by sol_analyse); <= 0: no limit (default). */
+/* Refuse factorisations of system s whose estimated peak memory
+ * (sol_factor_bytes) exceeds bytes (checked by sol_analyse); <= 0: no limit
+ * (default). */
 void sol_set_memory_limit(sol_system *s, double bytes);
 
 /*
- * Symbolic factorisation of the pattern (once per mesh).  Called by the
- * first sol_solve if not called before.  info may be NULL.
+ * Symbolic factorisation of the pattern of s (once per mesh; a second call
+ * does nothing).  Called by the first sol_solve if not called before.
+ *   info: optional (NULL); receives n, nnz, t_analyse, est_peak_bytes and
+ *         ordering.
  * Returns EDDY_OK, EDDY_ERR_NOMEM, EDDY_ERR_SOLVER, EDDY_ERR_TOO_LARGE (the
- * estimated peak memory of one numeric factorisation exceeds the limit).
+ * estimated peak memory of one numeric factorisation exceeds the limit of
+ * sol_set_memory_limit; s is then left without factorisation).
  */
 eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err);
 
@@ -91,55 +133,59 @@ eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err);
  * AMD Cholesky analysis of A + A' instead.  0 for s = NULL. */
 double sol_factor_bytes(const sol_system *s);
 
-/*
- * Workspace of one concurrent solve (matrix values, right-hand side,
- * solution, UMFPACK solve workspaces), sized for system s.  Several
- * workspaces may solve different speeds on one analysed system at the same
- * time, from different threads.  Free with sol_work_free (accepts NULL).
- */
-eddy_status sol_work_alloc(const sol_system *s, sol_work **out, eddy_error *err);
-void sol_work_free(sol_work *w);
-
 /* 1 if several numeric factorisations may run at once in this process: the
  * BLAS under UMFPACK is reentrant (not a sequential OpenBLAS build, which is
- * detected at run time). */
+ * detected at run time); else 0. */
 int sol_concurrency_safe(void);
 
-/* Ask a threaded OpenBLAS for n threads per call (no effect on other BLAS);
- * used so that concurrent speeds do not oversubscribe the cores. */
+/* Ask a threaded OpenBLAS for n >= 1 threads per call (no effect on other
+ * BLAS, nor for n < 1); used so that concurrent speeds do not oversubscribe
+ * the cores. */
 void sol_blas_threads(int n);
 
-/* As sol_solve, with the caller's workspace; s must be analysed already.
- * Thread-safe for distinct workspaces. */
+/*
+ * Solve at speed v (m/s; moving regions move at +v along x) with the
+ * reluctivities of the grid (the initial permeability of saturable cells:
+ * see sol_solve_newton).
+ *   s:    the system; analysed on the first call (sol_analyse).
+ *   a:    output, nx*ny node values of A (Wb/m), index i + nx*j, including
+ *         the boundary nodes (0 on zero boundaries; the periodic copy at
+ *         i = nx-1 equals i = 0).  Caller-owned.
+ *   info: optional statistics (NULL).
+ * Not thread-safe on one system (it uses the system's own workspace; see
+ * sol_work_alloc and sol_solve_work for concurrent speeds).
+ * Returns EDDY_OK, EDDY_ERR_INPUT (a non-finite speed), EDDY_ERR_NOMEM,
+ * EDDY_ERR_SINGULAR, EDDY_ERR_SOLVER, EDDY_ERR_NUMERIC (non-finite values in
+ * the solution), and the errors of sol_analyse.
+ */
+eddy_status sol_solve(sol_system *s, double v, double *a, sol_info *info, eddy_error *err);
+
+/*
+ * As sol_solve, with the caller's workspace w (sol_work_alloc on s); s must
+ * be analysed already (sol_analyse), and is only read.  Thread-safe for
+ * distinct workspaces.  a, info as sol_solve.
+ * Returns as sol_solve, and EDDY_ERR_INTERNAL when s is not analysed.
+ */
 eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a,
                            sol_info *info, eddy_error *err);
 
 /*
- * Write the system matrix and right-hand side at speed v in Matrix Market
- * format (coordinate real general; array real general), so the solve can be
- * checked with another library.  Returns EDDY_OK, EDDY_ERR_IO, EDDY_ERR_NOMEM.
+ * Write the system matrix and right-hand side of s at speed v (m/s) in
+ * Matrix Market format (coordinate real general; array real general), so
+ * the solve can be checked with another library.  Uses a temporary
+ * workspace; s need not be analysed.
+ *   matrix_path, rhs_path: the files to create (overwritten).
+ * Returns EDDY_OK, EDDY_ERR_IO, EDDY_ERR_NOMEM.
  */
 eddy_status sol_export(const sol_system *s, double v, const char *matrix_path,
                        const char *rhs_path, eddy_error *err);
 
-/*
- * Solve at speed v (m/s; moving regions move at +v along x).
- *   a:    output, nx*ny node values of A (Wb/m), index i + nx*j, including
- *         the boundary nodes (0 on zero boundaries; the periodic copy at
- *         i = nx-1 equals i = 0).  Caller-owned.
- *   info: optional statistics.
- * Not thread-safe on one system (it uses the system's own workspace; see
- * sol_work_alloc and sol_solve_work for concurrent speeds).
- * Returns EDDY_OK, EDDY_ERR_NOMEM, EDDY_ERR_SINGULAR, EDDY_ERR_SOLVER,
- * EDDY_ERR_NUMERIC.
- */
-eddy_status sol_solve(sol_system *s, double v, double *a, sol_info *info, eddy_error *err);
-
-/* Bernoulli function B(z) = z / (e^z - 1), B(0) = 1, accurate for all z. */
+/* Bernoulli function B(z) = z / (e^z - 1), B(0) = 1, accurate for all finite
+ * z (sol_assemble.c): the weight of the fitted convective fluxes. */
 double sol_bernoulli(double z);
 
 /* ------------------------------------------------------------------------ */
-/* Saturable materials: B-H curves (sol_bh.c) and Newton-Raphson (sol.c)     */
+/* Saturable materials: B-H curves (sol_bh.c), Newton-Raphson (sol_newton.c) */
 /* ------------------------------------------------------------------------ */
 
 /* The reluctivity nu(b), b = |B|^2, of a B-H curve: monotone cubic H(B)
@@ -165,8 +211,9 @@ typedef struct {
  */
 eddy_status sol_bh_build(const mesh_bh_curve *c, sol_bh *out, eddy_error *err);
 
-/* nu (m/H) and d nu / d b (m/H per T^2) at b = |B|^2 (T^2; negative taken as
- * 0).  The field strength is H = nu |B|, and dH/d|B| = nu + 2 b dnu/db > 0. */
+/* nu (m/H) and d nu / d b (m/H per T^2) of the curve c (from sol_bh_build)
+ * into *nu and *dnu_db2, at b2 = |B|^2 (T^2; negative taken as 0).  The field
+ * strength is H = nu |B|, and dH/d|B| = nu + 2 b dnu/db > 0. */
 void sol_bh_eval(const sol_bh *c, double b2, double *nu, double *dnu_db2);
 
 /* Newton-Raphson defaults: stop at ||R|| <= SOL_NEWTON_TOL ||f|| (R the
@@ -190,7 +237,7 @@ typedef struct {
 
 /* 1 if the grid of s has saturable cells (a B-H curve): solve with
  * sol_solve_newton; sol_solve / sol_solve_work would use the initial
- * permeability only. */
+ * permeability only.  0 otherwise and for s = NULL. */
 int sol_is_nonlinear(const sol_system *s);
 
 /*
@@ -224,117 +271,5 @@ int sol_is_nonlinear(const sol_system *s);
 eddy_status sol_solve_newton(const sol_system *s, sol_work *w, double v, double *a, int warm,
                              double *nu_cells, int max_iter, sol_newton_info *nli,
                              sol_info *info, eddy_error *err);
-
-/* ------------------------------------------------------------------------ */
-/* Layered Fourier reference (sol_ref.c)                                     */
-/*                                                                           */
-/* An independent analytic solution, sharing no discretisation with the grid */
-/* solver: a conducting plate (conductivity sigma, mu_r = 1) fills           */
-/* y_bot <= y <= y_top, infinite along x, moving at +v along x, with free    */
-/* space below and above.  Sources are rectangles above the plate: coils of  */
-/* uniform current density along z, or magnets (mu_r = 1) magnetised along  */
-/* y.  An optional infinitely permeable half-space (a yoke) may close the    */
-/* field above all sources.  Sources are isolated (an integral over the      */
-/* wavenumber k) or repeat with period lambda (a sum over harmonics), both   */
-/* controlled to a relative tolerance.  The derivation is at the top of      */
-/* sol_ref.c.                                                                */
-/* ------------------------------------------------------------------------ */
-
-/* Kind of a reference source. */
-typedef enum {
-    SOL_REF_COIL = 0,   /* uniform current density jz (A/m^2) along +z          */
-    SOL_REF_MAGNET = 1  /* uniform remanence br_y (T) along y, mu_r = 1          */
-} sol_ref_kind;
-
-/* One rectangular source x0 <= x <= x1, y0 <= y <= y1 (m).  It must lie
- * entirely above the plate (y0 >= y_top) and, with a yoke, entirely below
- * the yoke plane (y1 <= y_yoke).  x1 > x0 and y1 > y0.  Only the field that
- * matches `kind` is used: jz for a coil, br_y for a magnet. */
-typedef struct {
-    sol_ref_kind kind;
-    double x0, y0, x1, y1; /* m */
-    double jz;             /* A/m^2, uniform current density along +z (coil)          */
-    double br_y;           /* T, signed remanence along y (magnet): > 0 means +y      */
-} sol_ref_source;
-
-/* The layered problem. */
-typedef struct {
-    double sigma;        /* S/m, plate conductivity, >= 0 (mu_r = 1)                  */
-    double y_bot, y_top; /* m, plate occupies y_bot <= y <= y_top; y_top > y_bot       */
-    int periodic;        /* 0: isolated sources (integral over k);
-                            1: sources repeat along x with period lambda            */
-    double lambda;       /* m, period (> 0, periodic only); all sources must fit in
-                            one period: max(x1) - min(x0) <= lambda                 */
-    int has_yoke;        /* 1: infinitely permeable half-space above y = y_yoke      */
-    double y_yoke;       /* m, yoke plane (has_yoke only); y_yoke >= every source y1 */
-    double rel_tol;      /* target relative accuracy of the k quadrature or of the
-                            harmonic series, 1e-11 <= rel_tol <= 0.1 (e.g. 1e-8)    */
-} sol_ref_problem;
-
-/* Results.  Forces are per metre of depth; per period when periodic. */
-typedef struct {
-    double force_x;  /* N/m, force ON THE PLATE along x; < 0 for v > 0 (drag)           */
-    double force_y;  /* N/m, force ON THE PLATE along y (< 0: plate pushed away from
-                        sources above it), from the Maxwell stress in the gap          */
-    double loss;     /* W/m, integral over the plate of |J|^2 / sigma, computed from the
-                        field inside the plate (not from the force): -force_x * v ==
-                        loss is a real check of the solution                          */
-    double force_y_lorentz; /* N/m, force_y recomputed as the integral of J_z B_x over
-                        the plate from the field inside it; equals force_y to quadrature
-                        accuracy (a second independent check)                         */
-    double err_x, err_y, err_loss, err_y_lorentz; /* estimated absolute quadrature /
-                        series-truncation error of force_x, force_y, loss,
-                        force_y_lorentz                                               */
-    long n_eval;     /* number of harmonic (wavenumber) evaluations used               */
-} sol_ref_result;
-
-/*
- * sol_ref_solve - forces and loss of the plate moving at speed v.
- *
- *   p     problem description (read only, not retained).
- *   src   array of nsrc sources (read only, not retained); nsrc >= 1.
- *   v     m/s, plate speed along +x (sources fixed); any sign.  v = 0 or
- *         sigma = 0 gives zero forces and loss (n_eval = 0).
- *   out   receives the result; always fully written on EDDY_OK and on
- *         EDDY_ERR_NUMERIC, zeroed on EDDY_ERR_INPUT.
- *   err   optional error record (may be NULL).
- *
- * Returns
- *   EDDY_OK            the estimated errors meet rel_tol (relative to each
- *                      result, with a floor of 1e-14 of the force scale).
- *   EDDY_ERR_INPUT     a NULL pointer, a non-finite number, sigma < 0, a plate
- *                      of thickness <= 0, a source not strictly a rectangle,
- *                      not above the plate or not below the yoke, a bad
- *                      kind/periodic/has_yoke flag, lambda <= 0 or sources
- *                      wider than one period, rel_tol out of range, nsrc < 1.
- *   EDDY_ERR_NOMEM     the adaptive interval list could not be allocated.
- *   EDDY_ERR_NUMERIC   the requested accuracy was not reached within the
- *                      evaluation budget (e.g. a magnet touching the plate,
- *                      whose spectrum decays only algebraically); *out holds
- *                      the best estimate and its error estimates.
- *
- * Thread safe; allocates only a temporary interval list.
- */
-eddy_status sol_ref_solve(const sol_ref_problem *p, const sol_ref_source *src, int nsrc,
-                          double v, sol_ref_result *out, eddy_error *err);
-
-
-/*
- * Does a case fit the layered reference geometry, and with what problem?
- * See sol_ref_case.c for the rules (one moving non-magnetic plate spanning
- * the domain, sources along +-y or coils above it, an optional permeable
- * yoke above the sources, nothing else but air; no saturable region).
- *   c:           a validated case.
- *   p:           receives the problem (rel_tol 1e-7).
- *   src, nsrc:   receive a malloc'ed array of sources (caller frees; NULL
- *                unless EDDY_OK).
- *   approximate: set to 1 if a magnet's recoil mu_r (not 1) is taken as 1.
- *   why:         receives the reason when the case does not fit (may be NULL).
- * Returns EDDY_OK (fits), EDDY_ERR_NOT_APPLICABLE (does not fit; why says
- * why), EDDY_ERR_NOMEM.
- */
-eddy_status sol_ref_from_case(const mesh_case *c, sol_ref_problem *p, sol_ref_source **src,
-                              int *nsrc, int *approximate, char *why, size_t why_len,
-                              eddy_error *err);
 
 #endif

@@ -93,7 +93,7 @@
  * Periodic: direct summation until a rigorous upper bound of the remaining
  * tail (|R| < 1, |P| bounded by a decreasing envelope) is below the target.
  */
-#include "solver/sol.h"
+#include "solver/sol_ref.h"
 
 #include <complex.h>
 #include <float.h>

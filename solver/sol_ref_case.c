@@ -18,7 +18,7 @@
  * one period; a zero box is treated as free space (its truncation error is
  * not in the reference).
  */
-#include "solver/sol.h"
+#include "solver/sol_ref.h"
 
 #include <math.h>
 #include <stdio.h>

@@ -10,6 +10,7 @@
 #include <string.h>
 #include <time.h>
 
+#include "solver/sol_ref.h"
 #include "tests/pipeline.h"
 
 /* periodic alternating array over an 8 mm aluminium plate (the validation

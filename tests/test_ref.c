@@ -27,7 +27,7 @@
  *         mu0 I^2/(4 pi h) (image of opposite current at depth h; textbook
  *         method of images; the v -> inf limit of [R70]).
  */
-#include "solver/sol.h"
+#include "solver/sol_ref.h"
 #include "tests/check.h"
 
 #include <math.h>

@@ -12,6 +12,7 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "solver/sol_ref.h"
 #include "tests/check.h"
 #include "tests/pipeline.h"
 

@@ -1,0 +1,54 @@
+/*
+ * mesh_case_int.h - PRIVATE to mesh/: the readers of the sections of a case
+ * file, called in order by the top level (mesh_case.c).  Nothing outside
+ * mesh/ includes this header; the module's manual is mesh/mesh.h.
+ *
+ * Each reader takes the reader state (mesh/mesh_json.h) and the parsed top
+ * level object root (borrowed), fills its part of r->c (lengths converted to
+ * metres with r->c->length_scale, so "length_unit" and "domain" are read
+ * first), and returns EDDY_OK, EDDY_ERR_INPUT with a message that names the
+ * file and the JSON path, or EDDY_ERR_NOMEM.  Arrays they allocate belong to
+ * the case (freed by mesh_case_free, also after an error).
+ *
+ * A new section goes into a new file of mesh/ with its reader declared here.
+ */
+#ifndef EDDY_MESH_CASE_INT_H
+#define EDDY_MESH_CASE_INT_H
+
+#include "mesh/mesh_json.h"
+
+/* Materials, B-H curves, regions (mesh_case_regions.c) */
+
+/* "materials": named materials into r->c->materials (optional section). */
+eddy_status mesh_case_read_materials(mesh_reader *r, const cJSON *root);
+
+/* "regions" (required): boxes with material, motion, magnetisation and
+ * source current into r->c->regions; after the domain and the materials.
+ * Materials named from the built-in library are appended to the case. */
+eddy_status mesh_case_read_regions(mesh_reader *r, const cJSON *root);
+
+/* Operating points and brake design (mesh_case_design.c) */
+
+/* "disc" (optional): a rotating disc; its "rpm" list gives the speeds
+ * (before mesh_case_read_speeds). */
+eddy_status mesh_case_read_disc(mesh_reader *r, const cJSON *root);
+
+/* "speeds": a list, a log-spaced range or an adaptive range (m/s); not
+ * needed when disc.rpm gave them. */
+eddy_status mesh_case_read_speeds(mesh_reader *r, const cJSON *root);
+
+/* "vehicle" (optional): the braked load. */
+eddy_status mesh_case_read_vehicle(mesh_reader *r, const cJSON *root);
+
+/* "end_effect" (optional): finite plate width; after the domain. */
+eddy_status mesh_case_read_end_effect(mesh_reader *r, const cJSON *root);
+
+/* "temperature" (optional, C): the conductivities of the materials at that
+ * temperature; after the materials and regions. */
+eddy_status mesh_case_apply_temperature(mesh_reader *r, const cJSON *root);
+
+/* The vehicle's from_speed must lie within the speeds solved; after the
+ * speeds and the vehicle. */
+eddy_status mesh_case_check_vehicle_speed(mesh_reader *r);
+
+#endif

@@ -1,0 +1,130 @@
+/*
+ * sol_int.h - PRIVATE to solver/: the layout of a system and of a solve
+ * workspace, and the pieces the solver's files share.  Nothing outside
+ * solver/ includes this header; the module's manual is solver/sol.h.
+ *
+ *   sol_pattern.c   unknown numbering, the fixed CSC pattern and its
+ *                   positions, the grid nested-dissection ordering, system
+ *                   and workspace alloc/free
+ *   sol_assemble.c  box integration: the stencil of one cell, the planar
+ *                   assembly, the Bernoulli function
+ *   sol_umf.c       UMFPACK: analysis, numeric factorisation and solve,
+ *                   Matrix Market export, BLAS threads, status translation
+ *   sol_newton.c    Newton-Raphson for saturable cells, with its Jacobian
+ *   sol_bh.c        B-H curve interpolation
+ */
+#ifndef EDDY_SOL_INT_H
+#define EDDY_SOL_INT_H
+
+#include "solver/sol.h"
+
+#include <umfpack.h>
+
+/* The five-point neighbours of an unknown, by direction: itself (centre),
+ * west (-x), east (+x), south (-y), north (+y). */
+enum { DIR_C = 0, DIR_W, DIR_E, DIR_S, DIR_N, NDIR };
+/* Diagonal neighbours, coupled only through saturable cells (Newton). */
+enum { DG_SW = 0, DG_SE, DG_NW, DG_NE, NDIAG };
+
+/* Values and workspaces of one solve: one per thread, allocated once. */
+struct sol_work {
+    double *Ax;      /* matrix values in the system's fixed CSC pattern */
+    double *rhs, *sol;
+    long *Wi;        /* UMFPACK solve workspaces */
+    double *W;
+    /* Newton-Raphson (systems with saturable cells only, else NULL): the
+     * iterate, the step, the residual, a trial iterate (n each), and per
+     * cell nu and d nu / d b at the last evaluated iterate */
+    double *x, *dx, *res, *xt, *nu, *dnu;
+};
+
+struct sol_system {
+    const mesh_grid *g;
+    long n;          /* unknowns */
+    long nxu;        /* unknown columns per grid row */
+    long *unk;       /* nx*ny: unknown index of each node, -1 if fixed */
+    long *Ap, *Ai;   /* CSC pattern */
+    long *pos;       /* n*NDIR: position in Ax of (row u, column neighbour dir) or -1 */
+    long *posd;      /* n*NDIAG: the same for diagonal neighbours; NULL unless the grid
+                      * has saturable cells (their Jacobian couples all four corners) */
+    sol_bh *bh;      /* the grid's B-H curves, interpolated (g->nbh), or NULL */
+    long nsat;       /* saturable cells */
+    sol_work *work;  /* the workspace of sol_solve */
+    void *symbolic;
+    double control[UMFPACK_CONTROL];
+    sol_ordering ordering;
+    double t_analyse;
+    double est_peak_bytes, est_flops, est_lu;  /* from the symbolic analysis */
+    double memory_limit;                       /* bytes; <= 0: no limit */
+};
+
+/* ------------------------------------------------------------------------ */
+/* Box integration (sol_assemble.c)                                          */
+/* ------------------------------------------------------------------------ */
+
+/*
+ * The contribution of one primal cell (i, j) to the box-integration
+ * equations of its four corners, numbered 0: (i, j), 1: (i+1, j),
+ * 2: (i, j+1), 3: (i+1, j+1).  A cell holds four half faces of the dual
+ * cells of its corners:
+ *   - two x half faces, on the bottom edge (corners 0 -> 1) and on the top
+ *     edge (2 -> 3), each carrying the flux from its left corner L to its
+ *     right corner R, exponentially fitted:
+ *         F = gx [ bm A_L - bp A_R ]
+ *   - two y half faces, on the left edge (0 -> 2) and on the right edge
+ *     (1 -> 3), carrying diffusion only:  F = gy (A_lower - A_upper).
+ * A geometry supplies the face conductances (w nu / h: the half face's width
+ * w, the edge length h and the cell's reluctivity, with any metric weight of
+ * its own), the fitted factors and the corners' sources.
+ */
+typedef struct {
+    double gx[2];        /* x half faces, bottom and top edge: w nu / h, m/H */
+    double bm[2], bp[2]; /* B(-Pe), B(Pe) of those faces (1, 1 without motion) */
+    double gy[2];        /* y half faces, left and right edge: w nu / h, m/H */
+    double f[4];         /* right-hand side of each corner's equation, A/m */
+} sol_cell;
+
+/* Add the fluxes of cell (i, j) (0 <= i < ncx, 0 <= j < ncy of s->g) to the
+ * rows of its corners that are unknowns: matrix values into w->Ax through
+ * s->pos, sources into w->rhs.  Within a cell the x half faces are added
+ * before the y half faces, the order of the planar assembly. */
+void sol_assemble_cell(const sol_system *s, sol_work *w, int i, int j, const sol_cell *c);
+
+/* Write the matrix values and right-hand side of the planar problem at speed
+ * v (m/s) into w->Ax and w->rhs (zeroed first), with the reluctivity nuc[k]
+ * (m/H, ncx*ncy) in cell k: g->nu for a linear system, the Newton iterate's
+ * otherwise. */
+void sol_assemble(const sol_system *s, sol_work *w, double v, const double *nuc);
+
+/* ------------------------------------------------------------------------ */
+/* Pattern (sol_pattern.c) and UMFPACK (sol_umf.c)                           */
+/* ------------------------------------------------------------------------ */
+
+/* The geometric nested-dissection order of the unknowns into perm[s->n]
+ * (perm[k] = the unknown eliminated k-th). */
+void sol_grid_nd_order(const sol_system *s, long *perm);
+
+/* The UMFPACK control parameters of a new system into s->control (after
+ * s->n is set). */
+void sol_umf_defaults(sol_system *s);
+
+/* The one place where UMFPACK status codes become eddy_status; what names
+ * the step in the message.  Returns EDDY_OK for success and for the
+ * determinant warnings (the determinant is not used), EDDY_ERR_SINGULAR,
+ * EDDY_ERR_NOMEM, EDDY_ERR_SOLVER. */
+eddy_status sol_umf_status(long st, const char *what, eddy_error *err);
+
+/*
+ * Numeric factorisation of the matrix w->Ax (s analysed) and the solve
+ * A x = b (b, x: s->n entries; x may not alias b), freeing the factors.
+ *   what_factor, what_solve: the steps' names in messages.
+ *   info:      optional; receives lnz, unz, flops, rcond and peak_bytes.
+ *   t_factor, t_solve: receive the two times (s).
+ * Returns EDDY_OK or the status of sol_umf_status.
+ */
+eddy_status sol_umf_factor_solve(const sol_system *s, sol_work *w, const double *b, double *x,
+                                 const char *what_factor, const char *what_solve,
+                                 sol_info *info, double *t_factor, double *t_solve,
+                                 eddy_error *err);
+
+#endif

@@ -1,0 +1,327 @@
+/*
+ * sol_umf.c - the sparse LU solve with UMFPACK: control parameters, the
+ * fill-reducing orderings and the symbolic analysis (once per system, with
+ * its memory estimate and guard), numeric factorisation and solve (once per
+ * speed, on the caller's workspace), Matrix Market export, the BLAS under
+ * UMFPACK, and the one translation of UMFPACK's status codes.
+ */
+#define _GNU_SOURCE /* RTLD_DEFAULT */
+#include "solver/sol_int.h"
+
+#include <dlfcn.h>
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <amd.h>
+
+eddy_status sol_umf_status(long st, const char *what, eddy_error *err)
+{
+    switch (st) {
+    case UMFPACK_OK:
+        return EDDY_OK;
+    case UMFPACK_WARNING_singular_matrix:
+        return EDDY_RAISE(err, EDDY_ERR_SINGULAR,
+                          "%s: the system matrix is singular (is every part of the domain "
+                          "connected to a zero boundary?)", what);
+    case UMFPACK_WARNING_determinant_underflow:
+    case UMFPACK_WARNING_determinant_overflow:
+        return EDDY_OK; /* only the determinant, which is not used */
+    case UMFPACK_ERROR_out_of_memory:
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "%s: UMFPACK ran out of memory", what);
+    default:
+        return EDDY_RAISE(err, EDDY_ERR_SOLVER, "%s: UMFPACK failed with status %ld", what, st);
+    }
+}
+
+void sol_umf_defaults(sol_system *s)
+{
+    umfpack_dl_defaults(s->control);
+    s->control[UMFPACK_STRATEGY] = UMFPACK_STRATEGY_SYMMETRIC;
+    /* Initial size of the numeric factorisation's variable part, in Units
+     * (8 bytes): with a given or METIS ordering UMFPACK would start from 0.7
+     * of its worst-case estimate (27 GiB for 0.78M unknowns, which a
+     * sanitizer or a machine without overcommit refuses); start instead near
+     * the measured fill of these matrices (make bench: 60-110 LU entries per
+     * unknown from 53k to 1M unknowns) and let UMFPACK grow the space. */
+    s->control[UMFPACK_ALLOC_INIT] = -(double)s->n * (8.0 * log2((double)s->n + 2.0) + 20.0);
+}
+
+/* ------------------------------------------------------------------------ */
+/* Concurrent factorisations and the BLAS underneath UMFPACK                 */
+/* ------------------------------------------------------------------------ */
+
+/* UMFPACK calls the system's BLAS.  The reference BLAS is reentrant; a
+ * sequential ("serial") OpenBLAS build is not safe for concurrent callers
+ * (measured here: two speeds factorised at once on Debian's
+ * libopenblas0-serial gave drag values off by up to 1.6 %), and a threaded
+ * OpenBLAS would oversubscribe the cores.  OpenBLAS is recognised at run
+ * time by its exported symbols, without linking to it. */
+typedef int (*blas_get_fn)(void);
+typedef void (*blas_set_fn)(int);
+
+int sol_concurrency_safe(void)
+{
+    blas_get_fn get_parallel = NULL;
+    void *sym = dlsym(RTLD_DEFAULT, "openblas_get_parallel");
+    memcpy(&get_parallel, &sym, sizeof get_parallel);
+    if (get_parallel == NULL)
+        return 1;                /* not OpenBLAS */
+    return get_parallel() != 0; /* 0: sequential build */
+}
+
+void sol_blas_threads(int n)
+{
+    blas_set_fn set_threads = NULL;
+    void *sym = dlsym(RTLD_DEFAULT, "openblas_set_num_threads");
+    memcpy(&set_threads, &sym, sizeof set_threads);
+    if (set_threads != NULL && n >= 1)
+        set_threads(n);
+}
+
+/* ------------------------------------------------------------------------ */
+/* Orderings and the symbolic analysis                                       */
+/* ------------------------------------------------------------------------ */
+
+const char *sol_ordering_name(sol_ordering o)
+{
+    switch (o) {
+    case SOL_ORDER_AMD: return "amd";
+    case SOL_ORDER_METIS: return "metis";
+    case SOL_ORDER_GRID_ND: return "grid-nd";
+    }
+    return "unknown";
+}
+
+void sol_set_ordering(sol_system *s, sol_ordering o)
+{
+    if (s->symbolic != NULL)
+        umfpack_dl_free_symbolic(&s->symbolic);
+    s->ordering = o;
+}
+
+void sol_set_memory_limit(sol_system *s, double bytes) { s->memory_limit = bytes; }
+
+/* UMFPACK's symbolic factorisation in s's ordering: its status into *st,
+ * its statistics into uinfo.  Returns EDDY_OK, or EDDY_ERR_NOMEM when the
+ * given ordering cannot be allocated (no factorisation then). */
+static eddy_status symbolic(sol_system *s, double *uinfo, long *st, eddy_error *err)
+{
+    if (s->ordering == SOL_ORDER_GRID_ND) {
+        long *perm = malloc((size_t)s->n * sizeof *perm);
+        if (perm == NULL)
+            return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the ordering");
+        sol_grid_nd_order(s, perm);
+        s->control[UMFPACK_ORDERING] = UMFPACK_ORDERING_GIVEN;
+        *st = umfpack_dl_qsymbolic(s->n, s->n, s->Ap, s->Ai, NULL, perm, &s->symbolic,
+                                   s->control, uinfo);
+        free(perm);
+    } else {
+        s->control[UMFPACK_ORDERING] =
+            s->ordering == SOL_ORDER_METIS ? UMFPACK_ORDERING_METIS : UMFPACK_ORDERING_AMD;
+        *st = umfpack_dl_symbolic(s->n, s->n, s->Ap, s->Ai, NULL, &s->symbolic, s->control,
+                                  uinfo);
+    }
+    return EDDY_OK;
+}
+
+/* Memory of one numeric factorisation into s->est_lu, s->est_peak_bytes
+ * (and s->est_flops), from the symbolic statistics uinfo. */
+static void estimate_memory(sol_system *s, const double *uinfo)
+{
+    /* The L and U entries the symbolic analysis predicts for diagonal
+     * pivoting (which the fitted scheme's M-matrix allows), at a value and
+     * an index each, plus workspace.  UMFPACK's own peak estimate
+     * (UMFPACK_PEAK_MEMORY_ESTIMATE) assumes worst-case pivoting: 64 GiB for
+     * 0.83M unknowns whose measured peak was under 2 GiB, so it would refuse
+     * every large mesh. */
+    s->est_flops = uinfo[UMFPACK_FLOPS_ESTIMATE];
+    s->est_lu = uinfo[UMFPACK_LNZ_ESTIMATE] + uinfo[UMFPACK_UNZ_ESTIMATE];
+    s->est_peak_bytes = mesh_factor_bytes(s->est_lu, (double)s->n);
+    /* UMFPACK's fill estimate is an upper bound that can be far off (5 GiB
+     * for 0.15M unknowns): take the typical fill of these matrices where it
+     * is smaller (mesh_factor_bytes) */
+    double typical = mesh_factor_bytes(0.0, (double)s->n);
+    if (typical < s->est_peak_bytes) {
+        s->est_lu = (double)s->n * 5.0 * log2((double)s->n + 2.0);
+        s->est_peak_bytes = typical;
+    }
+    if (s->memory_limit > 0 && s->est_peak_bytes > s->memory_limit) {
+        /* a second opinion: the Cholesky fill of A + A' under AMD, which
+         * the measured LU fill of these matrices tracks within 15 % (make
+         * bench: 2.5e7 and 2.9e7 LU entries for AMD and grid-nd at 0.29M
+         * unknowns) */
+        long *perm = malloc((size_t)s->n * sizeof *perm);
+        double ainfo[AMD_INFO];
+        if (perm != NULL &&
+            amd_l_order(s->n, s->Ap, s->Ai, perm, NULL, ainfo) >= AMD_OK) {
+            s->est_lu = 2.0 * ainfo[AMD_LNZ] + (double)s->n;
+            s->est_peak_bytes = mesh_factor_bytes(s->est_lu, (double)s->n);
+        }
+        free(perm);
+    }
+}
+
+eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err)
+{
+    if (s->symbolic != NULL)
+        return EDDY_OK;
+    double t0 = eddy_now(), uinfo[UMFPACK_INFO];
+    long st = UMFPACK_OK;
+    eddy_status es = symbolic(s, uinfo, &st, err);
+    if (es != EDDY_OK)
+        return es;
+    s->t_analyse = eddy_now() - t0;
+    estimate_memory(s, uinfo);
+    if (info != NULL) {
+        info->n = s->n;
+        info->nnz = s->Ap[s->n];
+        info->t_analyse = s->t_analyse;
+        info->est_peak_bytes = s->est_peak_bytes;
+        info->ordering = sol_ordering_name(s->ordering);
+    }
+    if (st != UMFPACK_OK) {
+        s->symbolic = NULL;
+        return sol_umf_status(st, "symbolic factorisation", err);
+    }
+    if (s->memory_limit > 0 && s->est_peak_bytes > s->memory_limit) {
+        umfpack_dl_free_symbolic(&s->symbolic);
+        return EDDY_RAISE(err, EDDY_ERR_TOO_LARGE,
+                          "the factorisation of %ld unknowns would need about %.2f GiB (from "
+                          "UMFPACK's fill estimate), more than the %.2f GiB allowed; coarsen the "
+                          "mesh or raise the limit (--max-memory)",
+                          s->n, s->est_peak_bytes / 1073741824.0, s->memory_limit / 1073741824.0);
+    }
+    return EDDY_OK;
+}
+
+double sol_factor_bytes(const sol_system *s) { return s != NULL ? s->est_peak_bytes : 0.0; }
+
+/* ------------------------------------------------------------------------ */
+/* Numeric factorisation and solve                                           */
+/* ------------------------------------------------------------------------ */
+
+eddy_status sol_umf_factor_solve(const sol_system *s, sol_work *w, const double *b, double *x,
+                                 const char *what_factor, const char *what_solve,
+                                 sol_info *info, double *t_factor, double *t_solve,
+                                 eddy_error *err)
+{
+    double t1 = eddy_now(), uinfo[UMFPACK_INFO];
+    void *numeric = NULL;
+    long ust = umfpack_dl_numeric(s->Ap, s->Ai, w->Ax, s->symbolic, &numeric, s->control, uinfo);
+    double t2 = eddy_now();
+    *t_factor = t2 - t1;
+    if (info != NULL) {
+        info->lnz = uinfo[UMFPACK_LNZ];
+        info->unz = uinfo[UMFPACK_UNZ];
+        info->flops = uinfo[UMFPACK_FLOPS];
+        info->rcond = uinfo[UMFPACK_RCOND];
+        info->peak_bytes = uinfo[UMFPACK_PEAK_MEMORY] * uinfo[UMFPACK_SIZE_OF_UNIT];
+    }
+    eddy_status st = sol_umf_status(ust, what_factor, err);
+    if (st == EDDY_OK) {
+        ust = umfpack_dl_wsolve(UMFPACK_A, s->Ap, s->Ai, w->Ax, x, b, numeric, s->control, uinfo,
+                                w->Wi, w->W);
+        st = sol_umf_status(ust, what_solve, err);
+    }
+    umfpack_dl_free_numeric(&numeric);
+    *t_solve = eddy_now() - t2;
+    return st;
+}
+
+/* The node values a (nx*ny) from the unknowns x: 0 on the fixed nodes. */
+static eddy_status scatter_solution(const sol_system *s, const double *x, double *a,
+                                    eddy_error *err)
+{
+    const mesh_grid *g = s->g;
+    size_t nn = (size_t)g->nx * (size_t)g->ny;
+    for (size_t k = 0; k < nn; k++) {
+        long u = s->unk[k];
+        a[k] = u >= 0 ? x[u] : 0.0;
+        if (!isfinite(a[k]))
+            return EDDY_RAISE(err, EDDY_ERR_NUMERIC, "the solution holds non-finite values");
+    }
+    return EDDY_OK;
+}
+
+eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a,
+                           sol_info *info, eddy_error *err)
+{
+    if (!isfinite(v))
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "speed must be finite");
+    if (s->symbolic == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_INTERNAL, "sol_solve_work before sol_analyse");
+    double t0 = eddy_now();
+    sol_assemble(s, w, v, s->g->nu);
+    double t_asm = eddy_now() - t0, t_fac = 0.0, t_sol = 0.0;
+    eddy_status st = sol_umf_factor_solve(s, w, w->rhs, w->sol, "numeric factorisation", "solve",
+                                          info, &t_fac, &t_sol, err);
+    if (info != NULL) {
+        info->n = s->n;
+        info->nnz = s->Ap[s->n];
+        info->t_analyse = s->t_analyse;
+        info->t_assemble = t_asm;
+        info->t_factor = t_fac;
+        info->t_solve = t_sol;
+        info->est_peak_bytes = s->est_peak_bytes;
+        info->ordering = sol_ordering_name(s->ordering);
+    }
+    if (st != EDDY_OK)
+        return st;
+    return scatter_solution(s, w->sol, a, err);
+}
+
+eddy_status sol_solve(sol_system *s, double v, double *a, sol_info *info, eddy_error *err)
+{
+    eddy_status st = sol_analyse(s, info, err);
+    if (st != EDDY_OK)
+        return st;
+    return sol_solve_work(s, s->work, v, a, info, err);
+}
+
+/* ------------------------------------------------------------------------ */
+/* Matrix Market export                                                      */
+/* ------------------------------------------------------------------------ */
+
+/* Write a CSC matrix or a vector in Matrix Market coordinate / array form. */
+static eddy_status write_mm(const char *path, const sol_system *s, const sol_work *w, int matrix,
+                            double v, eddy_error *err)
+{
+    FILE *f = fopen(path, "w");
+    if (f == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot create", path);
+    if (matrix) {
+        fprintf(f, "%%%%MatrixMarket matrix coordinate real general\n"
+                   "%% eddy2d %s system matrix at speed %.17g m/s (box integration, fitted "
+                   "convection)\n%ld %ld %ld\n",
+                EDDY_VERSION, v, s->n, s->n, s->Ap[s->n]);
+        for (long c = 0; c < s->n; c++)
+            for (long q = s->Ap[c]; q < s->Ap[c + 1]; q++)
+                fprintf(f, "%ld %ld %.17g\n", s->Ai[q] + 1, c + 1, w->Ax[q]);
+    } else {
+        fprintf(f, "%%%%MatrixMarket matrix array real general\n"
+                   "%% eddy2d %s right-hand side at speed %.17g m/s\n%ld 1\n",
+                EDDY_VERSION, v, s->n);
+        for (long r = 0; r < s->n; r++)
+            fprintf(f, "%.17g\n", w->rhs[r]);
+    }
+    if (ferror(f) | (fclose(f) != 0))
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: write failed", path);
+    return EDDY_OK;
+}
+
+eddy_status sol_export(const sol_system *s, double v, const char *matrix_path,
+                       const char *rhs_path, eddy_error *err)
+{
+    sol_work *w = NULL;
+    eddy_status st = sol_work_alloc(s, &w, err);
+    if (st != EDDY_OK)
+        return st;
+    sol_assemble(s, w, v, s->g->nu);
+    st = write_mm(matrix_path, s, w, 1, v, err);
+    if (st == EDDY_OK)
+        st = write_mm(rhs_path, s, w, 0, v, err);
+    sol_work_free(w);
+    return st;
+}
