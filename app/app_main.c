@@ -53,6 +53,7 @@ static void usage(FILE *out)
             "  --max-memory G  memory the run may use in GiB: a mesh or factorisation\n"
             "                  estimated above it is refused (default: half the memory\n"
             "                  available; check uses it too)\n"
+            "  --debug         errors also name the source file and line that raised them\n"
             "  --export-matrix DIR  also write the system matrix and right-hand side of\n"
             "                  every speed in Matrix Market format into DIR\n"
             "\n"
@@ -60,9 +61,16 @@ static void usage(FILE *out)
             EDDY_VERSION);
 }
 
+/* --debug: errors also name the source file and line of the check that
+ * raised them. */
+static int debug_errors;
+
 static int fail(eddy_status s, const eddy_error *err)
 {
     fprintf(stderr, "eddy2d: error: %s\n", err->msg[0] ? err->msg : eddy_strerror(s));
+    if (debug_errors && err->file != NULL)
+        fprintf(stderr, "eddy2d: (raised at %s:%d, status %d: %s)\n", err->file, err->line,
+                (int)err->status, eddy_strerror(err->status));
     return eddy_exit_code(s);
 }
 
@@ -300,6 +308,8 @@ int main(int argc, char **argv)
             opts.reference = 0;
         } else if (strcmp(argv[k], "-q") == 0) {
             quiet = 1;
+        } else if (strcmp(argv[k], "--debug") == 0) {
+            debug_errors = 1;
         } else if (strcmp(argv[k], "--help") == 0) {
             usage(stdout);
             return 0;

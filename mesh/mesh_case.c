@@ -235,6 +235,7 @@ static eddy_status parse_root(mesh_reader *r, const cJSON *root)
     MESH_TRY(mesh_case_read_end_effect(r, root));
     MESH_TRY(mesh_case_apply_temperature(r, root));
     MESH_TRY(mesh_case_check_vehicle_speed(r));
+    MESH_TRY(mesh_case_check_plausible(r, root));
     if (cJSON_GetObjectItemCaseSensitive(root, "variants") != NULL)
         MESH_TRY(mesh_json_warn(r, "%s: variants: ignored here; `eddy2d batch` expands them into "
                                    "cases", r->fname));

@@ -189,6 +189,15 @@ eddy_status mesh_case_read_disc(mesh_reader *r, const cJSON *root)
                                  "missing: required unless the domain is periodic");
         h->periods = 2.0 * EDDY_PI * h->mean_radius / (c->x1 - c->x0);
     }
+    /* a real disc carries a whole number of pole pairs (periods) */
+    if (fabs(h->periods - round(h->periods)) > 1e-6 * h->periods)
+        MESH_TRY(mesh_json_warn(r, "%s: disc.periods: %.4g periods around the disc%s is not a "
+                                   "whole number of pole pairs; give disc.periods (e.g. %.0f) or "
+                                   "a period that divides the circumference 2 pi x %g %s",
+                                r->fname, h->periods,
+                                has ? "" : " (circumference / period of the domain)",
+                                fmax(1.0, round(h->periods)), h->mean_radius / c->length_scale,
+                                c->length_unit));
     const cJSON *rpm = cJSON_GetObjectItemCaseSensitive(d, "rpm");
     if (rpm == NULL)
         return EDDY_OK;

@@ -51,4 +51,10 @@ eddy_status mesh_case_apply_temperature(mesh_reader *r, const cJSON *root);
  * speeds and the vehicle. */
 eddy_status mesh_case_check_vehicle_speed(mesh_reader *r);
 
+/* Plausibility (mesh_case_check.c), last: unique region names, speeds below
+ * the speed of light, remanence a magnet can have (errors), and warnings
+ * for fast speeds, strong remanence, sizes that look like a slip of the
+ * unit and a net source current in a zero box. */
+eddy_status mesh_case_check_plausible(mesh_reader *r, const cJSON *root);
+
 #endif

@@ -15,6 +15,13 @@
 /* Relative tolerance (of the domain size) for "on the domain edge". */
 #define EDGE_TOL 1e-9
 
+/* Bounds of single values, far outside any brake or damper (this project's
+ * choice): they keep every product finite downstream. */
+#define MAX_CURRENT 1e9          /* A */
+#define MAX_CURRENT_DENSITY 1e12 /* A/m^2 */
+#define MAX_BH_H 1e9             /* A/m */
+#define MAX_BH_B 100.0           /* T */
+
 /* "bh_curve": [[H, B], ...] in A/m and T: at least 3 points counting the
  * origin, which is added when the curve does not start there; H and B finite
  * and strictly increasing (a curve that is not monotone has no unique
@@ -39,6 +46,9 @@ static eddy_status read_bh_curve(mesh_reader *r, const cJSON *item, const char *
         if (hb[0] < 0.0 || hb[1] < 0.0)
             return mesh_json_bad(r, p, "H and B must not be negative (got %g A/m, %g T)", hb[0],
                                  hb[1]);
+        if (hb[0] > MAX_BH_H || hb[1] > MAX_BH_B)
+            return mesh_json_bad(r, p, "[%g A/m, %g T] is beyond any measured B-H curve (at most "
+                                       "%g A/m and %g T)", hb[0], hb[1], MAX_BH_H, MAX_BH_B);
         if (n >= MESH_BH_MAX)
             return mesh_json_bad(r, path, "too many points (%d given, at most %d counting the "
                                           "origin)", len, MESH_BH_MAX);
@@ -223,6 +233,12 @@ static eddy_status read_region_angle(mesh_reader *r, const cJSON *e, const char 
     double deg = 90.0;
     int has_angle = 0;
     MESH_TRY(mesh_json_number(r, e, "magnetization_angle", p, 0, &deg, &has_angle));
+    if (!(fabs(deg) <= 360.0)) {
+        char q[128];
+        snprintf(q, sizeof q, "%s.magnetization_angle", p);
+        return mesh_json_bad(r, q, "%g degrees: give the direction between -360 and 360 degrees "
+                                   "from +x", deg);
+    }
     g->mag_angle = deg * EDDY_PI / 180.0;
     if (mat != NULL && mat->br > 0.0 && !has_angle) {
         char q[128];
@@ -247,8 +263,24 @@ static eddy_status read_region_current(mesh_reader *r, const cJSON *e, const cha
     MESH_TRY(mesh_json_number(r, e, "current_density", p, 0, &cd, &has_cd));
     if (has_cur && has_cd)
         return mesh_json_bad(r, p, "give either \"current\" or \"current_density\", not both");
+    /* bounds far beyond any coil of a brake or damper (this project's
+     * choice), so that every later product stays finite: a megaampere-scale
+     * coil is at most 1e9 A, a superconducting winding about 1e9 A/m^2 */
+    if (!(fabs(cur) <= MAX_CURRENT) || !(fabs(cd) <= MAX_CURRENT_DENSITY)) {
+        char q[128];
+        snprintf(q, sizeof q, "%s.%s", p, has_cur ? "current" : "current_density");
+        return mesh_json_bad(r, q, "%g %s is beyond any coil (at most %g A or %g A/m^2)",
+                             has_cur ? cur : cd, has_cur ? "A" : "A/m^2", MAX_CURRENT,
+                             MAX_CURRENT_DENSITY);
+    }
     g->jz = has_cd ? cd : has_cur ? cur / ((g->box[2] - g->box[0]) * (g->box[3] - g->box[1]))
                                   : 0.0;
+    if (!(fabs(g->jz) <= MAX_CURRENT_DENSITY)) {
+        char q[128];
+        snprintf(q, sizeof q, "%s.current", p);
+        return mesh_json_bad(r, q, "%g A over this box is %g A/m^2, beyond any coil (at most "
+                                   "%g A/m^2)", cur, g->jz, MAX_CURRENT_DENSITY);
+    }
     *given = has_cur || has_cd;
     return EDDY_OK;
 }

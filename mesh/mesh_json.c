@@ -11,14 +11,60 @@
 #include <stdlib.h>
 #include <string.h>
 
-eddy_status mesh_json_bad(mesh_reader *r, const char *path, const char *fmt, ...)
+eddy_status mesh_json_bad_at(mesh_reader *r, const char *file, int line, const char *path,
+                             const char *fmt, ...)
 {
     char what[768];
     va_list ap;
     va_start(ap, fmt);
     vsnprintf(what, sizeof what, fmt, ap);
     va_end(ap);
-    return EDDY_RAISE(r->err, EDDY_ERR_INPUT, "%s: %s: %s", r->fname, path, what);
+    return eddy_raise(r->err, EDDY_ERR_INPUT, file, line, "%s: %s: %s", r->fname, path, what);
+}
+
+/* Edit distance (insertions, deletions, substitutions, and transpositions
+ * of neighbours: the optimal string alignment distance) between a and b,
+ * capped at 99 for strings longer than 63 characters. */
+static int edit_distance(const char *a, const char *b)
+{
+    size_t la = strlen(a), lb = strlen(b);
+    if (la > 63 || lb > 63)
+        return 99;
+    int d[64][64];
+    for (size_t i = 0; i <= la; i++)
+        d[i][0] = (int)i;
+    for (size_t j = 0; j <= lb; j++)
+        d[0][j] = (int)j;
+    for (size_t i = 1; i <= la; i++)
+        for (size_t j = 1; j <= lb; j++) {
+            int cost = a[i - 1] != b[j - 1];
+            int v = d[i - 1][j] + 1;
+            if (d[i][j - 1] + 1 < v)
+                v = d[i][j - 1] + 1;
+            if (d[i - 1][j - 1] + cost < v)
+                v = d[i - 1][j - 1] + cost;
+            if (i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] &&
+                d[i - 2][j - 2] + 1 < v)
+                v = d[i - 2][j - 2] + 1;
+            d[i][j] = v;
+        }
+    return d[la][lb];
+}
+
+/* The allowed key closest to key, if it is near enough to be a misspelling
+ * (at most 2 edits, and fewer than a third of its letters), else NULL. */
+static const char *closest_key(const char *key, const char *const *allowed)
+{
+    const char *best = NULL;
+    int bestd = 99;
+    for (int k = 0; allowed != NULL && allowed[k] != NULL; k++) {
+        int dist = edit_distance(key, allowed[k]);
+        if (dist < bestd) {
+            bestd = dist;
+            best = allowed[k];
+        }
+    }
+    return best != NULL && bestd <= 2 && 3 * bestd < (int)strlen(best) ? best : NULL;
 }
 
 eddy_status mesh_json_warn(mesh_reader *r, const char *fmt, ...)
@@ -49,8 +95,11 @@ eddy_status mesh_json_check_keys(mesh_reader *r, const cJSON *obj, const char *p
             if (strcmp(a->string, allowed[k]) == 0)
                 known = 1;
         if (!known) {
-            eddy_status s = mesh_json_warn(r, "%s: %s: unknown key \"%s\" ignored", r->fname,
-                                           path, a->string);
+            const char *near = closest_key(a->string, allowed);
+            eddy_status s = mesh_json_warn(r, "%s: %s%sunknown key \"%s\" ignored%s%s%s",
+                                           r->fname, path, path[0] ? ": " : "", a->string,
+                                           near != NULL ? " (did you mean \"" : "",
+                                           near != NULL ? near : "", near != NULL ? "\"?)" : "");
             if (s != EDDY_OK)
                 return s;
         }

@@ -37,10 +37,13 @@ typedef struct {
     } while (0)
 
 /* Raise EDDY_ERR_INPUT with the message "<file>: <path>: <fmt ...>" (at most
- * 768 characters from fmt).  Returns EDDY_ERR_INPUT. */
-eddy_status mesh_json_bad(mesh_reader *r, const char *path, const char *fmt, ...)
+ * 768 characters from fmt), recording the source file and line of the check
+ * that called it (shown by `eddy2d ... --debug`).  Returns EDDY_ERR_INPUT. */
+#define mesh_json_bad(r, path, ...) mesh_json_bad_at((r), __FILE__, __LINE__, (path), __VA_ARGS__)
+eddy_status mesh_json_bad_at(mesh_reader *r, const char *file, int line, const char *path,
+                             const char *fmt, ...)
 #if defined(__GNUC__)
-    __attribute__((format(printf, 3, 4)))
+    __attribute__((format(printf, 5, 6)))
 #endif
     ;
 
@@ -54,7 +57,8 @@ eddy_status mesh_json_warn(mesh_reader *r, const char *fmt, ...)
     ;
 
 /* Check the keys of the object obj at path: a key given twice is an error
- * (ambiguous), a key not in allowed a warning.  allowed: NULL-terminated list,
+ * (ambiguous), a key not in allowed a warning that names the closest allowed
+ * key when one is near (a misspelling: "did you mean ...").  allowed: NULL-terminated list,
  * or NULL to accept any key.  Returns EDDY_OK, EDDY_ERR_INPUT, EDDY_ERR_NOMEM. */
 eddy_status mesh_json_check_keys(mesh_reader *r, const cJSON *obj, const char *path,
                                  const char *const *allowed);

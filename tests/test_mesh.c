@@ -170,9 +170,61 @@ static const bad_case bad_cases[] = {
     {"no regions", "{" DOM ",\"regions\":[],\"speeds\":[1]}", "regions: must not be empty"},
     /* the case reader applies the one sigma(T) rule of design/ (its range and
      * its resistivity floor), not limits of its own */
+    /* values that would pass a type check but no device has (the reader's
+     * bounds, this project's choice): caught with the JSON path, exit 2 */
+    {"absurd magnetisation angle", "{" DOM ",\"regions\":[" PLATE ",{\"material\":\"ndfeb_42\",\"box\":[2,1,8,2],\"magnetization_angle\":1e308}],\"speeds\":[1]}", "regions[1].magnetization_angle: 1e+308 degrees"},
+    {"absurd current", "{" DOM ",\"regions\":[" PLATE ",{\"box\":[2,1,3,2],\"current\":1e300}],\"speeds\":[1]}", "regions[1].current: 1e+300 A is beyond any coil"},
+    {"absurd B-H point", "{" DOM ",\"materials\":{\"s\":{\"bh_curve\":[[100,1],[1e300,1e300]]}},\"regions\":[" PLATE ",{\"material\":\"s\",\"box\":[2,1,8,2]}],\"speeds\":[1]}", "materials.s.bh_curve[1]: [1e+300 A/m, 1e+300 T] is beyond any measured B-H curve"},
+    {"speed above the speed of light", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1,4e8]}", "speeds[1]: 4e+08 m/s is not below the speed of light"},
+    {"remanence of 1e6 T", "{" DOM ",\"materials\":{\"m\":{\"remanence\":1e6}},\"regions\":[" PLATE ",{\"material\":\"m\",\"box\":[2,1,8,2],\"magnetization_angle\":90}],\"speeds\":[1]}", "materials.m.remanence: 1e+06 T: no permanent magnet comes near this"},
+    {"duplicate region names", "{" DOM ",\"regions\":[{\"name\":\"a\",\"material\":\"copper_annealed\",\"box\":[0,-2,10,0],\"moving\":true},{\"name\":\"a\",\"material\":\"ndfeb_42\",\"box\":[2,1,8,2],\"magnetization_angle\":90}],\"speeds\":[1]}", "regions[1].name: \"a\" is also the name of regions[0]; region names must be unique"},
     {"temperature above the linear model", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"temperature\":1200}", "temperature: 1200 C is outside the linear resistivity model (-200 to 1000 C)"},
     {"resistivity below the linear law's floor", "{" DOM ",\"materials\":{\"m\":{\"conductivity\":1e7,\"temperature_coefficient\":0.01}},\"regions\":[{\"material\":\"m\",\"box\":[0,-2,10,0],\"moving\":true}],\"speeds\":[1],\"temperature\":-80}", "temperature: material \"m\": 1 + alpha (T - 20 C) = 0 for alpha = 0.01 1/K at -80 C"},
 };
+
+/* Warnings a new user needs: each case reads (exit 0) and its warnings
+ * (printed, and kept in result.json) hold the fragment. */
+static void test_warnings(void)
+{
+    static const struct {
+        const char *what, *json, *expect;
+    } cases[] = {
+        {"a misspelt key names the closest valid one",
+         "{" DOM ",\"regions\":[" PLATE ",{\"material\":\"ndfeb_42\",\"box\":[2,1,8,2],"
+         "\"magnetization_angle\":90,\"magnetisation_angle\":90}],\"speeds\":[1]}",
+         "unknown key \"magnetisation_angle\" ignored (did you mean \"magnetization_angle\"?)"},
+        {"a domain of 1000 m without a length unit",
+         "{\"domain\":{\"x\":[-500,500],\"y\":[-300,300]},\"regions\":[{\"material\":"
+         "\"copper_annealed\",\"box\":[-500,-2,500,0],\"moving\":true}],\"speeds\":[1]}",
+         "domain: 1000 m across with no length_unit"},
+        {"a vehicle depth of 0.3 in a millimetre case",
+         "{\"length_unit\":\"mm\"," DOM ",\"regions\":[" PLATE "," MAG "],\"speeds\":[1,10],"
+         "\"vehicle\":{\"mass\":10,\"depth\":0.3,\"from_speed\":10,\"to_speed\":1}}",
+         "vehicle.depth: 0.3 mm is 0.3 mm of magnet overlap"},
+        {"a net-current coil in a zero box",
+         "{" DOM ",\"regions\":[" PLATE ",{\"box\":[4,1,5,2],\"current\":100}],\"speeds\":[1]}",
+         "net source current 100 A, zero sides 5 m away"},
+        {"a disc with a fractional number of pole pairs",
+         "{\"domain\":{\"x\":[0,10],\"y\":[-5,5],\"x_boundary\":\"periodic\"},\"regions\":"
+         "[" PLATE "," MAG "],\"speeds\":[1],\"disc\":{\"mean_radius\":37.5,"
+         "\"active_length\":1}}",
+         "disc.periods: 23.56 periods around the disc (circumference / period of the domain) is "
+         "not a whole number of pole pairs"},
+    };
+    for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {
+        eddy_error err = {0};
+        mesh_case *c = NULL;
+        eddy_status s = mesh_case_parse(cases[k].json, "warn.json", &c, &err);
+        int found = 0;
+        for (int w = 0; s == EDDY_OK && w < c->nwarn; w++)
+            found = found || strstr(c->warnings[w], cases[k].expect) != NULL;
+        char name[200];
+        snprintf(name, sizeof name, "warning: %s", cases[k].what);
+        check(s == EDDY_OK && found, name, "%s",
+              s != EDDY_OK ? err.msg : c->nwarn > 0 ? c->warnings[c->nwarn - 1] : "no warning");
+        mesh_case_free(c);
+    }
+}
 
 static void test_bad_inputs(void)
 {
@@ -196,6 +248,7 @@ static void test_bad_inputs(void)
     check(s == EDDY_OK && c->nwarn == 1 && strstr(c->warnings[0], "colour") != NULL,
           "an unknown key gives a warning", "%s", c != NULL && c->nwarn ? c->warnings[0] : err.msg);
     mesh_case_free(c);
+    test_warnings();
     s = mesh_case_load("/nonexistent/case.json", &c, &err);
     check(s == EDDY_ERR_IO && c == NULL, "a missing file is an I/O error", "%s", err.msg);
 }
