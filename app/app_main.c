@@ -165,17 +165,38 @@ static void progress_line(void *ctx, int k, int n, const post_forces *f)
         fprintf(stderr, "\n");
 }
 
+/* The numbers without a sign where they are zero ("-0" reads as a sign). */
+static double unsigned_zero(double v) { return v == 0.0 ? 0.0 : v; }
+
+/* The table of the run: the columns of every case, then what the case asked
+ * for (a disc's rpm, torque and power; the end-corrected drag; the
+ * reference drag). */
 static void print_table(const app_report *r)
 {
+    const mesh_case *c = r->c;
     int ref = r->ref_drag != NULL && r->g != NULL;
-    printf("%12s %14s %14s %14s %14s %10s%s\n", "speed m/s", "drag N/m", "normal N/m", "loss W/m",
-           r->g != NULL ? "stress drag" : "drag (ref)", "Rm", ref ? "    reference drag" : "");
+    int disc = c->disc.present, end = c->end_effect.present;
+    printf("%12s %14s %14s %14s %14s %10s", "speed m/s", "drag N/m", "normal N/m", "loss W/m",
+           r->g != NULL ? "stress drag" : "drag (ref)", "Rm");
+    if (disc)
+        printf(" %10s %12s %12s", "rpm", "torque N m", "power W");
+    if (end)
+        printf(" %14s", "drag end-corr");
+    if (ref)
+        printf(" %18s", "reference drag");
+    printf("\n");
     for (int k = 0; k < r->npoint; k++) {
         const post_forces *f = &r->f[k];
-        printf("%12.5g %14.6g %14.6g %14.6g %14.6g %10.4g", f->speed, f->drag, f->force_y, f->loss,
-               f->drag_stress, f->magnetic_reynolds);
+        printf("%12.5g %14.6g %14.6g %14.6g %14.6g %10.4g", unsigned_zero(f->speed),
+               unsigned_zero(f->drag), unsigned_zero(f->force_y), unsigned_zero(f->loss),
+               unsigned_zero(f->drag_stress), unsigned_zero(f->magnetic_reynolds));
+        if (disc)
+            printf(" %10.5g %12.6g %12.6g", unsigned_zero(f->rpm), unsigned_zero(f->torque),
+                   unsigned_zero(f->power));
+        if (end)
+            printf(" %14.6g", unsigned_zero(f->drag_end_corrected));
         if (ref)
-            printf(" %18.6g", r->ref_drag[k]);
+            printf(" %18.6g", unsigned_zero(r->ref_drag[k]));
         printf("\n");
     }
 }

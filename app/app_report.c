@@ -49,7 +49,7 @@ static void json_push(cJSON *a, cJSON *item)
 static void add_num(cJSON *o, const char *key, double v)
 {
     if (isfinite(v))
-        J(cJSON_AddNumberToObject(o, key, v));
+        J(cJSON_AddNumberToObject(o, key, v == 0.0 ? 0.0 : v)); /* never "-0" */
     else
         J(cJSON_AddNullToObject(o, key));
 }
@@ -199,6 +199,8 @@ static cJSON *build_json(const app_report *r)
         add_num(p, "loss", f->loss);
         add_num(p, "low_speed_drag", f->low_speed_drag);
         add_num(p, "magnetic_reynolds", f->magnetic_reynolds);
+        if (g != NULL)
+            add_num(p, "magnetic_reynolds_wavelength", f->magnetic_reynolds_wave);
         add_num(p, "peak_current_density", f->j_peak);
         if (g != NULL) {
             add_num(p, "loss_density_peak", f->loss_density_peak);
@@ -248,9 +250,30 @@ static cJSON *build_json(const app_report *r)
     return root;
 }
 
+/* Which magnetic Reynolds number the drag peak follows: the thickness one
+ * for a thin plate (k t < 1; the thin-sheet law puts the peak at
+ * mu0 sigma t v = 2, Reitz 1970), the wavelength one for a thick plate
+ * (k t > 1; the peak near mu0 sigma v / k of order 1, from the layered
+ * solution's gamma = sqrt(k^2 + i k mu0 sigma v)). */
+static void add_reynolds_rule(cJSON *root, const app_report *r)
+{
+    const mesh_grid *g = r->g;
+    double t = g->jm1 > g->jm0 ? g->y[g->jm1] - g->y[g->jm0] : 0.0;
+    double kt = g->k_dominant * t;
+    cJSON *m = J(cJSON_AddObjectToObject(root, "magnetic_reynolds_rule"));
+    add_num(m, "wavenumber_times_thickness", kt);
+    J(cJSON_AddStringToObject(
+        m, "peak_follows",
+        kt < 1.0 ? "magnetic_reynolds (thickness): a thin plate, k t < 1; the thin-sheet drag "
+                   "peaks at mu0 sigma t v = 2"
+                 : "magnetic_reynolds_wavelength (mu0 sigma v / k): a thick plate, k t > 1; the "
+                   "drag peaks where it is of order 1"));
+}
+
 static void add_mesh(cJSON *root, const app_report *r)
 {
     const mesh_grid *g = r->g;
+    add_reynolds_rule(root, r);
     cJSON *mesh = J(cJSON_AddObjectToObject(root, "mesh"));
     J(cJSON_AddNumberToObject(mesh, "nodes_x", g->nx));
     J(cJSON_AddNumberToObject(mesh, "nodes_y", g->ny));
@@ -277,26 +300,64 @@ static void add_mesh(cJSON *root, const app_report *r)
 }
 
 
+/* A CSV number: %.10g, NaN and infinities as empty fields, -0 as 0. */
+static void csv_num(eddy_text *b, double v)
+{
+    if (isfinite(v))
+        eddy_text_printf(b, ",%.10g", v == 0.0 ? 0.0 : v);
+    else
+        eddy_text_str(b, ",");
+}
+
+/* forces.csv: the columns every case has, then what the case asked for: a
+ * disc's rpm, torque and power, the end-corrected drag, the reference. */
 static eddy_status write_csv(const char *dir, const app_report *r, eddy_error *err)
 {
-    size_t cap = 512 + (size_t)r->npoint * 256, len = 0;
-    char *buf = malloc(cap);
-    if (buf == NULL)
-        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-    len += (size_t)snprintf(buf + len, cap - len,
-                            "speed_m_per_s,drag_force_N_per_m,force_x_N_per_m,force_y_N_per_m,"
-                            "drag_force_stress_N_per_m,loss_W_per_m,low_speed_drag_N_per_m,"
-                            "magnetic_reynolds\n");
+    const mesh_case *c = r->c;
+    int disc = c->disc.present, end = c->end_effect.present;
+    int ref = r->ref_drag != NULL && r->g != NULL;
+    eddy_text b = {0};
+    eddy_text_str(&b, "speed_m_per_s,drag_force_N_per_m,force_x_N_per_m,force_y_N_per_m,"
+                      "drag_force_stress_N_per_m,loss_W_per_m,low_speed_drag_N_per_m,"
+                      "magnetic_reynolds");
+    if (disc)
+        eddy_text_str(&b, ",rpm,torque_N_m,power_W");
+    if (end)
+        eddy_text_str(&b, ",drag_force_end_corrected_N_per_m");
+    if (ref)
+        eddy_text_str(&b, ",reference_drag_N_per_m,reference_force_y_N_per_m");
+    eddy_text_str(&b, "\n");
     for (int k = 0; k < r->npoint; k++) {
         const post_forces *f = &r->f[k];
-        len += (size_t)snprintf(buf + len, cap - len, "%.10g,%.10g,%.10g,%.10g,%.10g,%.10g,%.10g,%.6g\n",
-                                f->speed, f->drag, f->force_x, f->force_y, f->drag_stress, f->loss,
-                                f->low_speed_drag, f->magnetic_reynolds);
+        eddy_text_printf(&b, "%.10g", f->speed == 0.0 ? 0.0 : f->speed);
+        csv_num(&b, f->drag);
+        csv_num(&b, f->force_x);
+        csv_num(&b, f->force_y);
+        csv_num(&b, f->drag_stress);
+        csv_num(&b, f->loss);
+        csv_num(&b, f->low_speed_drag);
+        eddy_text_printf(&b, ",%.6g", f->magnetic_reynolds);
+        if (disc) {
+            csv_num(&b, f->rpm);
+            csv_num(&b, f->torque);
+            csv_num(&b, f->power);
+        }
+        if (end)
+            csv_num(&b, f->drag_end_corrected);
+        if (ref) {
+            csv_num(&b, r->ref_drag[k]);
+            csv_num(&b, r->ref_force_y[k]);
+        }
+        eddy_text_str(&b, "\n");
+    }
+    if (b.oom) {
+        free(b.p);
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing forces.csv");
     }
     char path[4096];
     snprintf(path, sizeof path, "%s/forces.csv", dir);
-    eddy_status s = eddy_write_atomic(path, buf, len, err);
-    free(buf);
+    eddy_status s = eddy_write_atomic(path, b.p, b.len, err);
+    free(b.p);
     return s;
 }
 

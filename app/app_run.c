@@ -120,6 +120,7 @@ static eddy_status add_reference(app_report *r, int fill_forces, eddy_error *err
             f->loss = q.loss;
             f->low_speed_drag = slope * fabs(v);
             f->magnetic_reynolds = EDDY_MU0 * st * fabs(v);
+            f->magnetic_reynolds_wave = NAN;
             f->j_peak = NAN;
             r->info[k].t_post = eddy_now() - t0;
         }

@@ -37,7 +37,13 @@ typedef struct {
     double drag_stress;        /* N/m, -stress_x * sign(speed) */
     double loss;               /* W/m, integral of J^2 / sigma */
     double low_speed_drag;     /* N/m, sigma |v| * integral of B0_y^2 (static field) */
-    double magnetic_reynolds;  /* mu0 sigma |v| t of the moving band */
+    double magnetic_reynolds;  /* mu0 sigma |v| t of the moving band (t its thickness) */
+    double magnetic_reynolds_wave; /* mu0 sigma |v| / k on the dominant wavenumber k of the
+                                * sources (mesh_grid.k_dominant), sigma the band's mean
+                                * conductivity; NAN without a grid.  The drag peaks near
+                                * magnetic_reynolds = 2 for a thin plate (k t << 1: the
+                                * thin-sheet law, Reitz 1970) and near
+                                * magnetic_reynolds_wave ~ 1 for a thick one (k t >> 1) */
     double j_peak;             /* A/m^2, largest |J_z| of a node's dual cell */
     double loss_density_peak;  /* W/m^3, largest J^2/sigma of a node's dual cell */
     double loss_density_mean;  /* W/m^3, loss / conductor_area */

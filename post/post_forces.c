@@ -261,6 +261,12 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
     f->conductor_area = area;
     f->low_speed_drag = fabs(v) * lowspeed_slope;
     f->magnetic_reynolds = EDDY_MU0 * sig_t * fabs(v);
+    /* on the dominant wavelength of the sources: mu0 sigma |v| / k, with the
+     * band's mean conductivity (sigma t / t) */
+    double t_band = g->jm1 > g->jm0 ? g->y[g->jm1] - g->y[g->jm0] : 0.0;
+    f->magnetic_reynolds_wave = t_band > 0 && g->k_dominant > 0
+                                    ? EDDY_MU0 * (sig_t / t_band) * fabs(v) / g->k_dominant
+                                    : NAN;
     f->stress_ok = stress_force(g, a, &f->stress_x, &f->stress_y);
     f->drag_stress = f->stress_ok ? -f->stress_x * sgn : NAN;
     if (!f->stress_ok)

@@ -147,6 +147,29 @@ static void test_temperature(void)
     check(isfinite(a->end_factor) && a->end_factor > 0 && a->end_factor < 1 &&
               fabs(f->drag_end_corrected - f->drag * a->end_factor) < 1e-12 * f->drag,
           "end effect: factor in (0, 1) applied to the drag", "factor %.4f", a->end_factor);
+    /* forces.csv carries what the case asked for: the disc's rpm, torque and
+     * power and the end-corrected drag, equal to the report's numbers (to
+     * the CSV's 10 significant digits) */
+    {
+        char path[600], text[8192];
+        snprintf(path, sizeof path, "%s/t20/forces.csv", dir);
+        pipe_read_text(path, text, sizeof text);
+        const char *row = strchr(text, '\n');
+        row = row != NULL ? strchr(row + 1, '\n') : NULL; /* the second point */
+        double v[12] = {0};
+        int nv = row != NULL ? sscanf(row + 1, "%lf,%lf,%lf,%lf,%lf,%lf,%lf,%lf,%lf,%lf,%lf,%lf",
+                                      &v[0], &v[1], &v[2], &v[3], &v[4], &v[5], &v[6], &v[7],
+                                      &v[8], &v[9], &v[10], &v[11])
+                                : 0;
+        check(strstr(text, ",magnetic_reynolds,rpm,torque_N_m,power_W,"
+                           "drag_force_end_corrected_N_per_m\n") != NULL &&
+                  nv == 12 && fabs(v[8] - f->rpm) <= 1e-9 * f->rpm &&
+                  fabs(v[9] - f->torque) <= 1e-9 * f->torque &&
+                  fabs(v[10] - f->power) <= 1e-9 * f->power &&
+                  fabs(v[11] - f->drag_end_corrected) <= 1e-9 * f->drag_end_corrected,
+              "forces.csv: rpm, torque, power and end-corrected drag columns of the disc case",
+              "%d values read", nv);
+    }
     check(isfinite(f->heating_rate) && f->heating_rate > 0 &&
               fabs(f->heating_rate - f->loss / (8890.0 * 385.0 * f->conductor_area)) <
                   1e-9 * f->heating_rate,
