@@ -97,8 +97,10 @@ int app_design_refine(const app_report *r, double *speeds, int max_new);
  * Fill the design answers of a finished run: per point the adiabatic
  * heating rate (from the moving materials' density and specific heat), disc
  * torque and power (case "disc"), the end-corrected drag (case
- * "end_effect", Russell-Norsworthy factor); the drag peak (parabola in log
- * speed through the largest sampled drag and its neighbours); the stop of
+ * "end_effect", Russell-Norsworthy factor); the drag peak of the positive
+ * speeds (design_peak, design/design.h section 7: parabola in log speed
+ * through the largest sampled drag and its neighbours), which forces.png
+ * marks (app_run.c); the stop of
  * the case's "vehicle" (force = drag x depth x repeat, monotone cubic in
  * log-log, design_stop_compute), the change of its distance when half the
  * points are used, and the conductor's temperature rise.

@@ -119,6 +119,32 @@ static double rho_cp(const app_report *r)
     return area > 0 ? sum / area : 0.0;
 }
 
+/* The drag peak of the report (has_peak, peak_speed, peak_drag,
+ * peak_refined, peak_at_end) from the m positive speeds sp[] and their drags
+ * dr[]: the one rule of design_peak, a parabola in log speed (all speeds
+ * are > 0), whose numbers result.json reports and forces.png marks.  No
+ * peak (has_peak 0) without positive speeds or with a non-finite drag. */
+static void report_peak(app_report *r, int m, const double *sp, const double *dr)
+{
+    r->has_peak = 0;
+    r->peak_at_end = 0;
+    if (m < 1 || design_peak(m, sp, dr, 1, &r->peak_speed, &r->peak_drag, &r->peak_refined,
+                             NULL) != EDDY_OK)
+        return;
+    r->has_peak = 1;
+    /* the largest |drag| sample (design_peak's step 1) and whether a speed
+     * lies on both sides of it */
+    int imax = 0, below = 0, above = 0;
+    for (int k = 1; k < m; k++)
+        if (fabs(dr[k]) > fabs(dr[imax]))
+            imax = k;
+    for (int k = 0; k < m; k++) {
+        below += sp[k] < sp[imax];
+        above += sp[k] > sp[imax];
+    }
+    r->peak_at_end = below == 0 || above == 0;
+}
+
 eddy_status app_design_evaluate(app_report *r, eddy_error *err)
 {
     const mesh_case *c = r->c;
@@ -147,7 +173,7 @@ eddy_status app_design_evaluate(app_report *r, eddy_error *err)
         }
         f->drag_end_corrected = isfinite(r->end_factor) ? f->drag * r->end_factor : NAN;
     }
-    /* the drag peak over the positive speeds */
+    /* the positive speeds: the table of the drag peak and of the stop */
     double *sp = malloc((size_t)(n > 0 ? n : 1) * 2 * sizeof *sp);
     if (sp == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
@@ -159,19 +185,7 @@ eddy_status app_design_evaluate(app_report *r, eddy_error *err)
             dr[m] = r->f[k].drag;
             m++;
         }
-    r->has_peak = 0;
-    if (m >= 1) {
-        int logv = m >= 2 && sp[m - 1] > 10.0 * sp[0];
-        if (design_peak(m, sp, dr, logv, &r->peak_speed, &r->peak_drag, &r->peak_refined,
-                            NULL) == EDDY_OK) {
-            r->has_peak = 1;
-            int imax = 0;
-            for (int k = 1; k < m; k++)
-                if (dr[k] > dr[imax])
-                    imax = k;
-            r->peak_at_end = imax == 0 || imax == m - 1;
-        }
-    }
+    report_peak(r, m, sp, dr);
     /* the stop of a load */
     r->has_stop = 0;
     r->stop_temperature_rise = NAN;

@@ -592,6 +592,11 @@ static eddy_status write_force_plot(app_report *r, eddy_error *err)
     po.title = title;
     po.case_name = r->c->name;
     po.version = EDDY_VERSION;
+    /* the peak result.json reports (app_design_evaluate), not one of the plot's */
+    po.has_peak = r->has_peak;
+    po.peak_speed = r->peak_speed;
+    po.peak_drag = r->peak_drag;
+    po.peak_interpolated = r->peak_refined;
     char path[4200];
     snprintf(path, sizeof path, "%s/forces.png.tmp", r->outdir);
     int nref = r->ref_drag != NULL && r->g != NULL ? n : 0;

@@ -29,6 +29,7 @@
  *   4. Heating and conductivity at temperature.
  *   5. Finite plate width: the end-effect factor.
  *   6. Disc brakes: rpm, torque, power.
+ *   7. The drag peak of a sampled curve: the project's one peak rule.
  */
 
 /* Standard acceleration of gravity, m/s^2 (3rd CGPM 1901; ISO 80000-3). */
@@ -383,18 +384,48 @@ double design_brake_power(double force, double speed);
 /* 7. Drag peak                                                              */
 /* ------------------------------------------------------------------------ */
 
-/* Peak of a drag curve.  speed[n] (m/s, any order, n >= 1), drag[n] (N/m).
- * The sample with the largest |drag| is taken (so either sign convention
- * works); when it is not at either end of the speed range, a parabola
- * through |drag| there and at its two speed-neighbours - in log10(speed) if
- * log_speed (all speeds must then be > 0), else in speed - is used instead
- * when it is concave, since its vertex is a better estimate of the true
- * maximum between samples.  Outputs (any may be NULL): *v_peak (m/s),
- * *f_peak (N/m, with the sign of the largest sample), *refined (1 if the
- * parabola was used, else 0).
- * Returns EDDY_OK or EDDY_ERR_INPUT (n < 1, NULL arrays, non-finite values,
- * speed <= 0 with log_speed). */
+/*
+ * The peak of a drag curve sampled at n speeds: the one peak rule of the
+ * project.  result.json's "peak" is app_design_evaluate's call of it (over
+ * the positive speeds of a sweep, log_speed = 1), and forces.png marks
+ * exactly those numbers (post_plot_opts.has_peak, peak_speed, peak_drag)
+ * without looking for a peak itself; the peak columns of a batch summary
+ * (app_batch.c) call it on the points of each result.json, log_speed = 1
+ * when all of them are > 0.
+ *
+ * The rule:
+ *   1. take the sample with the largest |drag| (the first of equal ones),
+ *      so either sign convention works;
+ *   2. when samples lie on both sides of it in speed, fit the parabola
+ *      through |drag| there and at the nearest lower and the nearest
+ *      higher speed, in u = log(speed) when every speed is > 0 (pass
+ *      log_speed = 1 then, as every caller in the project does), else in
+ *      u = speed (log_speed = 0);
+ *   3. when that parabola is concave and its vertex lies strictly between
+ *      the two neighbours and not below the sample, the vertex is the peak
+ *      (*refined = 1); otherwise the sample is (*refined = 0; it is at an
+ *      end of the speed range when it has no neighbour on one side).
+ * Why log speed: speed lists are usually spaced in ratios (0.1, 0.3, 1,
+ * 3, ...) and a brake's drag peak is close to symmetric in log speed - the
+ * thin-sheet drag F0 v w / (v^2 + w^2) = F0 / (2 cosh ln(v/w)) exactly - so
+ * the parabola in log speed lands near the true maximum: on the thin-sheet
+ * shape sampled 4 per decade (any offset of the samples) its vertex is
+ * within 0.007 decades and 1 % of the maximum, the one in speed up to 0.075
+ * decades and 3 % off (computed for this note; tests/test_brake.c checks
+ * 0.02 decades and 1 %, and that the vertex in log speed is the closer).  The base of the logarithm does not move the
+ * vertex (log10 is used), and the rule does not depend on how a plot
+ * scales its speed axis.
+ *   n          number of samples, >= 1.
+ *   speed[n]   m/s, any order, finite; all > 0 when log_speed != 0.
+ *   drag[n]    finite, any unit (N/m from the solver; kept in *f_peak).
+ *   log_speed  1: parabola in log speed; 0: in speed.
+ * Outputs (any may be NULL): *v_peak (m/s), *f_peak (the unit of drag,
+ * with the sign of the largest sample), *refined (1 if the vertex was
+ * taken, else 0).
+ * Returns EDDY_OK or EDDY_ERR_INPUT (n < 1, NULL arrays, a non-finite
+ * value, a speed <= 0 with log_speed); the outputs are then unchanged.
+ */
 eddy_status design_peak(int n, const double *speed, const double *drag, int log_speed,
-                            double *v_peak, double *f_peak, int *refined, eddy_error *err);
+                        double *v_peak, double *f_peak, int *refined, eddy_error *err);
 
 #endif

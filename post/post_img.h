@@ -1,9 +1,14 @@
 /*
  * post_img.h - pictures of the post-processing module (prefix post_): field
  * maps, force-speed plots and two-curve plots as PNG, drawn with cairo into
- * an image buffer and written with libpng.  Plotting primitives (axes,
- * ticks, text, colour bars, the PNG writer) are private to post/
- * (post/post_draw.h).
+ * an image buffer and written with libpng.
+ *
+ * Where they live: colour maps in post/post_cmap.c, field maps in
+ * post/post_map.c, the force-speed and two-curve plots in post/post_plot.c.
+ * The drawing pieces they share (ticks, number formats, text, canvas, the
+ * PNG writer, the axes and legend of the line plots: post_draw.c,
+ * post_png.c, post_chart.c) are private to post/ and declared in
+ * post/post_draw.h, which nothing outside post/ includes.
  */
 #ifndef EDDY_POST_IMG_H
 #define EDDY_POST_IMG_H
@@ -90,7 +95,8 @@ typedef struct {
 } post_map_geom;
 
 /* Compute the layout post_map_png would use for the same arguments, without
- * drawing.  Arguments as for post_map_png (a_nodes is not needed).
+ * drawing.  Arguments as for post_map_png (a_nodes is not needed); g is the
+ * output, written only on success.
  * Returns EDDY_OK, EDDY_ERR_INPUT (bad argument), EDDY_ERR_NUMERIC
  * (non-finite field value) or EDDY_ERR_NOMEM. */
 eddy_status post_map_geometry(int nx, int ny, const double *x, const double *y,
@@ -112,7 +118,8 @@ eddy_status post_map_geometry(int nx, int ny, const double *x, const double *y,
  *              nx*ny, for o->n_flux_lines contour lines at equal steps of A
  *              between min and max A over the cells in view (so their
  *              density shows |B|); NULL: no flux lines.
- *   o          options (see post_map_opts); view all zero = whole grid.
+ *   o          options (see post_map_opts), required; view all zero = whole
+ *              grid.
  * Pixels of the view outside the grid are left white.  y points up.
  * Returns EDDY_OK; EDDY_ERR_INPUT for a bad argument; EDDY_ERR_NUMERIC for a
  * non-finite field or A value; EDDY_ERR_NOMEM; EDDY_ERR_IO when the file
@@ -130,9 +137,21 @@ typedef struct {
     const char *case_name; /* PNG text "eddy2d:case"; NULL: omitted         */
     const char *version;   /* PNG text "Software"; NULL: omitted            */
     int width_px, height_px; /* 0: 1000 x 650; each 300..10000              */
+    /* The drag peak to mark.  The plot does not look for a peak itself: it
+     * draws the one the caller reports (the application passes result.json's
+     * "peak", found by design_peak, design/design.h section 7).             */
+    int has_peak;          /* 1: mark the peak below; 0: no peak marker       */
+    double peak_speed;     /* m/s, signed like the speeds; finite, inside the
+                              range of speed[] (to 1e-9 relative) and, on a
+                              log axis, of the speeds' sign                  */
+    double peak_drag;      /* N/m, finite                                     */
+    int peak_interpolated; /* 1: an estimate between the samples (the label
+                              puts U+2248 "almost equal to" before F); 0: a
+                              sample                                         */
 } post_plot_opts;
 
-/* Fill *o with the defaults above (all NULL, sizes 0 = default). */
+/* Fill *o with the defaults above: strings NULL, sizes 0 (default), no
+ * peak (has_peak 0, peak_speed and peak_drag NaN, peak_interpolated 0). */
 void post_plot_opts_defaults(post_plot_opts *o);
 
 
@@ -145,11 +164,16 @@ void post_plot_opts_defaults(post_plot_opts *o);
  *              lines without markers; ref_n may be 0 (arrays then unused);
  *              with ref_n > 0 ref_speed is required and either of ref_drag /
  *              ref_normal may be NULL.
- *   o          options; may be NULL for defaults.
- * The speed axis is logarithmic when all |speeds| are > 0, of one sign and
- * span more than a decade (|v| is then plotted), else linear.  The peak drag
- * (see design_peak) is marked and labelled with its speed.
- * Returns EDDY_OK; EDDY_ERR_INPUT for bad arguments; EDDY_ERR_NUMERIC for a
+ *   o          options; may be NULL for defaults (no peak marker).
+ * The speed axis is logarithmic when all |speeds| (points and reference)
+ * are > 0, of one sign and span more than a decade (|v| is then plotted),
+ * else linear.  With o->has_peak the point (peak_speed, peak_drag) is
+ * ringed and labelled "peak drag F N/m at v m/s", and the PNG gets the
+ * text chunks "eddy2d:peak_speed_m_per_s" and "eddy2d:peak_drag_N_per_m"
+ * (the two numbers with 17 significant digits, so they read back exactly);
+ * without it there is neither marker nor chunk.
+ * Returns EDDY_OK; EDDY_ERR_INPUT for bad arguments (among them a peak that
+ * is not finite or outside the plotted speeds); EDDY_ERR_NUMERIC for a
  * non-finite value; EDDY_ERR_NOMEM; EDDY_ERR_IO when the file cannot be
  * written. */
 eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
@@ -192,8 +216,5 @@ void post_xy_opts_defaults(post_xy_opts *o);
  * cannot be written. */
 eddy_status post_plot_xy_png(const char *path, int n, const double *x, const double *y1,
                              const double *y2, const post_xy_opts *o, eddy_error *err);
-
-
-
 
 #endif

@@ -1,6 +1,7 @@
 /*
  * test_brake.c - brake-design functions: monotone interpolation, stopping,
- * heating, conductivity at temperature, end-effect factor, disc conversions.
+ * heating, conductivity at temperature, end-effect factor, disc conversions,
+ * the drag peak.
  *
  * References of the checks:
  *   - Monotone cubic interpolation: F. N. Fritsch and R. E. Carlson,
@@ -37,6 +38,14 @@
  *     attribution of the closed form to Russell and Norsworthy (Proc. IEE
  *     105A, 1958) is from memory.
  *   - Disc: v = 2 pi r n / 60, T = F r, P = F v (definitions).
+ *   - Peak of a drag curve (design_peak, the project's one peak rule):
+ *     f(v) = 2 F0 (v/vc) / (1 + (v/vc)^2), the thin-sheet shape of Reitz
+ *     (1970) above, has its maximum F0 at v = vc (calculus) and is symmetric
+ *     in ln v about vc; the parabola estimate from samples at 4 per decade
+ *     must land within PEAK_V_TOL decades and PEAK_F_TOL, be closer than the
+ *     best sample and closer than the parabola in v on the same samples (the
+ *     reason for the rule); the result must not depend on the order of the
+ *     samples, and negated drags must give the negated peak.
  *   - Standard gravity 9.80665 m/s^2: 3rd CGPM (1901).
  */
 #include "app/app.h"
@@ -64,6 +73,8 @@
 #define END_FV_TOL 1e-6       /* closed form vs finite-volume solution */
 #define SIGMA_TOL 1e-12
 #define CHANGE_LIMIT 0.005    /* accepted change between a table and its halves */
+#define PEAK_V_TOL 0.02       /* decades: drag peak from 4 samples per decade */
+#define PEAK_F_TOL 0.01       /* relative: its value */
 
 /* ------------------------------------------------------------------------ */
 /* Monotone interpolation                                                    */
@@ -751,6 +762,75 @@ static void test_disc(void)
     check_close("disc: power F v", design_brake_power(250.0, v), 2500.0 * M_PI, 1e-15, 0.0);
 }
 
+/* ------------------------------------------------------------------------ */
+/* Drag peak                                                                 */
+/* ------------------------------------------------------------------------ */
+
+/* Drag of the shape f = 2 F0 x / (1 + x^2), x = v / vc (maximum F0 at vc). */
+static double model_drag(double v, double vc, double f0)
+{
+    double u = v / vc;
+    return 2.0 * f0 * u / (1.0 + u * u);
+}
+
+static void test_peak(void)
+{
+    enum { N = 13 };
+    double v[N], fd[N];
+    const double vc = 7.3, f0 = 250.0;
+    for (int k = 0; k < N; k++) {
+        v[k] = 0.1 * pow(10.0, k / 4.0); /* 4 per decade, 0.1 .. 100 m/s */
+        fd[k] = model_drag(v[k], vc, f0);
+    }
+    double vp, fp;
+    int refined;
+    eddy_status st = design_peak(N, v, fd, 1, &vp, &fp, &refined, NULL);
+    int ks = 0;
+    for (int k = 1; k < N; k++)
+        if (fd[k] > fd[ks])
+            ks = k;
+    double err_ref = fabs(log10(vp / vc)), err_smp = fabs(log10(v[ks] / vc));
+    check(st == EDDY_OK && refined && err_ref <= PEAK_V_TOL, "peak_speed_log_parabola",
+          "v* %.3f m/s (true %.3f), %.4f decades off; best sample %.3f m/s, %.4f decades", vp, vc,
+          err_ref, v[ks], err_smp);
+    check(err_ref < err_smp, "peak_parabola_beats_sample", "%.4f < %.4f decades", err_ref, err_smp);
+    check_close("peak_drag_value", fp, f0, PEAK_F_TOL, 0.0);
+    check(fabs(fp - f0) < fabs(fd[ks] - f0), "peak_value_beats_sample", "%.2f vs sample %.2f N/m",
+          fp, fd[ks]);
+    /* the rule's reason: the parabola in log speed beats the one in speed */
+    double vl, fl;
+    int rl;
+    st = design_peak(N, v, fd, 0, &vl, &fl, &rl, NULL);
+    double err_lin = fabs(log10(vl / vc));
+    check(st == EDDY_OK && err_ref < err_lin && fabs(fp - f0) < fabs(fl - f0),
+          "peak_log_rule_beats_parabola_in_speed",
+          "log: %.4f decades, %.3g N/m off; in speed: %.4f decades, %.3g N/m off", err_ref,
+          fp - f0, err_lin, fl - f0);
+    /* any order of the samples, either sign convention */
+    double vs[N], fs[N], fn[N];
+    for (int k = 0; k < N; k++) {
+        int q = (5 * k + 3) % N; /* a permutation: 5 and 13 are coprime */
+        vs[k] = v[q];
+        fs[k] = fd[q];
+        fn[k] = -fd[k];
+    }
+    double v2p, f2p, v3p, f3p;
+    int r2, r3;
+    st = design_peak(N, vs, fs, 1, &v2p, &f2p, &r2, NULL);
+    check(st == EDDY_OK && v2p == vp && f2p == fp && r2 == refined, "peak_independent_of_order",
+          "%.17g m/s %.17g N/m vs %.17g m/s %.17g N/m", v2p, f2p, vp, fp);
+    st = design_peak(N, v, fn, 1, &v3p, &f3p, &r3, NULL);
+    check(st == EDDY_OK && v3p == vp && f3p == -fp && r3 == refined, "peak_of_negated_drag",
+          "%.17g m/s %.17g N/m", v3p, f3p);
+    /* maximum at the end of the sweep: the sample, not refined */
+    double v2[3] = {1.0, 2.0, 3.0}, f2[3] = {1.0, 2.0, 3.0};
+    st = design_peak(3, v2, f2, 0, &vp, &fp, &refined, NULL);
+    check(st == EDDY_OK && !refined && vp == 3.0 && fp == 3.0, "peak_at_end_is_sample",
+          "v %g f %g refined %d", vp, fp, refined);
+    st = design_peak(3, (double[]){0.0, 1.0, 2.0}, f2, 1, &vp, &fp, &refined, NULL);
+    check(st == EDDY_ERR_INPUT, "peak_log_needs_positive_speed", "status %d", st);
+}
+
 int main(void)
 {
     test_pchip_exact();
@@ -768,5 +848,6 @@ int main(void)
     test_sigma();
     test_end_effect();
     test_disc();
+    test_peak();
     return check_summary();
 }

@@ -1,8 +1,11 @@
 /*
  * test_outputs.c - what a real solve writes next to result.json: the field
  * maps and force plot (decoded with libpng), the VTK files and the line
- * profiles, checked against the solution they came from.
+ * profiles, checked against the solution they came from; and one drag peak
+ * for result.json and forces.png (the project's one peak rule, design_peak:
+ * the numbers must agree exactly).
  */
+#include <cJSON.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -229,6 +232,119 @@ static void test_maps(pipe_run *p)
         image_free(&im);
 }
 
+/* A number of a JSON object, NAN when absent. */
+static double json_num(const cJSON *o, const char *key)
+{
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
+    return cJSON_IsNumber(v) ? v->valuedouble : NAN;
+}
+
+/* One drag peak: the report's is design_peak's over the positive speeds of
+ * the sweep (log_speed = 1, design/design.h section 7), result.json reports
+ * it and forces.png marks it (text chunks read back exactly), or none of
+ * the three has a peak.  want_interpolated: 1 or 0 as the sweep should
+ * give, -1 no peak at all (a reference-only run). */
+static void check_one_peak(const char *what, const app_report *r, const char *outdir,
+                           int want_interpolated)
+{
+    char name[160], path[600];
+    double v = NAN, f = NAN;
+    int refined = -1, m = 0, has = 0;
+    if (want_interpolated >= 0) {
+        double sp[64], dr[64];
+        for (int k = 0; k < r->npoint && m < 64; k++)
+            if (r->f[k].speed > 0) {
+                sp[m] = r->f[k].speed;
+                dr[m] = r->f[k].drag;
+                m++;
+            }
+        has = design_peak(m, sp, dr, 1, &v, &f, &refined, NULL) == EDDY_OK;
+        snprintf(name, sizeof name, "%s: the report's drag peak is design_peak's (log speed)",
+                 what);
+        check(has && r->has_peak && r->peak_speed == v && r->peak_drag == f &&
+                  r->peak_refined == refined && refined == want_interpolated,
+              name,
+              "report %.17g m/s %.17g N/m (interpolated %d), design_peak %.17g m/s %.17g N/m (%d)",
+              r->peak_speed, r->peak_drag, r->peak_refined, v, f, refined);
+    } else {
+        snprintf(name, sizeof name, "%s: no drag peak in the report", what);
+        check(!r->has_peak, name, "has_peak %d", r->has_peak);
+    }
+    snprintf(path, sizeof path, "%s/result.json", outdir);
+    char *text = NULL;
+    cJSON *root = NULL;
+    if (eddy_read_file(path, 1L << 26, &text, NULL, NULL) == EDDY_OK)
+        root = cJSON_Parse(text);
+    free(text);
+    const cJSON *pk = cJSON_GetObjectItemCaseSensitive(root, "peak");
+    double jv = json_num(pk, "speed"), jf = json_num(pk, "drag_force");
+    snprintf(name, sizeof name, "%s: result.json reports the report's peak", what);
+    if (has)
+        check(pk != NULL && jv == r->peak_speed && jf == r->peak_drag, name,
+              "%.17g m/s %.17g N/m", jv, jf);
+    else
+        check(root != NULL && pk == NULL, name, "no \"peak\" in %s", path);
+    cJSON_Delete(root);
+    snprintf(path, sizeof path, "%s/forces.png", outdir);
+    image im;
+    if (read_png(path, &im) != 0) {
+        snprintf(name, sizeof name, "%s: forces.png decodes", what);
+        check(0, name, "%s", path);
+        return;
+    }
+    const char *tv = text_of(&im, "eddy2d:peak_speed_m_per_s");
+    const char *tf = text_of(&im, "eddy2d:peak_drag_N_per_m");
+    snprintf(name, sizeof name, "%s: forces.png marks result.json's peak", what);
+    if (has)
+        check(tv != NULL && tf != NULL && strtod(tv, NULL) == jv && strtod(tf, NULL) == jf, name,
+              "plot %s m/s %s N/m, result.json %.17g m/s %.17g N/m", tv ? tv : "(none)",
+              tf ? tf : "(none)", jv, jf);
+    else
+        check(tv == NULL && tf == NULL, name, "no peak in result.json, none in the plot: %s",
+              tv ? tv : "(none)");
+    image_free(&im);
+}
+
+/* The test case with four speeds around its drag peak (an interpolated
+ * peak), and the layered reference alone (no peak is evaluated). */
+static void test_peak_runs(const char *casefile)
+{
+    static const char *two = "\"speeds\":[0.01,20]", *four = "\"speeds\":[1,4,16,64]";
+    char dir2[300], file2[320];
+    snprintf(dir2, sizeof dir2, "%s_peak", dir);
+    snprintf(file2, sizeof file2, "%s.json", dir2);
+    const char *at = strstr(case_text, two);
+    FILE *f = at != NULL ? fopen(file2, "w") : NULL;
+    if (f != NULL) {
+        fprintf(f, "%.*s%s%s", (int)(at - case_text), case_text, four, at + strlen(two));
+        fclose(f);
+    }
+    check(f != NULL, "write the case with four speeds", "%s", file2);
+    app_run_opts o;
+    app_run_opts_defaults(&o);
+    o.outdir = dir2;
+    app_report *r = NULL;
+    eddy_error err = {0};
+    eddy_status s = f != NULL ? app_run_solve(file2, &o, &r, &err) : EDDY_ERR_IO;
+    check(s == EDDY_OK, "solve at 1, 4, 16, 64 m/s", "%s", err.msg);
+    if (s == EDDY_OK)
+        check_one_peak("four speeds", r, dir2, 1);
+    app_report_free(r);
+    r = NULL;
+    memset(&err, 0, sizeof err);
+    snprintf(dir2, sizeof dir2, "%s_ref", dir);
+    o.outdir = dir2;
+    s = app_run_reference(casefile, &o, &r, &err);
+    check(s == EDDY_OK, "the layered reference alone", "%s", err.msg);
+    if (s == EDDY_OK)
+        check_one_peak("reference alone", r, dir2, -1);
+    app_report_free(r);
+    char cmd[1200];
+    snprintf(cmd, sizeof cmd, "rm -rf '%s_peak' '%s_peak.json' '%s_ref'", dir, dir, dir);
+    if (system(cmd) != 0)
+        printf("# could not remove %s_peak, %s_ref\n", dir, dir);
+}
+
 static void test_profile_and_vtk(pipe_run *p)
 {
     char path[512];
@@ -295,7 +411,11 @@ int main(void)
     eddy_error err = {0};
     eddy_status s = app_run_solve(casefile, &o, &r, &err);
     check(s == EDDY_OK, "solve with pictures, VTK and a profile", "%s", err.msg);
+    if (s == EDDY_OK) /* two speeds: the peak is the faster sample */
+        check_one_peak("two speeds", r, dir, 0);
     app_report_free(r);
+    if (s == EDDY_OK)
+        test_peak_runs(casefile);
     if (s == EDDY_OK) {
         pipe_run p;
         if (pipe_open(&p, case_text) == 0) {

@@ -13,10 +13,12 @@
  *   - Geometry: the position of a hot spot, the aspect ratio of the map and
  *     the spacing of contour lines of a linear potential follow from the
  *     stated mapping world -> pixel (plain arithmetic, no project code).
- *   - Peak of a drag curve: f(v) = 2 F0 (v/vc) / (1 + (v/vc)^2) has its
- *     maximum F0 at v = vc (calculus); the parabola estimate from samples at
- *     4 per decade must land within PEAK_V_TOL decades and PEAK_F_TOL, and
- *     be closer than the best sample.
+ *   - The drag peak of a force plot is the caller's (post_plot_opts): its
+ *     text chunks must read back as exactly the numbers given, the ring must
+ *     be drawn around the sample named (a dark circle of 8 px radius on a
+ *     1000 x 650 plot, found by looking along RING_DIRS rays), and without a
+ *     peak there is neither ring nor chunk.  The peak rule itself
+ *     (design_peak) is tested in tests/test_brake.c.
  *
  * Set EDDY_IMG_SAMPLES=/some/dir to keep the pictures there; otherwise they
  * go to a fresh temporary directory that is removed at the end.
@@ -45,8 +47,11 @@
 #define MIRROR_TOL 0.008 /* |t(x) + t(-x) - 1| of decoded values: 2 table steps of
                             1/1023 plus 8-bit plateaus near the neutral centre */
 #define NEUTRAL_TOL 2    /* levels from (221,221,221) */
-#define PEAK_V_TOL 0.02  /* decades */
-#define PEAK_F_TOL 0.01  /* relative */
+#define RING_DIRS 16     /* rays looked along for the peak ring */
+#define RING_HITS 14     /* rays that must cross it */
+#define RING_MISS 4      /* at most this many around an unmarked sample */
+#define RING_DARK 150    /* 8-bit level: antialiased ring pixels measured <= 107;
+                            grid lines are 229 */
 
 static char out_dir[512];
 static int keep_files;
@@ -497,6 +502,37 @@ static void test_errors(void)
     st = post_plot_forces_png(out_path("bad.png"), 0, sp, dr, NULL, NAN, 0, NULL, NULL, NULL,
                               NULL, NULL);
     check(st == EDDY_ERR_INPUT, "err_plot_no_points", "status %d", st);
+    /* a peak to mark must be finite and among the speeds plotted */
+    double sp3[3] = {1.0, 2.0, 30.0}, dr3[3] = {1.0, 3.0, 2.0};
+    post_plot_opts po;
+    post_plot_opts_defaults(&po);
+    po.has_peak = 1;
+    memset(&err, 0, sizeof err);
+    st = post_plot_forces_png(out_path("bad.png"), 3, sp3, dr3, NULL, NAN, 0, NULL, NULL, NULL,
+                              &po, &err);
+    check(st == EDDY_ERR_INPUT, "err_plot_peak_not_set", "status %d: %s", st, err.msg);
+    po.peak_speed = 40.0;
+    po.peak_drag = 3.0;
+    memset(&err, 0, sizeof err);
+    st = post_plot_forces_png(out_path("bad.png"), 3, sp3, dr3, NULL, NAN, 0, NULL, NULL, NULL,
+                              &po, &err);
+    check(st == EDDY_ERR_INPUT && strstr(err.msg, "outside") != NULL,
+          "err_plot_peak_outside_speeds", "status %d: %s", st, err.msg);
+    po.peak_speed = 2.0;
+    po.peak_drag = INFINITY;
+    st = post_plot_forces_png(out_path("bad.png"), 3, sp3, dr3, NULL, NAN, 0, NULL, NULL, NULL,
+                              &po, NULL);
+    check(st == EDDY_ERR_INPUT, "err_plot_peak_drag_infinite", "status %d", st);
+    double spn[3] = {-30.0, -2.0, -1.0};
+    po.peak_speed = 2.0; /* the wrong sign for these speeds, on a log axis of |v| */
+    po.peak_drag = 3.0;
+    st = post_plot_forces_png(out_path("bad.png"), 3, spn, dr3, NULL, NAN, 0, NULL, NULL, NULL,
+                              &po, NULL);
+    check(st == EDDY_ERR_INPUT, "err_plot_peak_wrong_sign", "status %d", st);
+    po.peak_speed = -2.0;
+    st = post_plot_forces_png(out_path("bad.png"), 3, spn, dr3, NULL, NAN, 0, NULL, NULL, NULL,
+                              &po, NULL);
+    check(st == EDDY_OK, "plot_peak_negative_speeds", "status %d", st);
 }
 
 /* Drag of the shape f = 2 F0 x / (1 + x^2), x = v / vc (maximum F0 at vc). */
@@ -504,39 +540,6 @@ static double model_drag(double v, double vc, double f0)
 {
     double u = v / vc;
     return 2.0 * f0 * u / (1.0 + u * u);
-}
-
-static void test_peak(void)
-{
-    enum { N = 13 };
-    double v[N], fd[N];
-    const double vc = 7.3, f0 = 250.0;
-    for (int k = 0; k < N; k++) {
-        v[k] = 0.1 * pow(10.0, k / 4.0); /* 4 per decade, 0.1 .. 100 m/s */
-        fd[k] = model_drag(v[k], vc, f0);
-    }
-    double vp, fp;
-    int refined;
-    eddy_status st = design_peak(N, v, fd, 1, &vp, &fp, &refined, NULL);
-    int ks = 0;
-    for (int k = 1; k < N; k++)
-        if (fd[k] > fd[ks])
-            ks = k;
-    double err_ref = fabs(log10(vp / vc)), err_smp = fabs(log10(v[ks] / vc));
-    check(st == EDDY_OK && refined && err_ref <= PEAK_V_TOL, "peak_speed_log_parabola",
-          "v* %.3f m/s (true %.3f), %.4f decades off; best sample %.3f m/s, %.4f decades", vp, vc,
-          err_ref, v[ks], err_smp);
-    check(err_ref < err_smp, "peak_parabola_beats_sample", "%.4f < %.4f decades", err_ref, err_smp);
-    check_close("peak_drag_value", fp, f0, PEAK_F_TOL, 0.0);
-    check(fabs(fp - f0) < fabs(fd[ks] - f0), "peak_value_beats_sample", "%.2f vs sample %.2f N/m",
-          fp, fd[ks]);
-    /* maximum at the end of the sweep: the sample, not refined */
-    double v2[3] = {1.0, 2.0, 3.0}, f2[3] = {1.0, 2.0, 3.0};
-    st = design_peak(3, v2, f2, 0, &vp, &fp, &refined, NULL);
-    check(st == EDDY_OK && !refined && vp == 3.0 && fp == 3.0, "peak_at_end_is_sample",
-          "v %g f %g refined %d", vp, fp, refined);
-    st = design_peak(3, (double[]){0.0, 1.0, 2.0}, f2, 1, &vp, &fp, &refined, NULL);
-    check(st == EDDY_ERR_INPUT, "peak_log_needs_positive_speed", "status %d", st);
 }
 
 static int count_colour(const image *im, int r, int g, int b, int tol)
@@ -565,6 +568,135 @@ static int distinct_colours(const image *im)
     return n;
 }
 
+/* 1 if the text chunk `key` of im reads back as exactly v (NULL: absent). */
+static int text_is(const image *im, const char *key, double v)
+{
+    const char *t = text_of(im, key);
+    return t != NULL && strtod(t, NULL) == v;
+}
+
+/* Centres of the drag markers (filled circles of 4.2 px radius in the drag
+ * blue): pixels whose neighbours 2 px away on both axes are that blue too
+ * (on the 1.8 px polyline, at any angle, one of them is off the line),
+ * grouped within 6 px.  Returns how many, at most max. */
+static int drag_markers(const image *im, double *cx, double *cy, int max)
+{
+    int nc = 0, cnt[64] = {0};
+    double sx[64] = {0}, sy[64] = {0};
+    for (int j = 2; j + 2 < im->h; j++)
+        for (int i = 2; i + 2 < im->w; i++) {
+            int core = 1;
+            const int di[5] = {0, 2, -2, 0, 0}, dj[5] = {0, 0, 0, 2, -2};
+            for (int q = 0; q < 5 && core; q++) {
+                const unsigned char *p = px(im, i + di[q], j + dj[q]);
+                core = abs(p[0] - 0) <= 6 && abs(p[1] - 114) <= 6 && abs(p[2] - 178) <= 6;
+            }
+            if (!core)
+                continue;
+            int c = 0;
+            while (c < nc && hypot(i - sx[c] / cnt[c], j - sy[c] / cnt[c]) > 6.0)
+                c++;
+            if (c == nc) {
+                if (nc == 64)
+                    continue;
+                nc++;
+            }
+            sx[c] += i;
+            sy[c] += j;
+            cnt[c]++;
+        }
+    for (int c = 0; c < nc && c < max; c++) {
+        cx[c] = sx[c] / cnt[c];
+        cy[c] = sy[c] / cnt[c];
+    }
+    return nc < max ? nc : max;
+}
+
+/* Of RING_DIRS rays from (x, y), how many cross a dark neutral pixel
+ * between 7 and 9 px out (the peak ring, 8 px radius, 1.3 px wide, colour
+ * 26,26,26 where it covers a whole pixel). */
+static int ring_score(const image *im, double x, double y)
+{
+    int hits = 0;
+    for (int d = 0; d < RING_DIRS; d++) {
+        double a = 2.0 * M_PI * d / RING_DIRS;
+        int hit = 0;
+        for (double r = 7.0; r <= 9.0 && !hit; r += 0.5) {
+            const unsigned char *p =
+                px(im, (int)lround(x + r * cos(a)), (int)lround(y + r * sin(a)));
+            hit = p[0] <= RING_DARK && p[1] <= RING_DARK && p[2] <= RING_DARK &&
+                  abs(p[0] - p[1]) <= 40 && abs(p[1] - p[2]) <= 40;
+        }
+        hits += hit;
+    }
+    return hits;
+}
+
+/* The peak ring is drawn where the options put it, around the named sample,
+ * and nowhere without a peak; the text chunks echo the options. */
+static void test_peak_marker(void)
+{
+    enum { N = 13, K = 11 }; /* mark sample K, not the largest drag (sample 6) */
+    double v[N], fd[N];
+    for (int k = 0; k < N; k++) {
+        v[k] = 0.1 * pow(10.0, k / 4.0);
+        fd[k] = model_drag(v[k], 7.3, 250.0);
+    }
+    for (int marked = 1; marked >= 0; marked--) {
+        post_plot_opts po;
+        post_plot_opts_defaults(&po);
+        po.has_peak = marked;
+        po.peak_speed = v[K];
+        po.peak_drag = fd[K];
+        const char *path = out_path(marked ? "forces_peak_marked.png" : "forces_peak_none.png");
+        eddy_error err = {0};
+        eddy_status st = post_plot_forces_png(path, N, v, fd, NULL, NAN, 0, NULL, NULL, NULL, &po,
+                                              &err);
+        image im;
+        if (st != EDDY_OK || read_png(path, &im) != 0) {
+            check(0, marked ? "peak_marker_plot" : "no_peak_plot", "%s", err.msg);
+            continue;
+        }
+        double cx[64], cy[64];
+        int nm = drag_markers(&im, cx, cy, 64), ringed = -1, nringed = 0, worst_other = 0;
+        int ring_hits = 0;
+        for (int c = 0; c < nm; c++) {
+            int sc = ring_score(&im, cx[c], cy[c]);
+            if (sc >= RING_HITS) {
+                ringed = c;
+                nringed++;
+                ring_hits = sc;
+            } else if (sc > worst_other) {
+                worst_other = sc;
+            }
+        }
+        if (marked) {
+            /* the samples run left to right in speed: sample K has N-1-K markers right of it */
+            int right_of = 0;
+            for (int c = 0; ringed >= 0 && c < nm; c++)
+                right_of += cx[c] > cx[ringed] + 3.0;
+            check(nm >= N && nringed == 1 && right_of == N - 1 - K && worst_other <= RING_MISS,
+                  "plot_rings_the_peak_given_not_its_own",
+                  "%d markers found, %d ringed (%d of %d rays), %d markers right of it (want %d), "
+                  "the others score <= %d",
+                  nm, nringed, ring_hits, RING_DIRS, right_of, N - 1 - K, worst_other);
+            check(text_is(&im, "eddy2d:peak_speed_m_per_s", v[K]) &&
+                      text_is(&im, "eddy2d:peak_drag_N_per_m", fd[K]),
+                  "plot_peak_text_is_the_peak_given", "%s m/s, %s N/m",
+                  text_of(&im, "eddy2d:peak_speed_m_per_s"),
+                  text_of(&im, "eddy2d:peak_drag_N_per_m"));
+        } else {
+            check(nm >= N && nringed == 0 && worst_other <= RING_MISS, "plot_without_peak_no_ring",
+                  "%d markers, %d ringed (largest score %d of %d)", nm, nringed, worst_other,
+                  RING_DIRS);
+            check(text_of(&im, "eddy2d:peak_speed_m_per_s") == NULL &&
+                      text_of(&im, "eddy2d:peak_drag_N_per_m") == NULL,
+                  "plot_without_peak_no_peak_text", "%d text chunks", im.ntext);
+        }
+        image_free(&im);
+    }
+}
+
 static void test_force_plots(void)
 {
     enum { N = 13, NR = 61 };
@@ -585,6 +717,9 @@ static void test_force_plots(void)
     po.title = "synthetic sweep \xe2\x80\x93 forces per unit length";
     po.case_name = "synthetic";
     po.version = "0.1-test";
+    /* the peak the plot marks is the caller's: here the project's rule */
+    po.has_peak = design_peak(N, v, fd, 1, &po.peak_speed, &po.peak_drag,
+                              &po.peak_interpolated, NULL) == EDDY_OK;
     const char *path = out_path("forces_log.png");
     eddy_error err = {0};
     eddy_status st = post_plot_forces_png(path, N, v, fd, fn, 2.0 * f0 / vc, NR, rv, rd, rn, &po,
@@ -602,6 +737,12 @@ static void test_force_plots(void)
         check(t != NULL && strcmp(t, "synthetic") == 0, "plot_text_case", "%s", t ? t : "(none)");
         t = text_of(&im, "eddy2d:unit");
         check(t != NULL && strcmp(t, "N/m") == 0, "plot_text_unit", "%s", t ? t : "(none)");
+        check(po.has_peak && po.peak_interpolated &&
+                  text_is(&im, "eddy2d:peak_speed_m_per_s", po.peak_speed) &&
+                  text_is(&im, "eddy2d:peak_drag_N_per_m", po.peak_drag),
+              "plot_text_peak_interpolated", "%.17g m/s, %.17g N/m: %s, %s", po.peak_speed,
+              po.peak_drag, text_of(&im, "eddy2d:peak_speed_m_per_s"),
+              text_of(&im, "eddy2d:peak_drag_N_per_m"));
         image_free(&im);
     } else {
         check(0, "plot_log_decodes", "%s", path);
@@ -616,6 +757,8 @@ static void test_force_plots(void)
     post_plot_opts_defaults(&po);
     po.width_px = 800;
     po.height_px = 500;
+    po.has_peak = design_peak(8, lv, ld, 1, &po.peak_speed, &po.peak_drag,
+                              &po.peak_interpolated, NULL) == EDDY_OK;
     path = out_path("forces_linear.png");
     st = post_plot_forces_png(path, 8, lv, ld, NULL, NAN, 0, NULL, NULL, NULL, &po, &err);
     check(st == EDDY_OK, "plot_linear_written", "%s", err.msg);
@@ -854,8 +997,8 @@ int main(void)
     test_hot_spot();
     test_antisymmetric();
     test_flux_lines();
-    test_peak();
     test_force_plots();
+    test_peak_marker();
     test_errors();
     test_xy_plot();
     render_showcase();
