@@ -185,6 +185,18 @@ eddy_status app_run_reference(const char *case_path, const app_run_opts *o,
  */
 eddy_status app_write_results(const char *dir, const app_report *r, eddy_error *err);
 
+/* 1 if a file name (no folder) is one the tool writes into an output folder
+ * (result.json, forces.csv, stopping.csv, the pictures jz_*.png, b_*.png,
+ * forces.png, stopping.png, field_*.vtr, profile_*.csv, and their
+ * temporaries), else 0.  One rule for the stale outputs that a solve and a
+ * batch case remove before they write anew. */
+int app_run_is_output(const char *file);
+
+/* Remove from dir every file app_run_is_output names (a previous run's
+ * pictures and fields would otherwise sit beside the new result.json).
+ * Returns EDDY_OK or EDDY_ERR_IO. */
+eddy_status app_run_clear_outputs(const char *dir, eddy_error *err);
+
 /* The safety notice printed by the tool and written into result.json. */
 const char *app_safety_notice(void);
 

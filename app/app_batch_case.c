@@ -82,22 +82,12 @@ app_case_state app_batch_case_state(const char *outdir, const app_batch_case *c)
     return app_batch_disk_state(outdir, c, &sec, NULL, 0);
 }
 
-/* Does a file name look like an output of a run (or its temporary)? */
+/* Does a file name look like an output of a run (or its temporary)? The
+ * run's own rule, plus the batch's status files. */
 static int run_output(const char *f)
 {
-    size_t n = strlen(f);
-    if (strcmp(f, "case.json") == 0)
-        return 0;
-    if (strcmp(f, APP_BATCH_HASH_FILE) == 0 || strcmp(f, "error.json") == 0 ||
-        strcmp(f, "result.json") == 0 || strcmp(f, "forces.csv") == 0)
-        return 1;
-    if (strstr(f, ".tmp.") != NULL || (n > 4 && strcmp(f + n - 4, ".tmp") == 0))
-        return 1;
-    if (n > 4 && (strcmp(f + n - 4, ".png") == 0 || strcmp(f + n - 4, ".vtr") == 0))
-        return 1;
-    if (strncmp(f, "profile_", 8) == 0 && n > 4 && strcmp(f + n - 4, ".csv") == 0)
-        return 1;
-    return 0;
+    return strcmp(f, APP_BATCH_HASH_FILE) == 0 || strcmp(f, "error.json") == 0 ||
+           app_run_is_output(f);
 }
 
 /* Create OUTDIR/<case>/ (its path into dir) and remove its completion

@@ -219,21 +219,10 @@ static int cores(void)
  * another process holds it. */
 static int lock_folder(const char *outdir)
 {
-    char path[4200];
-    snprintf(path, sizeof path, "%s/.lock", outdir);
-    int fd = open(path, O_RDWR | O_CREAT, 0666);
-    if (fd < 0)
-        return -2; /* cannot lock (read-only folder?): go on without */
-    struct flock fl;
-    memset(&fl, 0, sizeof fl);
-    fl.l_type = F_WRLCK;
-    fl.l_whence = SEEK_SET;
-    if (fcntl(fd, F_SETLK, &fl) != 0) {
-        int e = errno;
-        close(fd);
-        return e == EACCES || e == EAGAIN ? -1 : -2;
-    }
-    return fd;
+    int fd = -1;
+    if (eddy_lock_dir(outdir, &fd, NULL) != EDDY_OK)
+        return -1;
+    return fd < 0 ? -2 : fd; /* -2: cannot lock (read-only folder?): go on without */
 }
 
 /* Absolute path of the running program, for the Slurm scripts. */

@@ -100,19 +100,14 @@ static eddy_status load_result(const char *outdir, const app_batch_case *c, case
         r->loss[k] = json_num(p, "loss");
     }
     r->npoint = n;
+    /* the peak is the one result.json reports (design_peak, evaluated once
+     * by the run), not found again here */
+    const cJSON *pk = cJSON_GetObjectItemCaseSensitive(root, "peak");
+    if (cJSON_IsObject(pk)) {
+        r->peak_drag = json_num(pk, "drag_force");
+        r->peak_speed = json_num(pk, "speed");
+    }
     cJSON_Delete(root);
-    int all_pos = n > 0, finite = n > 0;
-    for (k = 0; k < n; k++) {
-        all_pos = all_pos && r->speed[k] > 0;
-        finite = finite && isfinite(r->speed[k]) && isfinite(r->drag[k]);
-    }
-    if (finite) {
-        double v = NAN, f = NAN;
-        if (design_peak(n, r->speed, r->drag, all_pos, &v, &f, NULL, NULL) == EDDY_OK) {
-            r->peak_drag = f;
-            r->peak_speed = v;
-        }
-    }
     return EDDY_OK;
 }
 

@@ -7,6 +7,8 @@
 #include "app/app.h"
 #include "solver/sol_ref.h"
 
+#include <dirent.h>
+#include <errno.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -127,6 +129,56 @@ static eddy_status add_reference(app_report *r, int fill_forces, eddy_error *err
     }
     free(src);
     return EDDY_OK;
+}
+
+int app_run_is_output(const char *f)
+{
+    size_t n = strlen(f);
+    static const char *const fixed[] = {"result.json", "forces.csv", "stopping.csv",
+                                        "forces.png",  "stopping.png", NULL};
+    for (int k = 0; fixed[k] != NULL; k++)
+        if (strcmp(f, fixed[k]) == 0)
+            return 1;
+    if (strstr(f, ".tmp.") != NULL || (n > 4 && strcmp(f + n - 4, ".tmp") == 0))
+        return 1; /* temporaries, also of earlier versions */
+    int png = n > 4 && strcmp(f + n - 4, ".png") == 0;
+    int csv = n > 4 && strcmp(f + n - 4, ".csv") == 0;
+    int vtr = n > 4 && strcmp(f + n - 4, ".vtr") == 0;
+    return (png && (strncmp(f, "jz_", 3) == 0 || strncmp(f, "b_", 2) == 0)) ||
+           (vtr && strncmp(f, "field_", 6) == 0) || (csv && strncmp(f, "profile_", 8) == 0);
+}
+
+eddy_status app_run_clear_outputs(const char *dir, eddy_error *err)
+{
+    DIR *d = opendir(dir);
+    if (d == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot list: %s", dir, strerror(errno));
+    eddy_status s = EDDY_OK;
+    struct dirent *de;
+    while (s == EDDY_OK && (de = readdir(d)) != NULL) {
+        if (de->d_name[0] == '.' || !app_run_is_output(de->d_name))
+            continue;
+        char path[4600];
+        snprintf(path, sizeof path, "%s/%s", dir, de->d_name);
+        if (unlink(path) != 0 && errno != ENOENT)
+            s = EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot remove the previous run's file: %s",
+                           path, strerror(errno));
+    }
+    closedir(d);
+    return s;
+}
+
+/* The output folder of a run: created, locked (*lock, eddy_unlock_dir) and
+ * cleared of a previous run's outputs. */
+static eddy_status open_outdir(const app_report *r, int *lock, eddy_error *err)
+{
+    *lock = -1;
+    eddy_status s = eddy_make_dir(r->outdir, err);
+    if (s == EDDY_OK)
+        s = eddy_lock_dir(r->outdir, lock, err);
+    if (s == EDDY_OK)
+        s = app_run_clear_outputs(r->outdir, err);
+    return s;
 }
 
 /* Defaults for a NULL *o; read the case into a new report.  On failure *out
@@ -365,8 +417,9 @@ eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_repo
     r->t_analyse = info.t_analyse;
     r->ordering = info.ordering;
     r->factor_bytes = sol_factor_bytes(sys);
+    int lock = -1;
     if (s == EDDY_OK)
-        s = eddy_make_dir(r->outdir, err);
+        s = open_outdir(r, &lock, err);
     sweep sw = {.r = r, .o = o, .sys = sys, .status = EDDY_OK};
     if (s == EDDY_OK && sol_is_nonlinear(sys)) {
         /* the static field by Newton-Raphson, also the sweep's starting point */
@@ -414,6 +467,7 @@ eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_repo
         s = write_stop_outputs(r, o, err);
     if (s == EDDY_OK)
         s = app_write_results(r->outdir, r, err);
+    eddy_unlock_dir(lock);
     return s;
 }
 
@@ -427,12 +481,14 @@ eddy_status app_run_reference(const char *case_path, const app_run_opts *o,
     app_report *r = *out;
     r->method = "layered Fourier reference (independent of the grid)";
     s = add_reference(r, 1, err);
+    int lock = -1;
     if (s == EDDY_OK)
-        s = eddy_make_dir(r->outdir, err);
+        s = open_outdir(r, &lock, err);
     if (s == EDDY_OK && o->images)
         s = write_force_plot(r, err);
     if (s == EDDY_OK)
         s = app_write_results(r->outdir, r, err);
+    eddy_unlock_dir(lock);
     return s;
 }
 
@@ -598,18 +654,12 @@ static eddy_status write_force_plot(app_report *r, eddy_error *err)
     po.peak_drag = r->peak_drag;
     po.peak_interpolated = r->peak_refined;
     char path[4200];
-    snprintf(path, sizeof path, "%s/forces.png.tmp", r->outdir);
+    snprintf(path, sizeof path, "%s/forces.png", r->outdir); /* written atomically */
     int nref = r->ref_drag != NULL && r->g != NULL ? n : 0;
     eddy_status s = post_plot_forces_png(path, n, sp, dr, fy, slope, nref, sp, r->ref_drag,
                                          r->ref_force_y, &po, err);
     free(sp);
-    if (s != EDDY_OK)
-        return s;
-    char final[4200];
-    snprintf(final, sizeof final, "%s/forces.png", r->outdir);
-    if (rename(path, final) != 0)
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot rename into place", final);
-    return EDDY_OK;
+    return s;
 }
 
 /* The stop of the case's vehicle: stopping.csv (and stopping.png). */
@@ -644,13 +694,7 @@ static eddy_status write_stop_outputs(app_report *r, const app_run_opts *o, eddy
     xo.y2_label = "deceleration (m/s^2)";
     xo.y1_name = "speed";
     xo.y2_name = "deceleration";
-    snprintf(path, sizeof path, "%s/stopping.png.tmp", r->outdir);
-    s = post_plot_xy_png(path, st->n_samples, st->s_distance, st->s_speed, st->s_decel, &xo, err);
-    if (s != EDDY_OK)
-        return s;
-    char final[4400];
-    snprintf(final, sizeof final, "%s/stopping.png", r->outdir);
-    if (rename(path, final) != 0)
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot rename into place", final);
-    return EDDY_OK;
+    snprintf(path, sizeof path, "%s/stopping.png", r->outdir); /* written atomically */
+    return post_plot_xy_png(path, st->n_samples, st->s_distance, st->s_speed, st->s_decel, &xo,
+                            err);
 }

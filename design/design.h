@@ -14,7 +14,7 @@
 #include "mesh/eddy.h"
 
 /*
- * Brake-design answers from a force-speed curve (prefix post_).
+ * Brake-design answers from a force-speed curve.
  *
  * Pure numerical functions: no grid, no files, no printing.  Input is a table
  * of braking force against speed, already scaled by the caller to the whole

@@ -153,6 +153,21 @@ double eddy_memory_limit(double option_bytes);
  */
 eddy_status eddy_check_output_dir(const char *dir, eddy_error *err);
 
+/*
+ * Take the advisory lock dir/.lock (an fcntl write lock, released when fd is
+ * closed or the process ends; not inherited across fork), so that two runs
+ * never write into one folder at once.
+ *   fd: receives the lock's descriptor (close it with eddy_unlock_dir), or
+ *       -1 when the folder does not allow a lock file (read-only): then the
+ *       run goes on unlocked.
+ * Returns EDDY_OK, or EDDY_ERR_INPUT when another process holds the lock
+ * (the message names the folder).
+ */
+eddy_status eddy_lock_dir(const char *dir, int *fd, eddy_error *err);
+
+/* Release a lock of eddy_lock_dir; accepts -1. */
+void eddy_unlock_dir(int fd);
+
 /* Create a directory and its parents (like mkdir -p).  Returns EDDY_OK or
  * EDDY_ERR_IO. */
 eddy_status eddy_make_dir(const char *dir, eddy_error *err);

@@ -392,3 +392,32 @@ eddy_status eddy_check_output_dir(const char *dir, eddy_error *err)
         }
     }
 }
+
+eddy_status eddy_lock_dir(const char *dir, int *fd, eddy_error *err)
+{
+    char path[4200];
+    snprintf(path, sizeof path, "%s/.lock", dir);
+    *fd = open(path, O_RDWR | O_CREAT | O_CLOEXEC | O_NOFOLLOW, 0666);
+    if (*fd < 0)
+        return EDDY_OK; /* cannot create the lock file (read-only folder?): unlocked */
+    struct flock fl;
+    memset(&fl, 0, sizeof fl);
+    fl.l_type = F_WRLCK;
+    fl.l_whence = SEEK_SET;
+    if (fcntl(*fd, F_SETLK, &fl) != 0) {
+        int e = errno;
+        close(*fd);
+        *fd = -1;
+        if (e == EACCES || e == EAGAIN)
+            return EDDY_RAISE(err, EDDY_ERR_INPUT, "%s: another eddy2d run is writing into this "
+                                                   "folder; wait for it or choose another -o",
+                              dir);
+    }
+    return EDDY_OK;
+}
+
+void eddy_unlock_dir(int fd)
+{
+    if (fd >= 0)
+        close(fd);
+}

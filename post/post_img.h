@@ -104,7 +104,8 @@ eddy_status post_map_geometry(int nx, int ny, const double *x, const double *y,
                               const post_map_opts *o, post_map_geom *g, eddy_error *err);
 
 /* Draw a colour map of a nodal field and write it as a PNG file.
- *   path       output file (overwritten).
+ *   path       output file, replaced atomically (written to a new temporary file
+ *              beside it and renamed when complete; see eddy_atomic_open).
  *   nx, ny     grid size, both >= 2.
  *   x[nx], y[ny] node coordinates in m, finite and strictly increasing
  *              (non-uniform tensor grid).

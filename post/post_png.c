@@ -111,11 +111,14 @@ static int text_records(const post_png_text *kv, int nkv, png_text *text)
 static eddy_status encode(const char *path, int w, int h, int ch, png_bytep *rows, png_text *text,
                           int nt, eddy_error *err)
 {
-    FILE *f = fopen(path, "wb");
-    if (f == NULL) {
-        int e = errno;
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot open for writing: %s", path, strerror(e));
-    }
+    /* a new temporary file renamed over path when complete (mesh/eddy.h): a
+     * failed or interrupted write never leaves a truncated picture, and a
+     * link planted under the final name is replaced, never written through */
+    eddy_atomic_file af;
+    eddy_status st = eddy_atomic_open(&af, path, err);
+    if (st != EDDY_OK)
+        return st;
+    FILE *f = af.f;
     png_err_ctx ctx;
     ctx.msg[0] = '\0';
     png_structp png = png_create_write_struct(PNG_LIBPNG_VER_STRING, &ctx, png_error_cb,
@@ -123,12 +126,12 @@ static eddy_status encode(const char *path, int w, int h, int ch, png_bytep *row
     png_infop info = png != NULL ? png_create_info_struct(png) : NULL;
     if (png == NULL || info == NULL) {
         png_destroy_write_struct(&png, &info);
-        fclose(f);
+        eddy_atomic_abort(&af);
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "%s: cannot set up the PNG writer", path);
     }
     if (setjmp(png_jmpbuf(png))) {
         png_destroy_write_struct(&png, &info);
-        fclose(f);
+        eddy_atomic_abort(&af);
         return EDDY_RAISE(err, EDDY_ERR_IO, "%s: PNG write failed: %s", path, ctx.msg);
     }
     png_init_io(png, f);
@@ -141,15 +144,7 @@ static eddy_status encode(const char *path, int w, int h, int ch, png_bytep *row
     png_write_image(png, rows);
     png_write_end(png, info);
     png_destroy_write_struct(&png, &info);
-    if (ferror(f)) {
-        fclose(f);
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: write error", path);
-    }
-    if (fclose(f) != 0) {
-        int e = errno;
-        return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot close: %s", path, strerror(e));
-    }
-    return EDDY_OK;
+    return eddy_atomic_commit(&af, err);
 }
 
 eddy_status post_png_write(const char *path, cairo_surface_t *surf, const post_png_text *kv,

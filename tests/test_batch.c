@@ -24,6 +24,7 @@
 
 #include "mesh/mesh.h"
 #include "app/app_batch.h"
+#include "design/design.h"
 #include "tests/check.h"
 
 /* Peak of a parabola in log10(speed) through three samples: exact. */
@@ -371,10 +372,21 @@ static void test_collect_and_plan(void)
           "a case without results is not run", "%s", "");
     /* a finished run: result.json, then the marker */
     snprintf(path, sizeof path, "%s/%s/result.json", out, p->cases[1].name);
-    write_file(path,
-               "{\"points\":[{\"speed\":1,\"drag_force\":1,\"force_y\":-1,\"loss\":1},"
-               "{\"speed\":10,\"drag_force\":2,\"force_y\":-3,\"loss\":20},"
-               "{\"speed\":100,\"drag_force\":1,\"force_y\":-4,\"loss\":100}],\"notice\":\"n\"}");
+    {
+        /* a stand-in result.json as a run writes it: its peak is the run's
+         * one rule, design_peak, over the table (the summary must carry it,
+         * not find another) */
+        double sp[3] = {1, 10, 100}, dr[3] = {1, 2, 1}, vpk = NAN, fpk = NAN;
+        design_peak(3, sp, dr, 1, &vpk, &fpk, NULL, NULL);
+        char standin[1024];
+        snprintf(standin, sizeof standin,
+                 "{\"points\":[{\"speed\":1,\"drag_force\":1,\"force_y\":-1,\"loss\":1},"
+                 "{\"speed\":10,\"drag_force\":2,\"force_y\":-3,\"loss\":20},"
+                 "{\"speed\":100,\"drag_force\":1,\"force_y\":-4,\"loss\":100}],"
+                 "\"peak\":{\"drag_force\":%.17g,\"speed\":%.17g},\"notice\":\"n\"}",
+                 fpk, vpk);
+        write_file(path, standin);
+    }
     check(app_batch_case_state(out, &p->cases[1]) == APP_CASE_NOT_RUN,
           "result.json without input.hash is not finished", "%s", "");
     s = app_batch_case_done(out, &p->cases[1], 2.5, &err);
@@ -455,7 +467,8 @@ static void test_collect_and_plan(void)
           cJSON_GetArraySize(rows));
     /* drag 1, 2, 1 at 1, 10, 100 m/s is the parabola 2 - (log10 v - 1)^2: peak 2 at 10 m/s */
     check(fabs(peak - 2.0) < PEAK_TOL && fabs(vpeak - 10.0) < PEAK_TOL * 10,
-          "peak drag from the parabola in log speed", "%.12g N/m at %.12g m/s", peak, vpeak);
+          "summary peak = result.json's (the parabola in log speed)", "%.12g N/m at %.12g m/s",
+          peak, vpeak);
     const cJSON *var = cJSON_GetObjectItemCaseSensitive(r1, "variant");
     check(cJSON_IsNumber(cJSON_GetObjectItemCaseSensitive(var, "speeds.0")),
           "summary.json rows carry the variant values as JSON", "%s", "");

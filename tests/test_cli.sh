@@ -138,4 +138,95 @@ else
     skip "solve -o inside a read-only folder" "running as root, who may write anywhere"
 fi
 
+# outputs never write through a link planted in the output folder: the
+# picture is replaced by a regular file and the link's target is untouched
+rm -rf "$T/lnk" && mkdir -p "$T/lnk"
+echo "precious" > "$T/victim.txt"
+ln -s "$T/victim.txt" "$T/lnk/jz_00_1mps.png"
+ln -s "$T/victim.txt" "$T/lnk/forces.png"
+ln -s "$T/victim.txt" "$T/lnk/result.json"
+$E solve "$T/mem.json" -o "$T/lnk" -q >/dev/null 2>&1
+rc=$?
+if [ $rc -eq 0 ] && [ "$(cat "$T/victim.txt")" = "precious" ] && [ ! -L "$T/lnk/jz_00_1mps.png" ] &&
+    [ -f "$T/lnk/jz_00_1mps.png" ] && [ ! -L "$T/lnk/forces.png" ] && [ ! -L "$T/lnk/result.json" ]; then
+    ok "a link named like an output is replaced, its target untouched"
+else
+    ko "outputs through links" "exit $rc, victim: $(cat "$T/victim.txt" | head -c 40), $(ls -l "$T/lnk" | head -5)"
+fi
+
+# SIGTERM, SIGINT and SIGHUP during a solve: the run dies of the signal, no
+# temporary file is left, and every picture there is complete (ends with
+# the PNG IEND chunk)
+cat > "$T/sig.json" <<'JSON'
+{"name":"sig","length_unit":"mm","domain":{"x":[0,40],"y":[-60,60],"x_boundary":"periodic"},
+ "regions":[{"name":"plate","material":"copper_annealed","box":[0,-4,40,0],"moving":true},
+            {"name":"n","material":"ndfeb_35","box":[1,3,19,9],"magnetization_angle":90},
+            {"name":"s","material":"ndfeb_35","box":[21,3,39,9],"magnetization_angle":-90}],
+ "speeds":{"from":0.5,"to":100,"points":24}}
+JSON
+bad_sig=""
+n_sig=0
+for sig in TERM INT HUP TERM INT HUP; do
+    for delay in 0.3 0.8 1.5; do
+        rm -rf "$T/sigout"
+        $E solve "$T/sig.json" -o "$T/sigout" -q -j 1 >/dev/null 2>&1 &
+        pid=$!
+        sleep $delay
+        kill -$sig $pid 2>/dev/null
+        wait $pid 2>/dev/null
+        n_sig=$((n_sig + 1))
+        left=$(find "$T/sigout" -name '*.tmp*' 2>/dev/null | wc -l)
+        trunc=0
+        for f in "$T"/sigout/*.png; do
+            [ -f "$f" ] || continue
+            [ "$(tail -c 8 "$f" | od -An -c | tr -d ' \n')" = 'IEND256B`202' ] || trunc=$((trunc + 1))
+        done
+        [ "$left" -eq 0 ] && [ "$trunc" -eq 0 ] || bad_sig="$bad_sig SIG$sig@${delay}s: $left temporaries, $trunc truncated;"
+    done
+done
+if [ -z "$bad_sig" ]; then
+    ok "SIGTERM/SIGINT/SIGHUP during a solve leave no temporary and no truncated picture" "$n_sig runs"
+else
+    ko "signals during a solve" "$bad_sig"
+fi
+
+# re-solving into an old folder removes that run's pictures and fields (and
+# only the tool's own files): nothing stale sits beside the new result.json
+rm -rf "$T/old" && mkdir -p "$T/old"
+for f in jz_07_999mps.png b_07_999mps.png field_07_999mps.vtr profile_p_07_999mps.csv stopping.png; do
+    echo stale > "$T/old/$f"
+done
+echo mine > "$T/old/notes.txt"
+$E solve "$T/mem.json" -o "$T/old" -q --vtk >/dev/null 2>&1
+rc=$?
+stale=$(ls "$T/old" | grep -c '999mps\|stopping')
+if [ $rc -eq 0 ] && [ "$stale" -eq 0 ] && [ "$(cat "$T/old/notes.txt")" = mine ] && [ -f "$T/old/jz_00_1mps.png" ]; then
+    ok "re-solving removes the previous run's outputs, keeps other files"
+else
+    ko "stale outputs" "exit $rc, $stale stale files: $(ls "$T/old" | tr '\n' ' ')"
+fi
+
+# one run at a time in a folder: while another process holds the folder's
+# lock, solve exits 2 naming the folder and writes nothing
+PY=$(command -v python3 || true)
+if [ -n "$PY" ]; then
+    rm -rf "$T/locked" && mkdir -p "$T/locked"
+    "$PY" -c 'import fcntl,sys,time
+f=open(sys.argv[1]+"/.lock","w"); fcntl.lockf(f, fcntl.LOCK_EX); open(sys.argv[1]+"/held","w").close(); time.sleep(30)' "$T/locked" &
+    holder=$!
+    for w in 1 2 3 4 5 6 7 8 9 10; do [ -e "$T/locked/held" ] && break; sleep 0.2; done
+    msg=$($E solve "$T/mem.json" -o "$T/locked" -q 2>&1)
+    rc=$?
+    kill $holder 2>/dev/null
+    wait $holder 2>/dev/null
+    if [ $rc -eq 2 ] && echo "$msg" | grep -q "another eddy2d run is writing into this folder" &&
+        [ ! -e "$T/locked/result.json" ]; then
+        ok "a second run into a locked folder exits 2 and writes nothing"
+    else
+        ko "folder lock" "exit $rc: $msg"
+    fi
+else
+    skip "folder lock" "python3 is not installed (used to hold the lock)"
+fi
+
 finish
