@@ -418,11 +418,16 @@ int main(void)
         test_peak_runs(casefile);
     if (s == EDDY_OK) {
         pipe_run p;
-        if (pipe_open(&p, case_text) == 0) {
+        int opened = pipe_open(&p, case_text) == 0;
+        check(opened, "the picture checks' pipeline runs", "%s", opened ? "" : "failed");
+        if (opened) {
             test_maps(&p);
             post_forces fc;
-            pipe_speed(&p, 20.0, &fc);
-            test_profile_and_vtk(&p);
+            int solved = pipe_speed(&p, 20.0, &fc) == 0;
+            check(solved, "the profile and VTK checks' solve at 20 m/s", "%s",
+                  solved ? "" : "failed");
+            if (solved)
+                test_profile_and_vtk(&p);
             pipe_free(&p);
         }
     }

@@ -772,6 +772,37 @@ static void test_force_plots(void)
     }
 }
 
+/* A written picture decodes at the requested width, is not blank (many
+ * distinct colours: the map, its colour bar and the text) and holds both a
+ * warm and a cool map colour where the field has both signs. */
+static void check_showcase(const char *name, eddy_status st, const eddy_error *err,
+                           int want_w, int diverging)
+{
+    image im;
+    char what[160];
+    snprintf(what, sizeof what, "%s: written, decodes at %d px, not blank", name, want_w);
+    if (st != EDDY_OK || read_png(out_path(name), &im) != 0) {
+        check(0, what, "%s", st != EDDY_OK ? err->msg : "cannot decode");
+        return;
+    }
+    /* distinct colours, counted on a 32-level-per-channel lattice */
+    static unsigned char seen[32 * 32 * 32];
+    memset(seen, 0, sizeof seen);
+    int ncol = 0, warm = 0, cool = 0;
+    for (long k = 0; k < (long)im.w * im.h; k++) {
+        const unsigned char *c = im.rgb + 3 * k;
+        int q = (c[0] >> 3) * 1024 + (c[1] >> 3) * 32 + (c[2] >> 3);
+        ncol += !seen[q];
+        seen[q] = 1;
+        warm += c[0] > c[2] + 60;
+        cool += c[2] > c[0] + 60;
+    }
+    check(im.w == want_w && im.h > 100 && ncol >= 50 && (!diverging || (warm > 100 && cool > 100)),
+          what, "%d x %d px, %d colours, %d warm and %d cool pixels", im.w, im.h, ncol, warm,
+          cool);
+    image_free(&im);
+}
+
 /* A showcase picture: a moving conducting strip under a magnet (synthetic
  * fields, not a solution), J_z masked to the strip, flux lines, outlines. */
 static void render_showcase(void)
@@ -827,21 +858,21 @@ static void render_showcase(void)
     o.version = "0.1-test";
     eddy_error err = {0};
     eddy_status st = post_map_png(out_path("showcase_jz.png"), NX, NY, x, y, jz, mask, a, &o, &err);
-    check(st == EDDY_OK, "showcase_jz", "%s", err.msg);
+    check_showcase("showcase_jz.png", st, &err, o.width_px > 0 ? o.width_px : 1200, 1);
     o.title = "showcase \xe2\x80\x93 flux density";
     o.quantity = "|B|";
     o.unit_label = "T";
     o.value_scale = 1.0;
     o.diverging = 0;
     st = post_map_png(out_path("showcase_b.png"), NX, NY, x, y, bm, NULL, a, &o, &err);
-    check(st == EDDY_OK, "showcase_b", "%s", err.msg);
+    check_showcase("showcase_b.png", st, &err, o.width_px > 0 ? o.width_px : 1200, 0);
     /* a small, flat picture: labels must still fit */
     o.width_px = 600;
     o.view[1] = -0.01;
     o.view[3] = 0.01;
     o.title = "narrow strip, 600 px";
     st = post_map_png(out_path("showcase_small.png"), NX, NY, x, y, bm, NULL, a, &o, &err);
-    check(st == EDDY_OK, "showcase_small", "%s", err.msg);
+    check_showcase("showcase_small.png", st, &err, 600, 0);
     /* a tall view reaching past the grid (white there), in metres */
     o.width_px = 700;
     o.view[0] = -0.03;
@@ -852,7 +883,7 @@ static void render_showcase(void)
     o.length_scale = 1.0;
     o.title = "tall view past the grid edge";
     st = post_map_png(out_path("showcase_tall.png"), NX, NY, x, y, bm, NULL, a, &o, &err);
-    check(st == EDDY_OK, "showcase_tall", "%s", err.msg);
+    check_showcase("showcase_tall.png", st, &err, 700, 0);
 }
 
 /* Braking by a drag force of the eddy-current shape F(v) = 2 F0 u/(1 + u^2),
