@@ -57,6 +57,11 @@ typedef struct {
     app_ref_state ref_state;
     char ref_note[512];
     double *ref_drag, *ref_force_y; /* N/m from the reference, NULL unless it applies */
+    double ref_mu1_offset;      /* APP_REF_APPROXIMATE (magnets' recoil mu_r taken as 1):
+                                 * the grid's own low-speed drag with the magnets at
+                                 * mu_r = 1 over the real one, minus 1 (the offset the
+                                 * reference is expected to show at low speed); NAN if
+                                 * not computed */
     const char *ordering;       /* fill-reducing ordering used (static text) */
     double factor_bytes;        /* UMFPACK's estimated peak memory of one factorisation */
     int threads;                /* speeds solved at once */

@@ -183,7 +183,7 @@ static void print_table(const app_report *r)
     if (end)
         printf(" %14s", "drag end-corr");
     if (ref)
-        printf(" %18s", "reference drag");
+        printf(" %18s", r->ref_state == APP_REF_APPROXIMATE ? "ref (mu_r=1 mag)" : "reference drag");
     printf("\n");
     for (int k = 0; k < r->npoint; k++) {
         const post_forces *f = &r->f[k];
@@ -221,6 +221,9 @@ static int cmd_solve(const char *path, int reference_only, const app_run_opts *o
         if (r->ref_state == APP_REF_NOT_APPLICABLE && !reference_only)
             printf("reference: the layered Fourier reference does not fit this case (%s)\n",
                    r->ref_note);
+        else if (r->ref_state == APP_REF_APPROXIMATE && isfinite(r->ref_mu1_offset))
+            printf("reference: %s; expected offset from that alone at low speed %+.2f %%\n",
+                   r->ref_note, 100.0 * r->ref_mu1_offset);
         else if (r->ref_state == APP_REF_APPROXIMATE || r->ref_state == APP_REF_OK ||
                  r->ref_state == APP_REF_FAILED)
             printf("reference: %s\n", r->ref_note);

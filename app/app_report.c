@@ -71,6 +71,17 @@ static void add_reference(cJSON *root, const app_report *r)
                           r->ref_state == APP_REF_OK || r->ref_state == APP_REF_APPROXIMATE));
     J(cJSON_AddStringToObject(ref, "state", state));
     J(cJSON_AddStringToObject(ref, "note", r->ref_note));
+    if (r->ref_state == APP_REF_APPROXIMATE) {
+        /* the reference takes the magnets at mu_r = 1: say so with every
+         * reference number, and give the offset that brings at low speed,
+         * measured on the grid (app_report.ref_mu1_offset) */
+        J(cJSON_AddStringToObject(ref, "label", "reference (mu_r = 1 magnets)"));
+        add_num(ref, "expected_offset_low_speed", r->ref_mu1_offset);
+        J(cJSON_AddStringToObject(ref, "expected_offset_note",
+                                  "reference_drag / drag_force - 1 expected at low speed from the "
+                                  "magnets' recoil permeability alone: the grid's low-speed drag "
+                                  "with the magnets at mu_r = 1 over the real one, minus 1"));
+    }
 }
 
 /* Brake-design answers: peak, stop, end effect, temperature, disc. */

@@ -141,6 +141,8 @@ typedef struct {
     /* The drag peak to mark.  The plot does not look for a peak itself: it
      * draws the one the caller reports (the application passes result.json's
      * "peak", found by design_peak, design/design.h section 7).             */
+    const char *ref_label; /* legend name of the reference curves; NULL:
+                              "reference"                                    */
     int has_peak;          /* 1: mark the peak below; 0: no peak marker       */
     double peak_speed;     /* m/s, signed like the speeds; finite, inside the
                               range of speed[] (to 1e-9 relative) and, on a

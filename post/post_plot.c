@@ -38,6 +38,7 @@ typedef struct {
     int ref_n;
     const double *ref_speed, *ref_drag, *ref_normal;
     const post_plot_opts *o;
+    char ref_drag_label[128], ref_normal_label[128]; /* legend names of the reference */
     int W, H;
     /* the speed axis */
     double amin, amax, smin, smax; /* |v| and v over all points           */
@@ -276,16 +277,19 @@ static void forces_curves(forces_plot *F, cairo_t *cr)
     cairo_clip(cr);
     if (isfinite(F->slope))
         forces_slope_line(F, cr);
+    const char *rl = F->o != NULL && F->o->ref_label != NULL ? F->o->ref_label : "reference";
+    snprintf(F->ref_drag_label, sizeof F->ref_drag_label, "drag, %s", rl);
+    snprintf(F->ref_normal_label, sizeof F->ref_normal_label, "normal force, %s", rl);
     if (rn > 0 && F->ref_drag != NULL) {
         post_chart_series(cr, ax, rn, F->rxs, F->ref_drag, F->rorder, col_drag, 1.4 * s, 0.55, 0,
                           0.0);
         F->leg[F->nleg++] =
-            (post_legend_entry){"drag, reference", col_drag, 0, 1.4 * s, 0.55, 0, 2};
+            (post_legend_entry){F->ref_drag_label, col_drag, 0, 1.4 * s, 0.55, 0, 2};
     }
     if (rn > 0 && F->ref_normal != NULL) {
         post_chart_series(cr, ax, rn, F->rxs, F->ref_normal, F->rorder, col_normal, 1.4 * s, 0.55,
                           0, 0.0);
-        F->leg[F->nleg++] = (post_legend_entry){"normal force, reference", col_normal, 0, 1.4 * s,
+        F->leg[F->nleg++] = (post_legend_entry){F->ref_normal_label, col_normal, 0, 1.4 * s,
                                                 0.55, 0, 3};
     }
     if (F->normal != NULL) {
