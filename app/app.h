@@ -31,6 +31,9 @@ typedef struct {
     /* saturable materials: the Newton-Raphson solve (newton.iterations = 0
      * and newton.n_residual = 0 for a linear case) */
     sol_newton_info newton;
+    int file_index;   /* the number in the point's file names (jz_<NN>_...): its
+                       * index when it was solved; app_run_solve renumbers the
+                       * files to the speed order at the end */
 } app_point_info;
 
 /* Whether the layered Fourier reference applies to a case. */

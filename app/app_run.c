@@ -204,6 +204,41 @@ static eddy_status unit_mu_magnets_offset(app_report *r, sol_system *sys, double
     return s;
 }
 
+/* Picture, field and profile files carry the number of their point: an
+ * adaptive sweep solves out of speed order, so once the points are sorted
+ * the files of point q, written under its solve index, are renamed to q
+ * (the speed in each name keeps old and new names distinct). */
+static eddy_status renumber_point_files(app_report *r, eddy_error *err)
+{
+    const mesh_case *c = r->c;
+    for (int q = 0; q < r->npoint; q++) {
+        int k = r->info[q].file_index;
+        if (k == q)
+            continue;
+        double v = r->f[q].speed;
+        char from[64], to[64];
+        snprintf(from, sizeof from, "_%02d_%.6gmps.", k, v);
+        snprintf(to, sizeof to, "_%02d_%.6gmps.", q, v);
+        const char *kinds[] = {"jz%spng", "b%spng", "field%svtr"};
+        for (int m = 0; m < 3 + c->nprofile; m++) {
+            char fmt[160], a[4400], b[4400], name[200];
+            if (m < 3)
+                snprintf(fmt, sizeof fmt, "%s", kinds[m]);
+            else
+                snprintf(fmt, sizeof fmt, "profile_%s%%scsv", c->profiles[m - 3].name);
+            snprintf(name, sizeof name, fmt, from);
+            snprintf(a, sizeof a, "%s/%s", r->outdir, name);
+            snprintf(name, sizeof name, fmt, to);
+            snprintf(b, sizeof b, "%s/%s", r->outdir, name);
+            if (rename(a, b) != 0 && errno != ENOENT)
+                return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot rename to %s: %s", a, b,
+                                  strerror(errno));
+        }
+        r->info[q].file_index = q;
+    }
+    return EDDY_OK;
+}
+
 /* The output folder of a run: created, locked (*lock, eddy_unlock_dir) and
  * cleared of a previous run's outputs. */
 static eddy_status open_outdir(const app_report *r, int *lock, eddy_error *err)
@@ -323,7 +358,7 @@ static void *sweep_worker(void *arg)
         if (s == EDDY_OK && (sw->o->images || sw->o->vtk || r->c->nprofile > 0))
             s = write_field_outputs(r, &gsol, sw->o, k, a, pf, &err);
         r->info[k] = (app_point_info){info.t_assemble, info.t_factor, info.t_solve, eddy_now() - tp,
-                                       info.lnz, info.unz, info.flops, nli};
+                                       info.lnz, info.unz, info.flops, nli, k};
         if (s == EDDY_OK && sw->o->progress != NULL) {
             pthread_mutex_lock(&sw->lock);
             sw->o->progress(sw->o->progress_ctx, sw->done++, r->npoint, &r->f[k]);
@@ -494,6 +529,8 @@ eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_repo
     }
     if (s == EDDY_OK)
         app_design_sort(r);
+    if (s == EDDY_OK)
+        s = renumber_point_files(r, err);
     free(a); /* the static field */
     sol_system_free(sys);
     if (s == EDDY_OK && o->reference)

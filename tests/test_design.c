@@ -61,6 +61,18 @@ static void test_adaptive_peak_and_stop(void)
     eddy_status s;
     app_report *r = solve_text("thin_auto", json, &s, &err);
     check(s == EDDY_OK, "adaptive sweep with a vehicle solves", "%s", err.msg);
+    if (s == EDDY_OK) {
+        /* the pictures are numbered in speed order, though the adaptive sweep
+         * solved the added speeds last */
+        int in_order = r->npoint > 7;
+        for (int k = 0; in_order && k < r->npoint; k++) {
+            char path[600];
+            snprintf(path, sizeof path, "%s/thin_auto/jz_%02d_%.6gmps.png", dir, k, r->f[k].speed);
+            in_order = access(path, F_OK) == 0 && (k == 0 || r->f[k].speed > r->f[k - 1].speed);
+        }
+        check(in_order, "adaptive sweep: picture k is the k-th speed in increasing order",
+              "%d points", r->npoint);
+    }
     if (s != EDDY_OK) {
         app_report_free(r);
         return;
