@@ -88,6 +88,21 @@ static unsigned char *slurp(const char *path, size_t *len)
     return buf;
 }
 
+/* Replay the file dir/name: *rd and *nc as fuzz_one (EDDY_ERR_IO, -1 when it
+ * cannot be read). */
+static void replay_file(const char *dir, const char *name, eddy_status *rd, int *nc)
+{
+    char path[1024];
+    snprintf(path, sizeof path, "%.700s/%.255s", dir, name);
+    size_t len = 0;
+    unsigned char *buf = slurp(path, &len);
+    *rd = EDDY_ERR_IO;
+    *nc = -1;
+    if (buf != NULL)
+        fuzz_one(buf, len, rd, nc);
+    free(buf);
+}
+
 /* The regular files of dir (names only, sorted, at most max); returns the count. */
 static int list_dir(const char *dir, char names[][256], int max)
 {
@@ -161,19 +176,13 @@ static void replay_expect(const char *dir, int want_ok, const char *what)
 {
     int n = list_dir(dir, names, MAX_FILES), good = 0;
     for (int k = 0; k < n; k++) {
-        char path[1024];
-        snprintf(path, sizeof path, "%.700s/%.255s", dir, names[k]);
-        size_t len = 0;
-        unsigned char *buf = slurp(path, &len);
-        eddy_status rd = EDDY_ERR_IO;
-        int nc = -1;
-        if (buf != NULL)
-            fuzz_one(buf, len, &rd, &nc);
-        free(buf);
+        eddy_status rd;
+        int nc;
+        replay_file(dir, names[k], &rd, &nc);
         if ((rd == EDDY_OK && nc > 0) == want_ok)
             good++;
         else
-            printf("# %s: read status %d, %d cases\n", path, (int)rd, nc);
+            printf("# %s/%s: read status %d, %d cases\n", dir, names[k], (int)rd, nc);
     }
     check(n > 0 && good == n, what, "%d of %d files in %s", good, n, dir);
 }
@@ -184,15 +193,9 @@ static int record(const char *dir)
     int n = list_dir(dir, names, MAX_FILES);
     printf("# file, read status (eddy_status), cases of the variant expansion (-1: rejected)\n");
     for (int k = 0; k < n; k++) {
-        char path[1024];
-        snprintf(path, sizeof path, "%.700s/%.255s", dir, names[k]);
-        size_t len = 0;
-        unsigned char *buf = slurp(path, &len);
-        eddy_status rd = EDDY_ERR_IO;
-        int nc = -1;
-        if (buf != NULL)
-            fuzz_one(buf, len, &rd, &nc);
-        free(buf);
+        eddy_status rd;
+        int nc;
+        replay_file(dir, names[k], &rd, &nc);
         printf("%s %d %d\n", names[k], (int)rd, nc);
     }
     return 0;
