@@ -207,6 +207,10 @@ eddy_status app_design_evaluate(app_report *r, eddy_error *err)
         in.to_speed = h->to_speed;
         in.interp = DESIGN_INTERP_LOGLOG;
         in.n_samples = 201;
+        if (r->has_peak) { /* the peak deceleration at result.json's peak */
+            in.peak_speed = r->peak_speed;
+            in.peak_force = fmax(r->peak_drag, 0.0) * h->depth * h->repeat;
+        }
         s = design_stop_compute(m, sp, force, &in, &r->stop, err);
         if (s == EDDY_OK) {
             r->has_stop = 1;

@@ -161,6 +161,12 @@ typedef struct {
                            the most accurate for log-spaced speed lists (see
                            design_stop_compute)                                  */
     int n_samples;      /* trajectory points: 0 (none) or >= 2, <= 10^7       */
+    /* The drag peak the caller reports (design_peak on the same table, scaled
+     * like the forces), so that the peak deceleration uses that one peak and
+     * not the largest sample: peak_force N at peak_speed m/s; peak_speed 0
+     * (the default): none, the largest of the ends and the samples is used.
+     * A peak outside (to_speed, from_speed) does not count. */
+    double peak_speed, peak_force;
 } design_stop_input;
 
 /* Fill *in with: mass 1 kg, extra_force 0, from_speed and to_speed 0 (the

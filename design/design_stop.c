@@ -306,6 +306,13 @@ eddy_status design_stop_compute(int n, const double *speed, const double *force,
             f_peak = force[i];
             v_peak = speed[i];
         }
+    /* the caller's peak (one rule with result.json's "peak") where it lies
+     * within the stop */
+    if (in->peak_speed > v1 && in->peak_speed < v0 && isfinite(in->peak_force) &&
+        in->peak_force > f_peak) {
+        f_peak = in->peak_force;
+        v_peak = in->peak_speed;
+    }
 
     res->distance = tot[0];
     res->time = tot[1];

@@ -95,6 +95,17 @@ static void test_adaptive_peak_and_stop(void)
     }
     x *= hv / 3.0;
     t *= hv / 3.0;
+    /* one peak: the stop's peak deceleration is at the reported drag peak
+     * (inside the stop's speeds here), with its force, not at the largest
+     * sample; the closed form puts it at F0/2 at v = w */
+    double f0 = MU0 * I_LINE * I_LINE / (4.0 * PI * H);
+    check(r->has_stop && r->has_peak && r->stop.speed_at_peak == r->peak_speed &&
+              fabs(r->stop.peak_decel - r->peak_drag * depth / mass) <= 1e-12 * r->stop.peak_decel &&
+              fabs(r->stop.peak_decel * mass / depth - 0.5 * f0) <= TOL_STOP * 0.5 * f0,
+          "stop: peak deceleration at the reported peak (F0/2 depth / m at v = w)",
+          "%.6g m/s^2 at %.5g w; peak drag %.6g N/m at %.5g w; closed form %.6g m/s^2",
+          r->has_stop ? r->stop.peak_decel : NAN, r->has_stop ? r->stop.speed_at_peak / w : NAN,
+          r->peak_drag, r->peak_speed / w, 0.5 * f0 * depth / mass);
     check(r->has_stop && fabs(r->stop.distance - x) <= TOL_STOP * x,
           "stopping distance vs the integral of the closed-form thin-sheet force",
           "%.6g m vs %.6g m", r->has_stop ? r->stop.distance : NAN, x);
