@@ -99,6 +99,8 @@ typedef struct {
     eddy_status error_status;
     char error[1024];    /* names the file, the variant and the JSON path      */
     char *warnings;      /* NULL, or the reader's warnings, one per line        */
+    double speed_max;    /* m/s, the largest |speed| of the case (0 if invalid) */
+    double design_speed; /* m/s, its mesh.design_speed (0: none)                */
 } app_batch_case;
 
 /*

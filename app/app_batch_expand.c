@@ -268,6 +268,10 @@ static eddy_status validate_case(app_batch_case *c)
         mesh_case_free(mc);
         return EDDY_OK;
     }
+    c->speed_max = 0.0;
+    for (int k = 0; k < mc->nspeed; k++)
+        c->speed_max = fmax(c->speed_max, fabs(mc->speeds[k]));
+    c->design_speed = mc->mesh.design_speed;
     if (mc->nwarn > 0) {
         eddy_text b = {0};
         for (int k = 0; k < mc->nwarn; k++) {
@@ -616,6 +620,65 @@ static eddy_status build_case(app_batch_case *c, const char *name, const char *s
     return EDDY_OK;
 }
 
+/* Variants are compared like with like only on meshes made by the same
+ * rules, and the mesher resolves the skin depth up to the highest speed
+ * (or mesh.design_speed): where the variants of a file solve different
+ * speed lists and none gives mesh.design_speed, every variant gets
+ * "mesh": {"design_speed": the highest speed of them all}, written into its
+ * expanded text (case.json shows it) and its hash. */
+static eddy_status share_mesh_rules(app_batch_case *cs, long total, int images,
+                                    const char *source, eddy_error *err)
+{
+    double lo = INFINITY, hi = 0.0;
+    for (long t = 0; t < total; t++) {
+        if (cs[t].invalid)
+            continue;
+        if (cs[t].design_speed > 0)
+            return EDDY_OK; /* the user chose the rule */
+        lo = fmin(lo, cs[t].speed_max);
+        hi = fmax(hi, cs[t].speed_max);
+    }
+    if (!(hi > lo))
+        return EDDY_OK;
+    for (long t = 0; t < total; t++) {
+        app_batch_case *c = &cs[t];
+        if (c->invalid)
+            continue;
+        cJSON *root = cJSON_Parse(c->text);
+        cJSON *mesh = root != NULL ? cJSON_GetObjectItemCaseSensitive(root, "mesh") : NULL;
+        if (root != NULL && mesh == NULL)
+            mesh = cJSON_AddObjectToObject(root, "mesh");
+        cJSON *ds = mesh != NULL ? cJSON_GetObjectItemCaseSensitive(mesh, "design_speed") : NULL;
+        if (cJSON_IsNumber(ds))
+            cJSON_SetNumberValue(ds, hi); /* an explicit 0: off */
+        else if (mesh == NULL || !cJSON_IsObject(mesh) || ds != NULL ||
+                 cJSON_AddNumberToObject(mesh, "design_speed", hi) == NULL) {
+            cJSON_Delete(root);
+            return no_memory(source, err);
+        }
+        char *printed = cJSON_Print(root);
+        cJSON_Delete(root);
+        size_t plen = printed != NULL ? strlen(printed) : 0;
+        char *text = printed != NULL ? malloc(plen + 2) : NULL;
+        if (text == NULL) {
+            cJSON_free(printed);
+            return no_memory(source, err);
+        }
+        memcpy(text, printed, plen);
+        text[plen] = '\n';
+        text[plen + 1] = '\0';
+        cJSON_free(printed);
+        free(c->text);
+        c->text = text;
+        free(c->warnings);
+        c->warnings = NULL;
+        app_batch_text_hash(c->text, images, c->hash);
+        if (validate_case(c) != EDDY_OK)
+            return no_memory(source, err);
+    }
+    return EDDY_OK;
+}
+
 eddy_status app_batch_expand(const char *text, const char *source, int images,
                              app_batch_case **cases, int *ncase, eddy_error *err)
 {
@@ -659,6 +722,8 @@ eddy_status app_batch_expand(const char *text, const char *source, int images,
         case_names(basename, keys, nkey, total, names);
     for (long t = 0; t < total && s == EDDY_OK; t++)
         s = build_case(&out[t], names[t], source, base, keys, nkey, t, total, images, err);
+    if (s == EDDY_OK && nkey > 0)
+        s = share_mesh_rules(out, total, images, source, err);
     free(names);
     free(keys);
     cJSON_Delete(base);

@@ -156,6 +156,35 @@ static void test_expand_plain(void)
     app_batch_cases_free(cs, n);
 }
 
+/* Variants with different speed lists share the mesh rules: each expanded
+ * case gets mesh.design_speed = the highest speed of them all (the mesher
+ * resolves the skin depth up to it), unless the case gives one; variants
+ * with one speed list are left alone. */
+static void test_shared_mesh_rules(void)
+{
+    app_batch_case *cs = NULL;
+    int n = 0;
+    eddy_error err;
+    eddy_status s = expand(",\"variants\":{\"speeds.2\":[20,80]}", &cs, &n, &err);
+    int ok = s == EDDY_OK && n == 2;
+    for (int k = 0; ok && k < n; k++)
+        ok = !cs[k].invalid && strstr(cs[k].text, "\"design_speed\":\t80") != NULL &&
+             cs[k].design_speed == 80.0;
+    check(ok, "variants with different speed lists share mesh.design_speed = 80 m/s", "%s",
+          ok ? "" : (s == EDDY_OK && n > 0 ? cs[0].text : err.msg));
+    app_batch_cases_free(cs, n);
+    s = expand(",\"variants\":{\"regions.fin.box\":[[0,-4,40,0],[0,-6,40,0]]}", &cs, &n, &err);
+    ok = s == EDDY_OK && n == 2 && strstr(cs[0].text, "design_speed") == NULL &&
+         strstr(cs[1].text, "design_speed") == NULL;
+    check(ok, "variants with one speed list keep their mesh rules", "%s", ok ? "" : err.msg);
+    app_batch_cases_free(cs, n);
+    s = expand(",\"mesh\":{\"design_speed\":50},\"variants\":{\"speeds.2\":[20,80]}", &cs, &n,
+               &err);
+    ok = s == EDDY_OK && n == 2 && cs[0].design_speed == 50.0 && cs[1].design_speed == 50.0;
+    check(ok, "a case's own mesh.design_speed is kept", "%s", ok ? "" : err.msg);
+    app_batch_cases_free(cs, n);
+}
+
 static void test_expand_variants(void)
 {
     app_batch_case *cs = NULL;
@@ -614,6 +643,7 @@ int main(void)
     test_hash();
     test_expand_plain();
     test_expand_variants();
+    test_shared_mesh_rules();
     test_expand_errors();
     test_collect_and_plan();
     char cmd[600];
