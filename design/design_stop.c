@@ -55,31 +55,31 @@ typedef struct {
     double node[GL_N], weight[GL_N];
 } gauss_rule;
 
+/* The Legendre polynomial P_n(z), n = GL_N, by its three-term recurrence,
+ * and its derivative P_n'(z) into *dp. */
+static double legendre(double z, double *dp)
+{
+    double p0 = 1.0, p1 = z;
+    for (int j = 2; j <= GL_N; j++) {
+        double p2 = ((2.0 * j - 1.0) * z * p1 - (j - 1.0) * p0) / j;
+        p0 = p1;
+        p1 = p2;
+    }
+    *dp = GL_N * (z * p1 - p0) / (z * z - 1.0);
+    return p1;
+}
+
 static void gauss_rule_init(gauss_rule *g)
 {
     for (int i = 0; i < GL_N; i++) {
         double z = cos(EDDY_PI * (i + 0.75) / (GL_N + 0.5)), dp = 1.0;
-        for (int it = 0; it < 100; it++) {
-            double p0 = 1.0, p1 = z;
-            for (int j = 2; j <= GL_N; j++) {
-                double p2 = ((2.0 * j - 1.0) * z * p1 - (j - 1.0) * p0) / j;
-                p0 = p1;
-                p1 = p2;
-            }
-            dp = GL_N * (z * p1 - p0) / (z * z - 1.0);
-            double dz = p1 / dp;
+        for (int it = 0; it < 100; it++) { /* Newton on P_n */
+            double dz = legendre(z, &dp) / dp;
             z -= dz;
             if (fabs(dz) < 1e-16)
                 break;
         }
-        /* recompute P_n' at the converged node */
-        double p0 = 1.0, p1 = z;
-        for (int j = 2; j <= GL_N; j++) {
-            double p2 = ((2.0 * j - 1.0) * z * p1 - (j - 1.0) * p0) / j;
-            p0 = p1;
-            p1 = p2;
-        }
-        dp = GL_N * (z * p1 - p0) / (z * z - 1.0);
+        legendre(z, &dp); /* P_n' at the converged node */
         g->node[i] = z;
         g->weight[i] = 2.0 / ((1.0 - z * z) * dp * dp);
     }
