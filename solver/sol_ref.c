@@ -30,20 +30,29 @@
  *     coil:    P = jz e^{-ik xc} w sinc(k w/2) * Y,        w = x1 - x0
  *     magnet:  P = (Br/mu0) e^{-ik xc} 2i sin(k w/2) * Y,
  *     Y = e^{-k y0} (1 - e^{-kH})/k,  H = y1 - y0,  xc the centre.
- * Plate.  Below it a = E e^{ky}; inside a = C e^{gamma y} + D e^{-gamma(y+d)}
- * (both exponentials bounded by 1 in the plate).  Continuity of a and a'
- * (mu_r = 1) at y = -d gives D = C rho0 e^{-gamma d}, rho0 = (gamma-k)/(gamma+k).
- * Above it a = alpha (e^{ky} + R e^{-ky}); continuity at y = 0 of a and a' gives
- *     R = (1 - eta)/(1 + eta),  eta = gamma (1 - rho)/(k (1 + rho)),
+ * Plate of relative permeability m = mu_r = 1 + chi (linear):
+ *     -(1/(mu0 m)) a'' + ... gives a'' = gamma^2 a, gamma^2 = k^2 + i k m kappa.
+ * Below it a = E e^{ky}; inside a = C e^{gamma y} + D e^{-gamma(y+d)} (both
+ * exponentials bounded by 1 in the plate).  Continuity of a and of H_x =
+ * a'/(mu0 mu_r) at y = -d gives D = C rho0 e^{-gamma d},
+ * rho0 = (gamma - m k)/(gamma + m k).  Above it a = alpha (e^{ky} + R e^{-ky});
+ * continuity at y = 0 of a and a'/mu_r gives
+ *     R = (1 - eta)/(1 + eta),  eta = gamma (1 - rho)/(m k (1 + rho)),
  *     rho = rho0 e^{-2 gamma d},
- * and, eliminating the cancellations (with gamma - k = i k kappa/(gamma + k),
- * E2 = 1 - e^{-2 gamma d} evaluated as -expm1), the stable forms used below:
- *     Den = 2 (gamma + k) + 2 e^{-2 gamma d} (gamma - k) + i kappa E2
- *     R   = -i kappa E2 / Den
- *     C   = alpha * 2 (gamma + k) / Den          (= alpha (1+R)/(1+rho))
- *     D   = alpha * 2 (gamma - k) e^{-gamma d} / Den.
- * R -> 0 for v -> 0; for a thin sheet (gamma d << 1) R -> -i v/(w + i v),
- * w = 2/(mu0 sigma d), Reitz's receding image.
+ * the transfer relation of a magnetisable conducting layer (for m = 1 the
+ * formula above; for v = 0 and d -> inf, R = (m - 1)/(m + 1), the image of a
+ * line current in a permeable half-space, e.g. K. J. Binns, P. J. Lawrenson,
+ * C. W. Trowbridge, "The Analytical and Numerical Solution of Electric and
+ * Magnetic Fields", Wiley 1992, ch. 2 (reference from memory)).  Multiplying
+ * through by (gamma + m k) and writing G = gamma^2 - m^2 k^2 = k^2 (1 - m^2)
+ * + i k m kappa exactly (no cancellation), gamma - m k = G / (gamma + m k),
+ * E2 = 1 - e^{-2 gamma d} evaluated as -expm1, the stable forms used below:
+ *     Den = (gamma + m k)^2 - e^{-2 gamma d} (gamma - m k)^2
+ *     R   = -G E2 / Den
+ *     C   = alpha * 2 m k (gamma + m k) / Den    (= alpha (1+R)/(1+rho))
+ *     D   = alpha * 2 m k (gamma - m k) e^{-gamma d} / Den.
+ * For m = 1, R -> 0 for v -> 0; for a thin sheet (gamma d << 1)
+ * R -> -i v/(w + i v), w = 2/(mu0 sigma d), Reitz's receding image.
  * Yoke (mu -> inf half space above y = yb): dA/dy = 0 there.  With the
  * homogeneous waves U e^{ky} + W e^{-ky} added to the free-space source field,
  * W = R (S + U), U = q (S' + W), q = e^{-2k yb}, so the wave hitting the plate
@@ -69,13 +78,17 @@
  *     g_yl = (1/pi) sigma v k Im int a conj(a') dy
  *          = (mu0^2 sigma v / (4 pi k)) |Qt|^2 Im I2,
  *     I2 = conj(gamma) [ (|c|^2 - |dd|^2) L1 + 2 i Z Im(dd conj c) ].
+ * (For m != 1 the lift g_yl is the force on the free currents only; the
+ * whole normal force, with the force on the plate's magnetisation, is g_y.)
  * Bounds (used for the series tail): Green's identity on the plate,
- *     conj(a) a' |_{y=0} = k |a(-d)|^2 + int |a'|^2 + gamma^2 int |a|^2,
- * with a(0) = 1 + R, a'(0) = k (1 - R) (alpha = 1) gives
- *     real part:  k (1 - |R|^2) = k |a(-d)|^2 + int |a'|^2 + k^2 Ihat  => |R| < 1,
- *                 Ihat <= 1/k, int |a'|^2 <= k, so |I2| <= 1 (Cauchy-Schwarz);
- *     imag part:  -Im R = kappa Ihat / 2,  and likewise Re R = kappa Im I2 / (2k),
- * hence |Im R|, |Re R| <= min(1, |kappa|/(2k)).
+ *     conj(a) a' |_{y=0} = m k |a(-d)|^2 + int |a'|^2 + gamma^2 int |a|^2,
+ * with a(0) = 1 + R, a'(0) = m k (1 - R) (alpha = 1) gives
+ *     real part:  m k (1 - |R|^2) = m k |a(-d)|^2 + int |a'|^2 + k^2 Ihat  => |R| < 1,
+ *                 Ihat <= m/k, int |a'|^2 <= m k;
+ *     imag part:  -Im R = kappa Ihat / 2 (any m), and for m = 1 likewise
+ *                 Re R = kappa Im I2 / (2k) with |I2| <= 1 (Cauchy-Schwarz),
+ * hence |Im R| <= min(1, m |kappa|/(2k)), and for m = 1 |Re R| <= min(1,
+ * |kappa|/(2k)); for m != 1 only |Re R| < 1 (a static attraction remains).
  * Power balance -v g_x = g_l and g_y = g_yl hold harmonic by harmonic
  * (Green's identity on the plate); they are computed by different formulas,
  * so agreement checks R against the field inside the plate.
@@ -121,6 +134,7 @@ typedef struct {
     double d;        /* m, plate thickness */
     double sigma, v; /* S/m, m/s */
     double kappa;    /* 1/m, mu0 sigma v (signed) */
+    double mur;      /* plate relative permeability m = 1 + chi */
     int yoke;
     double yb;       /* m, yoke plane above plate top */
     double y0min;    /* m, smallest gap between plate top and a source */
@@ -174,16 +188,19 @@ static void ref_eval(ref_ctx *c, double k, double g[REF_NCOMP])
     }
 
     double kappa = c->kappa, d = c->d;
-    double complex gam = csqrt(CMPLX(k * k, k * kappa));
-    double complex gpk = gam + k;
-    double complex gmk = CMPLX(0.0, kappa * k) / gpk; /* gamma - k */
+    double m = c->mur, mk = m * k;
+    /* G = gamma^2 - m^2 k^2, formed exactly */
+    double complex G = CMPLX(k * k * (1.0 - m) * (1.0 + m), k * m * kappa);
+    double complex gam = csqrt(CMPLX(k * k, k * m * kappa));
+    double complex gpk = gam + mk;
+    double complex gmk = G / gpk;                     /* gamma - m k */
     double complex e1 = cexp(-gam * d);               /* e^{-gamma d} */
     double complex e2 = e1 * e1;                      /* e^{-2 gamma d} */
     double complex E2 = -ref_cexpm1(-2.0 * gam * d);  /* 1 - e^{-2 gamma d} */
-    double complex den = 2.0 * gpk + 2.0 * e2 * gmk + CMPLX(0.0, kappa) * E2;
-    double complex R = CMPLX(0.0, -kappa) * E2 / den;
-    double complex cc = 2.0 * gpk / den;
-    double complex dd = 2.0 * gmk * e1 / den;
+    double complex den = gpk * gpk - e2 * gmk * gmk;
+    double complex R = -G * E2 / den;
+    double complex cc = 2.0 * mk * gpk / den;
+    double complex dd = 2.0 * mk * gmk * e1 / den;
 
     double complex Q = P;
     if (c->yoke) {
@@ -224,7 +241,7 @@ static double ref_envelope(const ref_ctx *c, double k)
         fac = 2.0 / omq;
     }
     pb *= fac;
-    double rbound = fmin(1.0, fabs(c->kappa) / (2.0 * k));
+    double rbound = c->mur == 1.0 ? fmin(1.0, fabs(c->kappa) / (2.0 * k)) : 1.0;
     return EDDY_MU0 / (2.0 * EDDY_PI) * pb * pb * rbound;
 }
 
@@ -330,8 +347,8 @@ static eddy_status ref_isolated(ref_ctx *c, const ref_src *s, double rel_tol,
     scales[ns++] = 1.0 / wmin;
     scales[ns++] = 1.0 / (xhi - xlo);
     scales[ns++] = 1.0 / c->d;
-    scales[ns++] = fabs(c->kappa);
-    scales[ns++] = 1.0 / (fabs(c->kappa) * c->d * c->d);
+    scales[ns++] = c->mur * fabs(c->kappa);
+    scales[ns++] = 1.0 / (c->mur * fabs(c->kappa) * c->d * c->d);
     if (c->yoke) {
         scales[ns++] = 1.0 / c->yb;
         if (c->yb > y1max)
@@ -440,7 +457,7 @@ static eddy_status ref_periodic(ref_ctx *c, double lambda, double rel_tol,
     double dk = 2.0 * EDDY_PI / lambda;
     double ratio = c->y0min > 0.0 ? exp(-2.0 * dk * c->y0min) : 1.0;
     double geo = ratio < 1.0 ? ratio / (1.0 - ratio) : INFINITY;
-    double kpow = 1.0 / c->hmin, kcut = 0.5 * fabs(c->kappa);
+    double kpow = 1.0 / c->hmin, kcut = c->mur == 1.0 ? 0.5 * fabs(c->kappa) : INFINITY;
     double sum[REF_NCOMP] = {0.0, 0.0, 0.0, 0.0}, tol[REF_NCOMP];
     double envsum = 0.0, tail = INFINITY;
     double absv = fabs(c->v);
@@ -497,6 +514,10 @@ eddy_status sol_ref_solve(const sol_ref_problem *p, const sol_ref_source *src, i
         return EDDY_RAISE(err, EDDY_ERR_INPUT,
                           "reference solver: plate conductivity sigma = %g S/m must be finite and >= 0",
                           p->sigma);
+    if (!isfinite(p->chi) || p->chi < 0.0 || p->chi > 1e6)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT,
+                          "reference solver: plate susceptibility chi = %g must lie in [0, 1e6]",
+                          p->chi);
     if (!isfinite(p->y_bot) || !isfinite(p->y_top) || !(p->y_top > p->y_bot))
         return EDDY_RAISE(err, EDDY_ERR_INPUT,
                           "reference solver: plate y_bot = %g m, y_top = %g m: need finite y_top > y_bot",
@@ -559,8 +580,8 @@ eddy_status sol_ref_solve(const sol_ref_problem *p, const sol_ref_source *src, i
                           "reference solver: sources span %g m along x, more than one period %g m",
                           xhi - xlo, p->lambda);
 
-    if (v == 0.0 || p->sigma == 0.0 || !any)
-        return EDDY_OK; /* no induced current: all zero */
+    if (!any || ((v == 0.0 || p->sigma == 0.0) && p->chi == 0.0))
+        return EDDY_OK; /* no induced current and no magnetisation: all zero */
 
     ref_src *rs = malloc((size_t)nsrc * sizeof *rs);
     if (rs == NULL)
@@ -574,6 +595,7 @@ eddy_status sol_ref_solve(const sol_ref_problem *p, const sol_ref_source *src, i
     c.sigma = p->sigma;
     c.v = v;
     c.kappa = EDDY_MU0 * p->sigma * v;
+    c.mur = 1.0 + p->chi;
     c.yoke = p->has_yoke;
     c.yb = p->has_yoke ? p->y_yoke - p->y_top : 0.0;
     c.y0min = INFINITY;

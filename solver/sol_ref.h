@@ -3,7 +3,8 @@
  * sol_ref_): an independent analytic solution, sharing no discretisation
  * with the grid solver (solver/sol.h), against which it is validated.
  *
- * A conducting plate (conductivity sigma, mu_r = 1) fills y_bot <= y <= y_top,
+ * A conducting plate (conductivity sigma, linear relative permeability
+ * mu_r = 1 + chi) fills y_bot <= y <= y_top,
  * infinite along x, moving at +v along x, with free space below and above.
  * Sources are rectangles above the plate: coils of uniform current density
  * along z, or magnets (mu_r = 1) magnetised along y.  An optional infinitely
@@ -42,7 +43,9 @@ typedef struct {
 
 /* The layered problem. */
 typedef struct {
-    double sigma;        /* S/m, plate conductivity, >= 0 (mu_r = 1)                  */
+    double sigma;        /* S/m, plate conductivity, >= 0                             */
+    double chi;          /* plate magnetic susceptibility mu_r - 1, 0 <= chi <= 1e6
+                            (0: non-magnetic; a zero-initialised problem is one)     */
     double y_bot, y_top; /* m, plate occupies y_bot <= y <= y_top; y_top > y_bot       */
     int periodic;        /* 0: isolated sources (integral over k);
                             1: sources repeat along x with period lambda            */
@@ -62,9 +65,11 @@ typedef struct {
     double loss;     /* W/m, integral over the plate of |J|^2 / sigma, computed from the
                         field inside the plate (not from the force): -force_x * v ==
                         loss is a real check of the solution                          */
-    double force_y_lorentz; /* N/m, force_y recomputed as the integral of J_z B_x over
-                        the plate from the field inside it; equals force_y to quadrature
-                        accuracy (a second independent check)                         */
+    double force_y_lorentz; /* N/m, the integral of J_z B_x over the plate from the
+                        field inside it: for chi = 0 it equals force_y to quadrature
+                        accuracy (a second independent check); for chi > 0 it is the
+                        force on the free currents only (force_y adds the force on the
+                        magnetisation)                                                */
     double err_x, err_y, err_loss, err_y_lorentz; /* estimated absolute quadrature /
                         series-truncation error of force_x, force_y, loss,
                         force_y_lorentz                                               */
@@ -77,7 +82,8 @@ typedef struct {
  *   p     problem description (read only, not retained).
  *   src   array of nsrc sources (read only, not retained); nsrc >= 1.
  *   v     m/s, plate speed along +x (sources fixed); any sign.  v = 0 or
- *         sigma = 0 gives zero forces and loss (n_eval = 0).
+ *         sigma = 0 gives zero forces and loss (n_eval = 0) for chi = 0, and
+ *         the static attraction of the magnetisable plate for chi > 0.
  *   out   receives the result; always fully written on EDDY_OK and on
  *         EDDY_ERR_NUMERIC, zeroed on EDDY_ERR_INPUT.
  *   err   optional error record (may be NULL).
@@ -85,7 +91,8 @@ typedef struct {
  * Returns
  *   EDDY_OK            the estimated errors meet rel_tol (relative to each
  *                      result, with a floor of 1e-14 of the force scale).
- *   EDDY_ERR_INPUT     a NULL pointer, a non-finite number, sigma < 0, a plate
+ *   EDDY_ERR_INPUT     a NULL pointer, a non-finite number, sigma < 0, chi
+ *                      outside [0, 1e6], a plate
  *                      of thickness <= 0, a source not strictly a rectangle,
  *                      not above the plate or not below the yoke, a bad
  *                      kind/periodic/has_yoke flag, lambda <= 0 or sources

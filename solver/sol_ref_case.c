@@ -3,8 +3,8 @@
  * and translate it into a sol_ref_problem.
  *
  * A case fits when:
- *  - exactly one moving region with conductivity > 0 and mu_r = 1 spans the
- *    domain (the plate);
+ *  - exactly one moving region with conductivity > 0 and a constant mu_r >= 1
+ *    (no B-H curve) spans the domain (the plate);
  *  - every source (magnet with remanence along +y or -y, or coil) lies
  *    entirely above the plate, and sources do not overlap each other;
  *  - any permeable region (mu_r != 1, not a magnet) is a yoke: it spans the
@@ -70,8 +70,17 @@ eddy_status sol_ref_from_case(const mesh_case *c, sol_ref_problem *p, sol_ref_so
     }
     const mesh_region *pl = &c->regions[plate];
     const mesh_material *pm = mat_of(c, pl);
-    if (fabs(pm->mu_r - 1.0) > 1e-12) {
-        fits_not(why, why_len, "the moving conductor \"%s\" is permeable (mu_r != 1)", pl->name);
+    if (pm->bh.n > 0) {
+        fits_not(why, why_len, "the moving conductor \"%s\" is saturable (B-H curve)", pl->name);
+        return EDDY_ERR_NOT_APPLICABLE;
+    }
+    if (pm->br != 0.0) {
+        fits_not(why, why_len, "the moving conductor \"%s\" is a magnet", pl->name);
+        return EDDY_ERR_NOT_APPLICABLE;
+    }
+    if (pm->mu_r < 1.0 || pm->mu_r - 1.0 > 1e6) {
+        fits_not(why, why_len, "the moving conductor \"%s\" has mu_r below 1 or above 1e6",
+                 pl->name);
         return EDDY_ERR_NOT_APPLICABLE;
     }
     sol_ref_source *s = calloc((size_t)c->nreg, sizeof *s);
@@ -177,6 +186,7 @@ eddy_status sol_ref_from_case(const mesh_case *c, sol_ref_problem *p, sol_ref_so
         return EDDY_ERR_NOT_APPLICABLE;
     }
     p->sigma = pm->sigma;
+    p->chi = pm->mu_r - 1.0;
     p->y_bot = pl->box[1];
     p->y_top = pl->box[3];
     p->periodic = c->x_periodic;

@@ -23,6 +23,16 @@
  *         lambda is the rectangle rule, step 2 pi/lambda, of the isolated
  *         wavenumber integral; for a magnet the integrand vanishes like k^2
  *         at k = 0, so the difference is O((2 pi a/lambda)^4).
+ *  [SLAB] Line current I at height h over a slab of linear relative
+ *         permeability m and thickness d, at rest: the classical multiple-
+ *         image construction (reflection (m-1)/(m+1) at the top face, then
+ *         repeated reflections inside the slab): images of strength
+ *         c_0 = kappa I at depth h and c_n = -(1 - kappa^2) kappa^(2n-1) I at
+ *         depth h + 2 n d below the top face, kappa = (m-1)/(m+1), each
+ *         attracting the line by mu0 I c_n / (2 pi D_n), D_n = 2h + 2nd
+ *         (method of images for permeable media, e.g. K. J. Binns,
+ *         P. J. Lawrenson, C. W. Trowbridge, 1992, ch. 3; from memory; the
+ *         series is re-derived in tests rather than taken from the solver).
  *  [IMG]  Line current above a perfectly conducting plane: repulsion
  *         mu0 I^2/(4 pi h) (image of opposite current at depth h; textbook
  *         method of images; the v -> inf limit of [R70]).
@@ -46,6 +56,7 @@
 #define TOL_PERIODIC 1e-6   /* [EM], lambda = 200 magnet widths: O((2 pi/200)^4) */
 #define TOL_YOKE_FAR 1e-3   /* yoke 1000 magnet heights away */
 #define TOL_IMG 5e-3        /* [IMG] at huge speed */
+#define TOL_SLAB 1e-6       /* [SLAB]: square coil s = h/20, hexadecapole ~ (s/2h)^4 = 4e-7 */
 
 static sol_ref_result solve(const sol_ref_problem *p, const sol_ref_source *s, int n, double v,
                             eddy_status *st)
@@ -282,6 +293,50 @@ static void test_yoke(void)
           free_r.force_y);
 }
 
+static void test_permeable_slab(void)
+{
+    /* [SLAB] at rest for three permeabilities and two thicknesses; then, at
+     * speed, [POY] for a magnetisable conductor (the loss is computed from
+     * the field inside the slab, the drag from the reflection). */
+    const double I = 100.0, h = 0.01, s = h / 20.0;
+    sol_ref_source c = {.kind = SOL_REF_COIL, .x0 = -0.5 * s, .x1 = 0.5 * s,
+                        .y0 = h - 0.5 * s, .y1 = h + 0.5 * s, .jz = I / (s * s)};
+    const double mur[3] = {2.0, 100.0, 5000.0}, dd[2] = {0.002, 0.05};
+    for (int a = 0; a < 3; a++)
+        for (int b = 0; b < 2; b++) {
+            sol_ref_problem p = {.sigma = 5e6, .chi = mur[a] - 1.0, .y_bot = -dd[b],
+                                 .y_top = 0.0, .rel_tol = 1e-10};
+            double kap = (mur[a] - 1.0) / (mur[a] + 1.0), sum = kap / (2.0 * h);
+            double cn = (1.0 - kap * kap) * kap; /* magnitude of c_1 / I */
+            for (int n = 1; n < 200000 && cn > 1e-18; n++) {
+                sum -= cn / (2.0 * h + 2.0 * n * dd[b]);
+                cn *= kap * kap;
+            }
+            double want = MU0 * I * I / (2.0 * PI) * sum; /* plate pulled up, +y */
+            eddy_status st;
+            sol_ref_result r = solve(&p, &c, 1, 0.0, &st);
+            char name[128];
+            snprintf(name, sizeof name,
+                     "permeable slab at rest, mu_r %g, d = %g h: attraction = image series [SLAB]",
+                     mur[a], dd[b] / h);
+            check_close(name, r.force_y, want, TOL_SLAB, 0.0);
+            check(st == EDDY_OK && r.force_x == 0.0 && r.loss == 0.0,
+                  "permeable slab at rest: no drag, no loss", "fx %g loss %g", r.force_x, r.loss);
+            double v = 5.0;
+            r = solve(&p, &c, 1, v, &st);
+            snprintf(name, sizeof name, "power balance, permeable slab mu_r %g, d = %g h [POY]",
+                     mur[a], dd[b] / h);
+            check_close(name, -r.force_x * v, r.loss, TOL_POWER, 0.0);
+        }
+    /* the permeable form at chi -> 0 joins the non-magnetic one smoothly */
+    sol_ref_problem p0 = thick, p1 = thick;
+    p1.chi = 1e-7;
+    eddy_status s0, s1;
+    sol_ref_result r0 = solve(&p0, &magnet, 1, 20.0, &s0), r1 = solve(&p1, &magnet, 1, 20.0, &s1);
+    check_close("chi = 1e-7 drag joins chi = 0 within 1e-6", r1.force_x, r0.force_x, 1e-6, 0.0);
+    check_close("chi = 1e-7 lift joins chi = 0 within 1e-6", r1.force_y, r0.force_y, 1e-6, 0.0);
+}
+
 static void test_image_limit(void)
 {
     /* [IMG]: thick plate at very high speed is a perfect conductor for the
@@ -394,6 +449,7 @@ int main(void)
     test_periodic_limit();
     test_yoke();
     test_image_limit();
+    test_permeable_slab();
     test_error_estimate();
     test_zero_and_validation();
     return check_summary();
