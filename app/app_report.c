@@ -206,7 +206,7 @@ static cJSON *build_json(const app_report *r)
             add_num(p, "force_y_lorentz", f->lorentz_y);
         }
         add_num(p, "drag_force_stress", f->drag_stress);
-        add_num(p, "force_y_stress", f->stress_y);
+        add_num(p, "force_y_stress", f->nodal_ok ? f->nodal_y : f->stress_y);
         add_num(p, "loss", f->loss);
         add_num(p, "low_speed_drag", f->low_speed_drag);
         add_num(p, "magnetic_reynolds", f->magnetic_reynolds);

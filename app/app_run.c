@@ -113,7 +113,9 @@ static eddy_status add_reference(app_report *r, int fill_forces, eddy_error *err
             f->force_x = q.force_x;
             f->force_y = q.force_y;
             f->drag = -q.force_x * sgn;
-            f->stress_ok = 1;
+            f->stress_ok = f->nodal_ok = 1;
+            f->nodal_x = q.force_x;
+            f->nodal_y = q.force_y;
             f->force_method = "reference";
             f->lorentz_x = f->lorentz_y = NAN;
             f->stress_x = q.force_x;

@@ -25,16 +25,26 @@ typedef struct {
     double drag;               /* N/m, -force_x * sign(speed): braking is positive */
     const char *force_method;  /* static text, how force_x, force_y, drag were obtained:
                                 * "lorentz": J x B integral (non-magnetic conductors);
-                                * "stress_tensor": Maxwell stress on a contour in air
-                                * around the moving band (a magnetised conductor: mu_r != 1
-                                * or a B-H curve, where J x B misses the force on the
-                                * magnetisation); "lorentz_incomplete": a magnetised
+                                * "stress_tensor": Maxwell stress around the moving band,
+                                * in its nodal form (nodal_x, nodal_y) where it exists, else
+                                * the line form (a magnetised conductor: mu_r != 1 or a B-H
+                                * curve, where J x B misses the force on the magnetisation); "lorentz_incomplete": a magnetised
                                 * conductor without an air contour, J x B only;
                                 * "reference": the layered reference */
     double lorentz_x, lorentz_y; /* N/m, the J x B integral, whatever force_method */
     int stress_ok;             /* 1 if the stress-tensor contour exists (air around the band) */
-    double stress_x, stress_y; /* N/m, Maxwell stress tensor force on the moving band */
+    double stress_x, stress_y; /* N/m, Maxwell stress tensor force on the moving band, line
+                                * form (band average of line integrals in the air): an
+                                * independent check of the drag; its normal component carries
+                                * a bias of order the discretisation error of integral
+                                * |B|^2 / (2 mu0) dx (use nodal_y for the normal force) */
     double drag_stress;        /* N/m, -stress_x * sign(speed) */
+    int nodal_ok;              /* 1 if the nodal (total-current) form exists: an air row
+                                * directly above and below the band */
+    double nodal_x, nodal_y;   /* N/m, force on the moving band from its total (free +
+                                * magnetisation) current, the volume form of the Maxwell
+                                * stress on the discrete field (post_forces.c); NAN if
+                                * !nodal_ok */
     double loss;               /* W/m, integral of J^2 / sigma */
     double low_speed_drag;     /* N/m, sigma |v| * integral of B0_y^2 (static field) */
     double magnetic_reynolds;  /* mu0 sigma |v| t of the moving band (t its thickness) */
@@ -66,17 +76,20 @@ double post_lowspeed_slope(const mesh_grid *g, const double *a_static);
  * Forces, loss and checks at speed v for the solution a (nx*ny, Wb/m).
  *   lowspeed_slope: from post_lowspeed_slope of the static field (N s/m^2).
  *   f:   output.
- * The Lorentz force and the loss use 2 x 2 Gauss points per moving cell
- * (exact for the bilinear interpolant of A).  The stress-tensor force is the
- * average over the rows of air cells directly above and below the moving
- * band (a band average of the line integral; equal to the line integral
- * for an exact field, less sensitive to discretisation error); it is not
- * available (stress_ok = 0) when no air row touches the band or a
- * stationary non-air cell lies inside it.  On a zero (A = 0) boundary that
- * bounds the band the normal field is zero, and its pressure is included.
- * When a moving conductor is magnetised (reluctivity g->nu != 1/mu0 in a
- * moving cell) and the stress contour exists, force_x, force_y and drag are
- * the stress-tensor values (force_method "stress_tensor"); otherwise the
+ * The Lorentz force and the loss use the induced current of each node's dual
+ * cell taken from the solver's fitted convective fluxes.  The stress-tensor
+ * force comes in two forms: the line form (stress_x, stress_y), the average
+ * over the rows of air cells directly above and below the moving band of
+ * the line integral of the stress, not available (stress_ok = 0) when no air
+ * row touches the band or a stationary non-air cell lies inside it (on a
+ * zero (A = 0) boundary that bounds the band the normal field is zero, and
+ * its pressure is included); and the nodal form (nodal_x, nodal_y), the
+ * total current of the band's nodes (the residual of the vacuum operator)
+ * times the node field, which needs an air row directly above and below
+ * the band (nodal_ok).  When a moving conductor is magnetised (reluctivity
+ * g->nu != 1/mu0 in a moving cell), force_x, force_y and drag are the nodal
+ * stress values, else the line form where only it exists (force_method
+ * "stress_tensor"); otherwise the
  * J x B values.  With saturable materials pass a copy of the grid whose nu
  * holds the converged cell reluctivities (sol_solve_newton's nu_cells), so
  * that the induced current uses the solver's fluxes.
