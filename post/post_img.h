@@ -240,4 +240,44 @@ void post_xy_opts_defaults(post_xy_opts *o);
 eddy_status post_plot_xy_png(const char *path, int n, const double *x, const double *y1,
                              const double *y2, const post_xy_opts *o, eddy_error *err);
 
+/* ------------------------------------------------------------------ */
+/* Many curves on one pair of axes                                     */
+/* ------------------------------------------------------------------ */
+
+typedef struct {
+    const char *title;     /* drawn above the plot (NULL: none) and PNG text "Title"  */
+    const char *version;   /* tool version for PNG text "Software"; NULL: none       */
+    const char *x_label;   /* x-axis title, e.g. "speed (m/s)"; PNG "eddy2d:x"       */
+    const char *y_label;   /* value-axis title; PNG "eddy2d:y"                       */
+    const char *key_label; /* what tells the curves apart, e.g. a variant path; shown
+                              with the colour ramp, PNG "eddy2d:key"; NULL: "case"  */
+    int width_px, height_px; /* 0: 1000 x 650; each 300..10000                       */
+} post_overlay_opts;
+
+/* Fill *o with defaults: everything NULL / 0. */
+void post_overlay_opts_defaults(post_overlay_opts *o);
+
+/* Plot ncurve curves on one pair of axes and write a PNG.
+ *   npt[c]        points of curve c (>= 1), c = 0 .. ncurve-1 (ncurve >= 1);
+ *   x[c], y[c]    its npt[c] finite values (any units; the labels say which);
+ *                 points are joined in x order and marked with dots;
+ *   names[c]      its legend label (UTF-8).
+ *   o             options; may be NULL for defaults.
+ * Curve c is drawn in post_series_rgb(c, ncurve).  Up to POST_SERIES_N
+ * curves are keyed by a legend strip under the title (one entry a curve);
+ * beyond that the colours run along a ramp in curve order and are keyed by
+ * a colour strip from names[0] to names[ncurve-1] with key_label and the
+ * count, so the legend stays one line however many curves there are.  The
+ * x axis is logarithmic when every x is > 0 and they span more than a
+ * decade, else linear; the value axis holds 0.  PNG text "eddy2d:series"
+ * lists every curve as "name<TAB>#rrggbb" lines (its colour).
+ * The file is replaced atomically (eddy_atomic_open).  The caller keeps
+ * every array.  Returns EDDY_OK; EDDY_ERR_INPUT for a NULL argument, a curve
+ * without points or a bad size; EDDY_ERR_NUMERIC for a non-finite value;
+ * EDDY_ERR_NOMEM; EDDY_ERR_IO when the file cannot be written. */
+eddy_status post_plot_overlay_png(const char *path, int ncurve, const int *npt,
+                                  const double *const *x, const double *const *y,
+                                  const char *const *names, const post_overlay_opts *o,
+                                  eddy_error *err);
+
 #endif
