@@ -115,7 +115,7 @@ static int reserved_name(const char *name)
 {
     static const char *const reserved[] = {"batch.json", "batch.sbatch", "summary.sbatch",
                                            "submit.sh", "summary.csv", "summary.json",
-                                           "summary.html", "slurm", NULL};
+                                           "summary.html", "summary.png", "slurm", NULL};
     for (int k = 0; reserved[k] != NULL; k++)
         if (strcmp(name, reserved[k]) == 0)
             return 1;

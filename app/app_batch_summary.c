@@ -1,6 +1,8 @@
 /*
  * app_batch_summary.c - the summary of a batch from its case folders:
- * OUT/summary.csv, summary.json and summary.html (app_batch_write_summary).
+ * OUT/summary.csv, summary.json, summary.png (every ok case's drag curve, or
+ * a disc's torque against rpm, on one pair of axes) and summary.html
+ * (app_batch_write_summary).
  */
 #include "app/app_batch_int.h"
 
@@ -10,16 +12,20 @@
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
+#include <errno.h>
+#include <unistd.h>
 
 #include "app/app.h"
 #include "design/design.h"
+#include "post/post_img.h"
 
 typedef struct {
     app_case_state state;
     double seconds;
     char error[1024];
     int npoint;
-    double *speed, *drag, *force_y, *loss; /* one allocation, 4 * npoint */
+    double *speed, *drag, *force_y, *loss; /* one allocation, 6 * npoint */
+    double *rpm, *torque;                  /* NaN where the case is no disc */
     double peak_drag, peak_speed;
     int png_w, png_h;                      /* forces.png size, 0 if none */
 } case_result;
@@ -84,7 +90,7 @@ static eddy_status load_result(const char *outdir, const app_batch_case *c, case
         return EDDY_OK;
     }
     int n = cJSON_GetArraySize(pts);
-    r->speed = n > 0 ? malloc((size_t)n * 4 * sizeof *r->speed) : NULL;
+    r->speed = n > 0 ? malloc((size_t)n * 6 * sizeof *r->speed) : NULL;
     if (n > 0 && r->speed == NULL) {
         cJSON_Delete(root);
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory reading %s", path);
@@ -92,12 +98,16 @@ static eddy_status load_result(const char *outdir, const app_batch_case *c, case
     r->drag = r->speed + n;
     r->force_y = r->speed + 2 * n;
     r->loss = r->speed + 3 * n;
+    r->rpm = r->speed + 4 * n;
+    r->torque = r->speed + 5 * n;
     int k = 0;
     for (const cJSON *p = pts->child; p != NULL; p = p->next, k++) {
         r->speed[k] = json_num(p, "speed");
         r->drag[k] = json_num(p, "drag_force");
         r->force_y[k] = json_num(p, "force_y");
         r->loss[k] = json_num(p, "loss");
+        r->rpm[k] = json_num(p, "rpm");
+        r->torque[k] = json_num(p, "torque");
     }
     r->npoint = n;
     /* the peak is the one result.json reports (design_peak, evaluated once
@@ -291,6 +301,162 @@ static eddy_status write_summary_json(const char *outdir, const app_batch_plan *
     return s;
 }
 
+/* ------------------------------------------------------------------ */
+/* summary.png: every ok case on one pair of axes                      */
+/* ------------------------------------------------------------------ */
+
+/* Size of summary.png, px. */
+#define OVERLAY_W 1100
+#define OVERLAY_H 700
+
+/* What summary.png shows (filled by write_overlay). */
+typedef struct {
+    int written;   /* 1: summary.png was written                       */
+    int disc;      /* 1: torque against rpm (every ok case is a disc)  */
+    int ncurve, w, h;
+} overlay_info;
+
+/* 1 if every point of r has a finite rpm and torque (a disc case). */
+static int is_disc(const case_result *r)
+{
+    for (int k = 0; k < r->npoint; k++)
+        if (!isfinite(r->rpm[k]) || !isfinite(r->torque[k]))
+            return 0;
+    return r->npoint > 0;
+}
+
+/* The number a variant value stands for, or NaN if it is not one number. */
+static double variant_number(const app_batch_case *c, const char *key)
+{
+    const char *v = key != NULL ? app_batch_variant_value(c, key) : NULL;
+    if (v == NULL || v[0] == '\0')
+        return NAN;
+    char *end;
+    double x = strtod(v, &end);
+    return *end == '\0' ? x : NAN;
+}
+
+/* The legend label of a case: its variant values ("a; b"), or its name. */
+static void overlay_label(eddy_text *b, const app_batch_case *c)
+{
+    if (c->nvalue == 0) {
+        eddy_text_str(b, c->name);
+        return;
+    }
+    for (int q = 0; q < c->nvalue; q++)
+        eddy_text_printf(b, "%s%s", q > 0 ? "; " : "", c->values[q]);
+}
+
+/* OUT/summary.png: the drag against speed of every ok case (torque against
+ * rpm when every ok case is a disc), in the order of the first variant's
+ * value when every case's value is a number, else in plan order.  Without
+ * pictures, or without an ok case, there is none (an old one is removed);
+ * on failure the file is removed too. */
+static eddy_status write_overlay(const char *outdir, const app_batch_plan *p,
+                                 const case_result *res, overlay_info *ov, eddy_error *err)
+{
+    memset(ov, 0, sizeof *ov);
+    char path[4200];
+    app_batch_join(path, sizeof path, outdir, "summary.png", NULL);
+    int n = 0, disc = 1;
+    for (int c = 0; c < p->ncase; c++)
+        if (res[c].state == APP_CASE_OK && res[c].npoint > 0) {
+            n++;
+            disc = disc && is_disc(&res[c]);
+        }
+    if (!p->images || n == 0) {
+        if (unlink(path) != 0 && errno != ENOENT)
+            return EDDY_RAISE(err, EDDY_ERR_IO, "%s: cannot remove the old overlay", path);
+        return EDDY_OK;
+    }
+    int *idx = malloc((size_t)n * sizeof *idx), *npt = malloc((size_t)n * sizeof *npt);
+    const double **xs = malloc((size_t)n * sizeof *xs), **ys = malloc((size_t)n * sizeof *ys);
+    char **names = calloc((size_t)n, sizeof *names);
+    eddy_status st = EDDY_OK;
+    if (idx == NULL || npt == NULL || xs == NULL || ys == NULL || names == NULL)
+        st = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing summary.png");
+    const char *key0 = p->nkey > 0 ? p->keys[0] : NULL;
+    int m = 0, numeric = key0 != NULL;
+    for (int c = 0; st == EDDY_OK && c < p->ncase; c++)
+        if (res[c].state == APP_CASE_OK && res[c].npoint > 0) {
+            idx[m++] = c;
+            numeric = numeric && isfinite(variant_number(&p->cases[c], key0));
+        }
+    for (int k = 1; st == EDDY_OK && numeric && k < n; k++) { /* stable insertion sort */
+        int v = idx[k], q = k - 1;
+        double xv = variant_number(&p->cases[v], key0);
+        while (q >= 0 && variant_number(&p->cases[idx[q]], key0) > xv) {
+            idx[q + 1] = idx[q];
+            q--;
+        }
+        idx[q + 1] = v;
+    }
+    for (int k = 0; st == EDDY_OK && k < n; k++) {
+        const case_result *r = &res[idx[k]];
+        npt[k] = r->npoint;
+        xs[k] = disc ? r->rpm : r->speed;
+        ys[k] = disc ? r->torque : r->drag;
+        eddy_text b = {0};
+        overlay_label(&b, &p->cases[idx[k]]);
+        if (b.oom || b.p == NULL) {
+            free(b.p);
+            st = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing summary.png");
+        }
+        names[k] = b.p;
+    }
+    eddy_text key = {0};
+    for (int q = 0; q < p->nkey; q++)
+        eddy_text_printf(&key, "%s%s", q > 0 ? "; " : "", p->keys[q]);
+    if (st == EDDY_OK && key.oom)
+        st = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory writing summary.png");
+    if (st == EDDY_OK) {
+        post_overlay_opts o;
+        post_overlay_opts_defaults(&o);
+        o.title = disc ? "batch: torque of every case against rpm"
+                       : "batch: drag of every case against speed";
+        o.version = EDDY_VERSION;
+        o.x_label = disc ? "speed (rpm)" : "speed (m/s)";
+        o.y_label = disc ? "torque of the disc (N m)" : "drag per unit length (N/m)";
+        o.key_label = key.p;
+        o.width_px = OVERLAY_W;
+        o.height_px = OVERLAY_H;
+        st = post_plot_overlay_png(path, n, npt, xs, ys, (const char *const *)names, &o, err);
+    }
+    if (st == EDDY_OK) {
+        ov->written = 1;
+        ov->disc = disc;
+        ov->ncurve = n;
+        ov->w = OVERLAY_W;
+        ov->h = OVERLAY_H;
+    } else {
+        unlink(path); /* never leave an old overlay beside a failed summary */
+    }
+    for (int k = 0; names != NULL && k < n; k++)
+        free(names[k]);
+    free(key.p);
+    free(names);
+    free(idx);
+    free(npt);
+    free(xs);
+    free(ys);
+    return st;
+}
+
+/* The overlay figure of summary.html (nothing without summary.png). */
+static void html_overlay(eddy_text *b, const overlay_info *ov)
+{
+    if (!ov->written)
+        return;
+    const char *what = ov->disc ? "torque of the whole disc (N m) against rpm"
+                                : "drag per unit length (N/m) against speed (m/s)";
+    eddy_text_printf(b, "<h2>All cases overlaid</h2>\n<figure id=\"overlay\" class=\"overlay\">"
+                     "<a href=\"summary.png\"><img src=\"summary.png\" width=\"%d\" "
+                     "height=\"%d\" alt=\"%s, every ok case\"></a><figcaption>%s, %d ok "
+                     "case%s, one colour each (keyed above the plot by variant values)"
+                     "</figcaption></figure>\n",
+                     ov->w, ov->h, what, what, ov->ncurve, ov->ncurve == 1 ? "" : "s");
+}
+
 static void html_status(eddy_text *b, app_case_state st)
 {
     eddy_text_printf(b, "<td class=\"st %s\">%s</td>",
@@ -315,6 +481,7 @@ static void html_head(eddy_text *b, const app_batch_counts *n, const char *when)
            ".plots{display:grid;grid-template-columns:repeat(auto-fill,minmax(420px,1fr));"
            "gap:1em}\n"
            "figure{margin:0;border:1px solid #bbb;padding:.4em}"
+           "figure.overlay{max-width:1000px}"
            "figure img{width:100%;height:auto;display:block}\n"
            "figcaption{font-size:.85em;margin-top:.3em}.missing{padding:2em 1em;color:#444}\n"
            ".notice{border:1px solid #888;padding:.5em;font-size:.85em;max-width:70em}\n"
@@ -434,11 +601,12 @@ static void html_points(eddy_text *b, const app_batch_plan *p, const case_result
 
 static eddy_status write_html(const char *outdir, const app_batch_plan *p,
                               const case_result *res, const app_batch_counts *n,
-                              const char *when, eddy_error *err)
+                              const overlay_info *ov, const char *when, eddy_error *err)
 {
     eddy_text b = {0};
     html_head(&b, n, when);
     html_cases(&b, p, res);
+    html_overlay(&b, ov);
     eddy_text_str(&b, "<h2>Force-speed plots</h2>\n<div class=\"plots\">\n");
     for (int c = 0; c < p->ncase; c++)
         html_figure(&b, &p->cases[c], &res[c]);
@@ -480,8 +648,12 @@ eddy_status app_batch_write_summary(const char *outdir, const app_batch_plan *p,
         s = write_csv(outdir, p, res, err);
     if (s == EDDY_OK)
         s = write_summary_json(outdir, p, res, &n, when, err);
+    overlay_info ov;
+    memset(&ov, 0, sizeof ov);
     if (s == EDDY_OK)
-        s = write_html(outdir, p, res, &n, when, err);
+        s = write_overlay(outdir, p, res, &ov, err);
+    if (s == EDDY_OK)
+        s = write_html(outdir, p, res, &n, &ov, when, err);
     for (int c = 0; c < p->ncase; c++)
         free(res[c].speed);
     free(res);

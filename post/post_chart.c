@@ -130,12 +130,26 @@ static void fmt_log_label(char *buf, size_t size, double v)
 /* Series                                                              */
 /* ------------------------------------------------------------------ */
 
-/* A circle or square path of half-size r px centred on (X, Y). */
-static void draw_marker(cairo_t *cr, double X, double Y, int square, double r)
+/* A marker path of half-size r px centred on (X, Y): 1 a diamond (corners
+ * r * DIAMOND_REACH from the centre), 2 a triangle standing on its base,
+ * 3 a dot. */
+#define DIAMOND_REACH 1.3
+static void draw_marker(cairo_t *cr, double X, double Y, int marker, double r)
 {
-    if (square)
-        cairo_rectangle(cr, X - r, Y - r, 2.0 * r, 2.0 * r);
-    else {
+    if (marker == 1) {
+        double d = DIAMOND_REACH * r;
+        cairo_move_to(cr, X, Y - d);
+        cairo_line_to(cr, X + d, Y);
+        cairo_line_to(cr, X, Y + d);
+        cairo_line_to(cr, X - d, Y);
+        cairo_close_path(cr);
+    } else if (marker == 2) {
+        double h = 1.25 * r;
+        cairo_move_to(cr, X, Y - h);
+        cairo_line_to(cr, X + 1.15 * h, Y + 0.8 * h);
+        cairo_line_to(cr, X - 1.15 * h, Y + 0.8 * h);
+        cairo_close_path(cr);
+    } else {
         cairo_new_sub_path(cr);
         cairo_arc(cr, X, Y, r, 0.0, 2.0 * EDDY_PI);
     }
@@ -157,12 +171,15 @@ void post_chart_series(cairo_t *cr, const post_axes *ax, int n, const double *xs
     cairo_set_line_join(cr, CAIRO_LINE_JOIN_ROUND);
     cairo_stroke(cr);
     if (marker) {
-        for (int k = 0; k < n; k++)
-            draw_marker(cr, post_axes_x(ax, xs[k]), post_axes_y(ax, ys[k]), marker == 2, mr);
-        cairo_fill_preserve(cr);
+        /* a white ring under each marker keeps it apart from the lines */
         cairo_set_source_rgb(cr, 1.0, 1.0, 1.0);
-        cairo_set_line_width(cr, 0.8 * lw / 1.8);
-        cairo_stroke(cr);
+        for (int k = 0; k < n; k++)
+            draw_marker(cr, post_axes_x(ax, xs[k]), post_axes_y(ax, ys[k]), marker, mr + 1.2);
+        cairo_fill(cr);
+        cairo_set_source_rgba(cr, col[0], col[1], col[2], alpha);
+        for (int k = 0; k < n; k++)
+            draw_marker(cr, post_axes_x(ax, xs[k]), post_axes_y(ax, ys[k]), marker, mr);
+        cairo_fill(cr);
     }
 }
 
@@ -225,36 +242,53 @@ void post_chart_value_axis(double lo, double hi, const post_axes *ax, const post
 /* Grid, ticks, titles                                                 */
 /* ------------------------------------------------------------------ */
 
-void post_chart_grid(cairo_t *cr, const post_axes *ax, const post_chart_style *ps, int nxv,
-                     const double *xv, const post_ticks *yt)
+void post_chart_grid(cairo_t *cr, const post_axes *ax, const post_chart_style *ps,
+                     const post_ticks *yt)
 {
-    cairo_set_line_width(cr, fmax(1.0, ps->s));
-    cairo_set_source_rgb(cr, 0.9, 0.9, 0.9);
+    /* dotted rules at the value ticks only, in a blue-grey; none along x */
+    double s = ps->s, dots[2] = {1.2 * fmax(s, 1.0), 3.2 * fmax(s, 1.0)};
+    cairo_save(cr);
+    cairo_set_line_width(cr, 1.2 * fmax(1.0, s));
+    cairo_set_line_cap(cr, CAIRO_LINE_CAP_ROUND);
+    cairo_set_dash(cr, dots, 2, 0.0);
+    cairo_set_source_rgb(cr, POST_GRID_RGB);
     for (int k = 0; k < yt->n; k++) {
         double Y = round(post_axes_y(ax, yt->v[k])) + 0.5;
         cairo_move_to(cr, ax->px, Y);
         cairo_line_to(cr, ax->px + ax->pw, Y);
     }
-    for (int k = 0; k < nxv; k++) {
-        double X = round(post_axes_x(ax, xv[k])) + 0.5;
-        cairo_move_to(cr, X, ax->py);
-        cairo_line_to(cr, X, ax->py + ax->ph);
-    }
     cairo_stroke(cr);
+    cairo_restore(cr);
     if (ax->ylo < 0.0 && ax->yhi > 0.0) {
         double Y = round(post_axes_y(ax, 0.0)) + 0.5;
-        cairo_set_source_rgb(cr, 0.55, 0.55, 0.55);
+        cairo_set_source_rgb(cr, POST_INK_RGB);
+        cairo_set_line_width(cr, fmax(1.0, s));
         cairo_move_to(cr, ax->px, Y);
         cairo_line_to(cr, ax->px + ax->pw, Y);
         cairo_stroke(cr);
     }
 }
 
+void post_chart_axis_lines(cairo_t *cr, const post_axes *ax, double lw, int right)
+{
+    double x0 = ax->px - lw / 2.0, y1 = ax->py + ax->ph + lw / 2.0;
+    cairo_set_source_rgb(cr, POST_INK_RGB);
+    cairo_set_line_width(cr, lw);
+    cairo_set_line_cap(cr, CAIRO_LINE_CAP_SQUARE);
+    cairo_move_to(cr, x0, ax->py);
+    cairo_line_to(cr, x0, y1);
+    cairo_line_to(cr, ax->px + ax->pw, y1);
+    if (right)
+        cairo_line_to(cr, ax->px + ax->pw + lw / 2.0, ax->py);
+    cairo_stroke(cr);
+    cairo_set_line_cap(cr, CAIRO_LINE_CAP_BUTT);
+}
+
 void post_chart_value_ticks(cairo_t *cr, const post_axes *ax, const post_ticks *t, int right,
                             const post_chart_style *ps, double lw)
 {
     double edge = right ? ax->px + ax->pw + lw : ax->px - lw, dir = right ? 1.0 : -1.0;
-    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
+    cairo_set_source_rgb(cr, POST_INK_RGB);
     for (int k = 0; k < t->n; k++) {
         double Y = post_axes_y(ax, t->v[k]);
         cairo_move_to(cr, edge, Y);
@@ -275,7 +309,7 @@ void post_chart_x_ticks(cairo_t *cr, const post_axes *ax, const post_ticks *t,
                         const post_chart_style *ps, double lw)
 {
     double bot = ax->py + ax->ph + lw;
-    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
+    cairo_set_source_rgb(cr, POST_INK_RGB);
     for (int k = 0; k < t->n; k++) {
         cairo_move_to(cr, post_axes_x(ax, t->v[k]), bot);
         cairo_line_to(cr, post_axes_x(ax, t->v[k]), bot + ps->ticklen);
@@ -297,7 +331,7 @@ void post_chart_log_x_ticks(cairo_t *cr, const post_axes *ax, const post_log_tic
     double s = ps->s, bot = ax->py + ax->ph + lw, ticklen = ps->ticklen, f_tick = ps->f_tick;
     char buf[96];
     double last_right = -INFINITY;
-    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
+    cairo_set_source_rgb(cr, POST_INK_RGB);
     post_font(cr, f_tick, 0);
     for (int k = 0; k < lt->n; k++) {
         double X = post_axes_x(ax, lt->v[k]);
@@ -340,87 +374,35 @@ void post_chart_value_title(cairo_t *cr, const post_axes *ax, const post_chart_s
 }
 
 /* ------------------------------------------------------------------ */
-/* Legend                                                              */
+/* Legend strip                                                        */
 /* ------------------------------------------------------------------ */
 
-/* Points of the curves inside box (x, y, w, h) grown by margin px: the
- * vertices and points every 4 px along the segments between them. */
-static long curve_hits(const post_chart_curve *c, int nc, const double box[4], double margin)
+/* The swatch of one entry: a short line (dashed if asked) with its marker
+ * in the middle, sw px long, centred vertically on cy. */
+static void legend_swatch(cairo_t *cr, const post_legend_entry *e, double x0, double cy,
+                          double sw, double s)
 {
-    double x0 = box[0] - margin, x1 = box[0] + box[2] + margin;
-    double y0 = box[1] - margin, y1 = box[1] + box[3] + margin;
-    long hits = 0;
-    for (int q = 0; q < nc; q++) {
-        double PX = 0.0, PY = 0.0;
-        for (int k = 0; k < c[q].n; k++) {
-            int i = c[q].order != NULL ? c[q].order[k] : k;
-            double X = post_axes_x(c[q].ax, c[q].x[i]), Y = post_axes_y(c[q].ax, c[q].y[i]);
-            int steps = 1;
-            if (k > 0) {
-                double len = hypot(X - PX, Y - PY);
-                steps = len < 4.0e4 ? (int)ceil(len / 4.0) : 10000;
-                if (steps < 1)
-                    steps = 1;
-            }
-            for (int m = k > 0 ? 1 : steps; m <= steps; m++) {
-                double t = (double)m / steps;
-                double SX = PX + t * (X - PX), SY = PY + t * (Y - PY);
-                hits += SX > x0 && SX < x1 && SY > y0 && SY < y1;
-            }
-            PX = X;
-            PY = Y;
-        }
+    cairo_set_source_rgba(cr, e->col[0], e->col[1], e->col[2], e->alpha);
+    if (e->dashed) {
+        double dash[2] = {6.0 * s, 4.0 * s};
+        cairo_set_dash(cr, dash, 2, 0.0);
     }
-    return hits;
-}
-
-/* Top-left corner (*bx, *by) of the bw x bh legend box: the inner corner
- * of the plot with the fewest curve points under it that does not cover
- * avoid (NULL: none); ties keep the earlier corner (top left, top right,
- * bottom right, bottom left). */
-static void legend_corner(const post_axes *ax, double s, double bw, double bh,
-                          const post_chart_curve *curves, int ncurves, const double *avoid,
-                          double *bx, double *by)
-{
-    double inset = 10.0 * s;
-    long best = -1;
-    *bx = *by = 0.0;
-    for (int corner = 0; corner < 4; corner++) {
-        double box[4] = {(corner == 0 || corner == 3) ? ax->px + inset
-                                                      : ax->px + ax->pw - inset - bw,
-                         corner < 2 ? ax->py + inset : ax->py + ax->ph - inset - bh, bw, bh};
-        long hits = curve_hits(curves, ncurves, box, 6.0 * s);
-        if (avoid != NULL && avoid[0] < box[0] + bw && avoid[0] + avoid[2] > box[0] &&
-            avoid[1] < box[1] + bh && avoid[1] + avoid[3] > box[1])
-            hits += 1000000;
-        if (best < 0 || hits < best) {
-            best = hits;
-            *bx = box[0];
-            *by = box[1];
-        }
+    cairo_move_to(cr, x0, cy);
+    cairo_line_to(cr, x0 + sw, cy);
+    cairo_set_line_width(cr, e->lw);
+    cairo_stroke(cr);
+    cairo_set_dash(cr, NULL, 0, 0.0);
+    if (e->marker) {
+        draw_marker(cr, x0 + sw / 2.0, cy, e->marker, 4.0 * s);
+        cairo_fill(cr);
     }
 }
 
-void post_chart_legend(cairo_t *cr, const post_axes *ax, const post_chart_style *ps,
-                       post_legend_entry *leg, int nleg, const post_chart_curve *curves,
-                       int ncurves, const double *avoid)
+double post_chart_legend_strip(cairo_t *cr, const post_chart_style *ps, post_legend_entry *leg,
+                               int nleg, double x, double y, double maxw, int draw)
 {
     if (nleg < 1)
-        return;
-    double s = ps->s, f = ps->f_leg;
-    post_font(cr, f, 0);
-    double lwid = 0.0, row_h = 1.6 * f, sw = 30.0 * s;
-    for (int k = 0; k < nleg; k++)
-        lwid = fmax(lwid, post_rich_width(cr, leg[k].label, f));
-    double bw = 10.0 * s + sw + 8.0 * s + lwid + 10.0 * s, bh = nleg * row_h + 10.0 * s;
-    double best_bx, best_by;
-    legend_corner(ax, s, bw, bh, curves, ncurves, avoid, &best_bx, &best_by);
-    cairo_set_source_rgba(cr, 1.0, 1.0, 1.0, 0.9);
-    cairo_rectangle(cr, best_bx, best_by, bw, bh);
-    cairo_fill_preserve(cr);
-    cairo_set_source_rgb(cr, 0.6, 0.6, 0.6);
-    cairo_set_line_width(cr, 1.0);
-    cairo_stroke(cr);
+        return 0.0;
     for (int k = 1; k < nleg; k++) { /* sort by rank */
         post_legend_entry e = leg[k];
         int m = k - 1;
@@ -430,26 +412,23 @@ void post_chart_legend(cairo_t *cr, const post_axes *ax, const post_chart_style 
         }
         leg[m + 1] = e;
     }
+    double s = ps->s, f = ps->f_leg, sw = 26.0 * s, gap = 7.0 * s, sep = 22.0 * s;
+    double row_h = 1.7 * f, X = x, Y = y;
+    post_font(cr, f, 0);
     for (int k = 0; k < nleg; k++) {
         const post_legend_entry *e = &leg[k];
-        double cy = best_by + 5.0 * s + (k + 0.5) * row_h;
-        double x0 = best_bx + 10.0 * s;
-        cairo_set_source_rgba(cr, e->col[0], e->col[1], e->col[2], e->alpha);
-        if (e->dashed) {
-            double dash[2] = {7.0 * s, 5.0 * s};
-            cairo_set_dash(cr, dash, 2, 0.0);
+        double w = sw + gap + post_rich_width(cr, e->label, f);
+        if (X > x && X + w > x + maxw) { /* wrap to a new row */
+            X = x;
+            Y += row_h;
         }
-        cairo_move_to(cr, x0, cy);
-        cairo_line_to(cr, x0 + sw, cy);
-        cairo_set_line_width(cr, e->lw);
-        cairo_stroke(cr);
-        cairo_set_dash(cr, NULL, 0, 0.0);
-        if (e->marker) {
-            draw_marker(cr, x0 + sw / 2.0, cy, e->marker == 2, e->marker == 2 ? 3.6 * s : 4.2 * s);
-            cairo_fill(cr);
+        if (draw) {
+            double cy = Y + 0.5 * row_h;
+            legend_swatch(cr, e, X, cy, sw, s);
+            cairo_set_source_rgb(cr, POST_INK_RGB);
+            post_rich_text(cr, X + sw + gap, cy, e->label, f, 0.0, 0.5, 0.0);
         }
-        cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
-        post_rich_text(cr, x0 + sw + 8.0 * s, cy, e->label, f, 0.0, 0.5, 0.0);
+        X += w + sep;
     }
+    return Y - y + row_h;
 }
-

@@ -272,25 +272,25 @@ void post_rich_text(cairo_t *cr, double x, double y, const char *s, double size,
     cairo_restore(cr);
 }
 
-void post_title(cairo_t *cr, const char *title, double size, double cx, double y, double W,
+void post_title(cairo_t *cr, const char *title, double size, double x, double y, double W,
                 double pad)
 {
     if (title == NULL || title[0] == '\0')
         return;
-    post_font(cr, size, 1);
-    double w = post_text_width(cr, title);
-    if (w > W - 2.0 * pad) { /* shrink a long title to fit */
-        size *= (W - 2.0 * pad) / w;
-        post_font(cr, size, 1);
-        w = post_text_width(cr, title);
+    post_font(cr, size, 0);
+    double w = post_text_width(cr, title), room = W - pad - x;
+    if (w > room && room > 0.0) { /* shrink a long title to fit */
+        size *= room / w;
+        post_font(cr, size, 0);
     }
-    double x = cx - w / 2.0;
-    if (x < pad)
-        x = pad;
-    if (x + w > W - pad)
-        x = W - pad - w;
-    cairo_set_source_rgb(cr, 0.0, 0.0, 0.0);
+    cairo_set_source_rgb(cr, POST_INK_RGB);
     post_text(cr, x, y, title, 0.0, 0.0);
+    /* the house mark: a short amber rule under the first letters */
+    double amber[3];
+    post_series_col(1, 2, amber);
+    cairo_set_source_rgb(cr, amber[0], amber[1], amber[2]);
+    cairo_rectangle(cr, x, y + 1.05 * size, 2.2 * size, fmax(2.0, 0.14 * size));
+    cairo_fill(cr);
 }
 
 /* ================================================================== */

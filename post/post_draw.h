@@ -44,6 +44,9 @@ void post_cmap_lut(int diverging, uint32_t lut[POST_LUT_N]);
 /* The entry nearest to t in [0, 1] (clamped; NaN gives entry 0). */
 uint32_t post_cmap_lut_pick(const uint32_t lut[POST_LUT_N], double t);
 
+/* post_series_rgb (post/post_img.h) as cairo components 0..1. */
+void post_series_col(int k, int n, double col[3]);
+
 /* ------------------------------------------------------------------ */
 /* 2. Ticks and numbers (post_draw.c)                                  */
 /* ------------------------------------------------------------------ */
@@ -107,10 +110,11 @@ double post_rich_width(cairo_t *cr, const char *s, double size);
 void post_rich_text(cairo_t *cr, double x, double y, const char *s, double size, double ha,
                     double va, double angle);
 
-/* A bold title (NULL or "": nothing) centred on cx with the top of its
- * capitals at y, shrunk to fit the image width W less pad on each side and
- * kept inside it. */
-void post_title(cairo_t *cr, const char *title, double size, double cx, double y, double W,
+/* The house title (NULL or "": nothing): regular weight, in the ink
+ * colour, left-aligned at x with the top of its capitals at y, and a short
+ * amber rule (series colour 1 of 2) under its first letters; shrunk to fit
+ * between x and the image width W less pad. */
+void post_title(cairo_t *cr, const char *title, double size, double x, double y, double W,
                 double pad);
 
 /* ------------------------------------------------------------------ */
@@ -219,10 +223,18 @@ typedef struct {
 /* The ticks of a log axis over [lo, hi], 0 < lo < hi. */
 void post_chart_log_ticks(double lo, double hi, post_log_ticks *t);
 
-/* Light grid lines at the abscissae xv[nxv] and at the value ticks yt, and
- * a darker line at zero when the value range holds it. */
-void post_chart_grid(cairo_t *cr, const post_axes *ax, const post_chart_style *ps, int nxv,
-                     const double *xv, const post_ticks *yt);
+/* The ink of axes, ticks and text, and the dotted value rules (cairo RGB). */
+#define POST_INK_RGB 0.16, 0.18, 0.23
+#define POST_GRID_RGB 0.74, 0.78, 0.85
+
+/* Dotted rules across the plot at the value ticks yt (none along x), and a
+ * solid line at zero when the value range holds it. */
+void post_chart_grid(cairo_t *cr, const post_axes *ax, const post_chart_style *ps,
+                     const post_ticks *yt);
+
+/* The open axes: a line of width lw along the left and the bottom of the
+ * plot rectangle (and the right side when right != 0); no top line. */
+void post_chart_axis_lines(cairo_t *cr, const post_axes *ax, double lw, int right);
 
 /* Tick marks and labels of a value axis on the left (right == 0) or right
  * side of the frame of line width lw; ax gives that axis's range. */
@@ -247,37 +259,30 @@ void post_chart_value_title(cairo_t *cr, const post_axes *ax, const post_chart_s
 
 /* The polyline through (xs[k], ys[k]), k = 0 .. n-1 taken in the order
  * order[] (NULL: as given), colour col with opacity alpha, line width lw;
- * marker 0 none, 1 circles, 2 squares of half-size mr px at the points. */
+ * marker 0 none, 1 diamonds, 2 triangles, 3 dots of half-size mr px at the
+ * points, each on a white ring 1.2 px wider. */
 void post_chart_series(cairo_t *cr, const post_axes *ax, int n, const double *xs,
                        const double *ys, const int *order, const double col[3], double lw,
                        double alpha, int marker, double mr);
 
-/* A legend line. */
+/* A legend entry. */
 typedef struct {
     const char *label;   /* rich label                                  */
     const double *col;   /* RGB, 3 components                           */
-    int marker;          /* 0 none, 1 circle, 2 square                  */
+    int marker;          /* 0 none, 1 diamond, 2 triangle, 3 dot        */
     double lw;           /* line width, px                              */
     double alpha;        /* line opacity                                */
     int dashed;
     int rank;            /* position in the legend, smallest first      */
 } post_legend_entry;
 
-/* A drawn curve, for keeping the legend off it. */
-typedef struct {
-    const post_axes *ax; /* the axes it is drawn on                     */
-    int n;               /* points (0: none)                            */
-    const double *x, *y;
-    const int *order;    /* drawing order; NULL: as given               */
-} post_chart_curve;
-
-/* The legend leg[nleg] (reordered by rank), boxed, in the inner corner of
- * the plot over the fewest points of curves[ncurves] that does not cover
- * the box avoid (x, y, w, h px; NULL: none); ties prefer top left, top
- * right, bottom right, bottom left.  nleg < 1: nothing. */
-void post_chart_legend(cairo_t *cr, const post_axes *ax, const post_chart_style *ps,
-                       post_legend_entry *leg, int nleg, const post_chart_curve *curves,
-                       int ncurves, const double *avoid);
+/* The legend as an unboxed strip: entries (reordered by rank) side by side
+ * from (x, y) (top left, px), each a short swatch of its line and marker
+ * and its label, wrapped onto a new row before an entry that would pass
+ * x + maxw.  draw == 0 only measures.  Returns the height of the strip, px
+ * (0 for nleg < 1). */
+double post_chart_legend_strip(cairo_t *cr, const post_chart_style *ps, post_legend_entry *leg,
+                               int nleg, double x, double y, double maxw, int draw);
 
 /* EDDY_OK if every v[k], k < n, is finite (v NULL: nothing to check), else
  * the status `code` with a message "PLOT: WHAT[k] is not finite". */

@@ -43,14 +43,33 @@
 /* ------------------------------------------------------------------ */
 
 /* Colour of a normalised value t in [0, 1] (clamped; NaN gives 0.5).
- *   diverging != 0: Moreland's diverging "cool to warm" map (2009),
- *                   interpolated in his Msh colour space between the end
- *                   colours (59,76,192) and (180,4,38); t = 0.5 is the
- *                   neutral grey-white (221,221,221);
- *   diverging == 0: viridis (van der Walt & Smith, 2015), 256-entry table
- *                   interpolated linearly.
+ *   diverging != 0: the project's diverging map, constructed in CIELAB by
+ *                   the design rules of Kovesi, "Good colour maps: how to
+ *                   design them", arXiv:1509.03700 (2015): ink blue (t = 0,
+ *                   L* 24) through a neutral light grey (t = 0.5, L* 96,
+ *                   no chroma) to burnt orange (t = 1, L* 24); lightness
+ *                   linear in |2t - 1| and the two halves equal in L* and
+ *                   C*, so t and 1 - t have the same lightness;
+ *   diverging == 0: batlow (Crameri, Scientific colour maps, MIT licence;
+ *                   Crameri, Shephard & Heron, Nature Communications 11,
+ *                   5444, 2020), its 256-entry table interpolated linearly:
+ *                   dark blue (L* 12) through green and ochre to pale pink
+ *                   (L* 87), lightness increasing throughout.
  * rgb receives sRGB components 0..255 (rounded).  Never fails. */
 void post_cmap_rgb(int diverging, double t, unsigned char rgb[3]);
+
+/* Size of the house palette of line series. */
+#define POST_SERIES_N 8
+
+/* Colour of series k (0-based) of n in every line plot of the project:
+ * for n <= POST_SERIES_N the house palette (ink blue, amber, sea green,
+ * plum, umber, pale sky, terracotta, moss; pairwise CIELAB Delta E*ab >= 36);
+ * for more series a ramp along the sequential map (post_cmap_rgb(0, .))
+ * from t = 0 to 0.8, series k at 0.8 k / (n - 1), so colour follows the
+ * order of the series.  k is clamped to 0..n-1, n to >= 1.  rgb receives
+ * sRGB 0..255.  The force plot draws drag as series 0 and normal force as
+ * series 1 (of 2).  Never fails. */
+void post_series_rgb(int k, int n, unsigned char rgb[3]);
 
 /* ------------------------------------------------------------------ */
 /* Field map                                                           */
@@ -61,8 +80,8 @@ typedef struct {
     const char *quantity;    /* e.g. "J_z" or "|B|": colour-bar label, PNG text  */
     const char *unit_label;  /* display unit, e.g. "MA/m^2" or "T"               */
     double value_scale;      /* display value = SI value * value_scale           */
-    int diverging;           /* 1: cool-warm, range -m..m with m = max |v|;
-                                0: viridis, range min(0, vmin)..vmax             */
+    int diverging;           /* 1: diverging map, range -m..m with m = max |v|;
+                                0: batlow, range min(0, vmin)..vmax              */
     const char *length_unit; /* axis unit label, e.g. "mm" or "m"                */
     double length_scale;     /* display length = metres * length_scale           */
     int width_px;            /* image width in px (0: 1200; 300..10000)          */
@@ -77,7 +96,7 @@ typedef struct {
 } post_map_opts;
 
 /* Fill *o with defaults: no title, quantity "value", unit "", value_scale 1,
- * viridis, axes in mm (length_scale 1000), width 1200 px, view all zero
+ * batlow, axes in mm (length_scale 1000), width 1200 px, view all zero
  * (meaning: the whole grid), no flux lines, no outlines, speed NaN. */
 void post_map_opts_defaults(post_map_opts *o);
 
@@ -210,14 +229,55 @@ void post_xy_opts_defaults(post_xy_opts *o);
  *   y2[n]        a second curve on a right-hand axis with its own scale, its
  *                ticks on the grid lines of y1's; NULL: none.
  *   o            options; may be NULL for defaults.
- * Linear axes with nice ticks; y1 is drawn in blue, y2 in vermillion (with
- * axis titles in the same colours).  A legend is drawn for two curves, or
- * for one when y1_name is set.  In axis titles and legend names "_x" /
+ * Linear axes with nice ticks; y1 is drawn in series colour 0, y2 in series
+ * colour 1 of 2 (post_series_rgb; axis titles in the same colours).  A
+ * legend strip under the title is drawn for two curves, or for one when
+ * y1_name is set.  In axis titles and legend names "_x" /
  * "_{abc}" draw a subscript and "^2" / "^{-1}" a superscript.
  * Returns EDDY_OK; EDDY_ERR_INPUT for n < 2, a NULL path or array, a
  * non-finite value or a bad size; EDDY_ERR_NOMEM; EDDY_ERR_IO when the file
  * cannot be written. */
 eddy_status post_plot_xy_png(const char *path, int n, const double *x, const double *y1,
                              const double *y2, const post_xy_opts *o, eddy_error *err);
+
+/* ------------------------------------------------------------------ */
+/* Many curves on one pair of axes                                     */
+/* ------------------------------------------------------------------ */
+
+typedef struct {
+    const char *title;     /* drawn above the plot (NULL: none) and PNG text "Title"  */
+    const char *version;   /* tool version for PNG text "Software"; NULL: none       */
+    const char *x_label;   /* x-axis title, e.g. "speed (m/s)"; PNG "eddy2d:x"       */
+    const char *y_label;   /* value-axis title; PNG "eddy2d:y"                       */
+    const char *key_label; /* what tells the curves apart, e.g. a variant path; shown
+                              with the colour ramp, PNG "eddy2d:key"; NULL: "case"  */
+    int width_px, height_px; /* 0: 1000 x 650; each 300..10000                       */
+} post_overlay_opts;
+
+/* Fill *o with defaults: everything NULL / 0. */
+void post_overlay_opts_defaults(post_overlay_opts *o);
+
+/* Plot ncurve curves on one pair of axes and write a PNG.
+ *   npt[c]        points of curve c (>= 1), c = 0 .. ncurve-1 (ncurve >= 1);
+ *   x[c], y[c]    its npt[c] finite values (any units; the labels say which);
+ *                 points are joined in x order and marked with dots;
+ *   names[c]      its legend label (UTF-8).
+ *   o             options; may be NULL for defaults.
+ * Curve c is drawn in post_series_rgb(c, ncurve).  Up to POST_SERIES_N
+ * curves are keyed by a legend strip under the title (one entry a curve);
+ * beyond that the colours run along a ramp in curve order and are keyed by
+ * a colour strip from names[0] to names[ncurve-1] with key_label and the
+ * count, so the legend stays one line however many curves there are.  The
+ * x axis is logarithmic when every x is > 0 and they span more than a
+ * decade, else linear; the value axis holds 0.  PNG text "eddy2d:series"
+ * lists every curve as "name<TAB>#rrggbb" lines (its colour).
+ * The file is replaced atomically (eddy_atomic_open).  The caller keeps
+ * every array.  Returns EDDY_OK; EDDY_ERR_INPUT for a NULL argument, a curve
+ * without points or a bad size; EDDY_ERR_NUMERIC for a non-finite value;
+ * EDDY_ERR_NOMEM; EDDY_ERR_IO when the file cannot be written. */
+eddy_status post_plot_overlay_png(const char *path, int ncurve, const int *npt,
+                                  const double *const *x, const double *const *y,
+                                  const char *const *names, const post_overlay_opts *o,
+                                  eddy_error *err);
 
 #endif

@@ -492,8 +492,10 @@ static eddy_status draw_flux_lines(cairo_t *cr, const map_layout *L, int nx, int
                 contour_cell(cr, g, cv, cx, cy, amin + lv * da);
         }
     }
-    cairo_set_source_rgba(cr, 0.06, 0.06, 0.06, 0.85);
-    cairo_set_line_width(cr, fmax(0.8, 1.0 * L->s));
+    /* house flux lines: thin, ink-blue-grey, partly transparent, so the
+     * colour underneath still reads between them */
+    cairo_set_source_rgba(cr, POST_INK_RGB, 0.75);
+    cairo_set_line_width(cr, fmax(1.0, 0.9 * L->s));
     cairo_set_line_cap(cr, CAIRO_LINE_CAP_ROUND);
     cairo_set_line_join(cr, CAIRO_LINE_JOIN_ROUND);
     cairo_stroke(cr);
@@ -515,9 +517,16 @@ static void draw_outlines(cairo_t *cr, const map_layout *L, const double *rects,
         double Y0 = map_Y(g, fmax(r[1], r[3])), Y1 = map_Y(g, fmin(r[1], r[3]));
         cairo_rectangle(cr, X0, Y0, X1 - X0, Y1 - Y0);
     }
-    cairo_set_source_rgba(cr, 0.0, 0.0, 0.0, 0.75);
-    cairo_set_line_width(cr, fmax(1.0, 1.2 * L->s));
+    /* house outlines: a light halo, then a dashed ink line on it, so they
+     * read on the dark and on the light end of either map */
+    double s = fmax(1.0, L->s), dash[2] = {5.0 * s, 3.0 * s};
     cairo_set_line_join(cr, CAIRO_LINE_JOIN_MITER);
+    cairo_set_source_rgba(cr, 1.0, 1.0, 1.0, 0.7);
+    cairo_set_line_width(cr, 2.8 * s);
+    cairo_stroke_preserve(cr);
+    cairo_set_dash(cr, dash, 2, 0.0);
+    cairo_set_source_rgb(cr, POST_INK_RGB);
+    cairo_set_line_width(cr, 1.2 * s);
     cairo_stroke(cr);
     cairo_restore(cr);
 }
@@ -526,7 +535,7 @@ static void draw_map_axes(cairo_t *cr, const map_layout *L, const post_map_opts 
 {
     const post_map_geom *g = &L->g;
     double s = L->s, lw = fmax(1.0, round(s)), ls = o->length_scale;
-    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
+    cairo_set_source_rgb(cr, POST_INK_RGB);
     post_frame_outside(cr, g->plot_x, g->plot_y, g->plot_w, g->plot_h, lw);
     post_font(cr, L->f_tick, 0);
     double bottom = g->plot_y + g->plot_h + lw, left = g->plot_x - lw;
@@ -595,7 +604,7 @@ static eddy_status draw_colour_bar(cairo_t *cr, const map_layout *L, const post_
     cairo_surface_destroy(bs);
     free(lut);
 
-    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
+    cairo_set_source_rgb(cr, POST_INK_RGB);
     post_frame_outside(cr, g->bar_x, g->bar_y, g->bar_w, g->bar_h, lw);
     post_font(cr, L->f_tick, 0);
     double right = g->bar_x + g->bar_w + lw, lo = g->vmin * vs, hi = g->vmax * vs;
@@ -649,8 +658,7 @@ eddy_status post_map_png(const char *path, int nx, int ny, const double *x, cons
         st = draw_colour_bar(cr, L, o, err);
     }
     if (st == EDDY_OK) {
-        post_title(cr, o->title, L->f_title, g->plot_x + g->plot_w / 2.0, 12.0 * L->s,
-                   g->width, 12.0 * L->s);
+        post_title(cr, o->title, L->f_title, g->plot_x, 12.0 * L->s, g->width, 12.0 * L->s);
         st = post_canvas_status(cr, err);
     }
     if (st == EDDY_OK) {

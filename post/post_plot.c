@@ -12,9 +12,12 @@
 #include <stdlib.h>
 #include <string.h>
 
-static const double col_drag[3] = {0.0, 0.447, 0.698};   /* Okabe-Ito blue       */
-static const double col_normal[3] = {0.835, 0.369, 0.0}; /* Okabe-Ito vermillion */
-static const double col_slope[3] = {0.25, 0.25, 0.25};
+/* Series colours come from the one palette (post_series_rgb): drag is
+ * series 0 of 2, normal force series 1; the low-speed slope is ink grey.
+ * Markers: drag diamonds, normal-force triangles. */
+static const double col_slope[3] = {0.42, 0.45, 0.52};
+#define MARK_DRAG 1
+#define MARK_NORMAL 2
 
 /* ================================================================== */
 /* Force-speed plot                                                    */
@@ -51,11 +54,12 @@ typedef struct {
     post_axes ax;
     post_ticks yt, xt;             /* xt: linear speed axis only          */
     post_log_ticks lt;             /* log speed axis only                 */
-    /* legend and the box of the peak label, which the legend avoids */
+    /* series colours and the legend strip under the title */
+    double col_drag[3], col_normal[3];
     post_legend_entry leg[6];
     int nleg;
     char slope_label[128];
-    double peak_box[4];
+    double title_y, legend_y, legend_h;
 } forces_plot;
 
 /* Sort indices by x (insertion sort; n is small). */
@@ -198,15 +202,49 @@ static void forces_value_range(const forces_plot *F, double *lo, double *hi)
     *hi = yhi;
 }
 
+/* The legend entries of the curves the plot will draw (before the layout,
+ * which makes room for the strip). */
+static void forces_legend_entries(forces_plot *F)
+{
+    double s = F->ps.s;
+    post_series_col(0, 2, F->col_drag);
+    post_series_col(1, 2, F->col_normal);
+    F->nleg = 0;
+    F->leg[F->nleg++] = (post_legend_entry){"drag", F->col_drag, MARK_DRAG, 2.0 * s, 1.0, 0, 0};
+    if (F->normal != NULL)
+        F->leg[F->nleg++] =
+            (post_legend_entry){"normal force", F->col_normal, MARK_NORMAL, 2.0 * s, 1.0, 0, 1};
+    const char *rl = F->o != NULL && F->o->ref_label != NULL ? F->o->ref_label : "reference";
+    snprintf(F->ref_drag_label, sizeof F->ref_drag_label, "drag, %s", rl);
+    snprintf(F->ref_normal_label, sizeof F->ref_normal_label, "normal force, %s", rl);
+    if (F->ref_n > 0 && F->ref_drag != NULL)
+        F->leg[F->nleg++] =
+            (post_legend_entry){F->ref_drag_label, F->col_drag, 0, 1.4 * s, 0.55, 0, 2};
+    if (F->ref_n > 0 && F->ref_normal != NULL)
+        F->leg[F->nleg++] =
+            (post_legend_entry){F->ref_normal_label, F->col_normal, 0, 1.4 * s, 0.55, 0, 3};
+    if (isfinite(F->slope)) {
+        char num[48];
+        post_fmt_sig3(num, sizeof num, F->slope);
+        snprintf(F->slope_label, sizeof F->slope_label, "low-speed slope %s N/m per m/s", num);
+        F->leg[F->nleg++] = (post_legend_entry){F->slope_label, col_slope, 0, 1.5 * s, 1.0, 1, 4};
+    }
+}
+
 /* The plot rectangle and both axes (tick labels measured with cr). */
 static void forces_layout(forces_plot *F, cairo_t *cr)
 {
     post_chart_style *ps = &F->ps;
     post_axes *ax = &F->ax;
     post_chart_style_init(F->W, F->H, ps);
+    forces_legend_entries(F);
     double s = ps->s, ylo, yhi;
     forces_value_range(F, &ylo, &yhi);
-    double top = ps->pad + 1.6 * ps->f_title + 0.6 * ps->f_tick;
+    F->title_y = ps->pad;
+    F->legend_y = ps->pad + 1.75 * ps->f_title;
+    F->legend_h = post_chart_legend_strip(cr, ps, F->leg, F->nleg, ps->pad, F->legend_y,
+                                          F->W - 2.0 * ps->pad, 0);
+    double top = F->legend_y + F->legend_h + 0.6 * ps->f_tick;
     double right = ps->pad + 20.0 * s;
     ax->py = ceil(top);
     ax->ph = floor(F->H - top - ps->bottom);
@@ -238,7 +276,7 @@ static void forces_layout(forces_plot *F, cairo_t *cr)
 static void forces_slope_line(forces_plot *F, cairo_t *cr)
 {
     const post_axes *ax = &F->ax;
-    double s = F->ps.s, dash[2] = {7.0 * s, 5.0 * s};
+    double s = F->ps.s, dash[2] = {6.0 * s, 4.0 * s};
     cairo_set_dash(cr, dash, 2, 0.0);
     cairo_set_source_rgb(cr, col_slope[0], col_slope[1], col_slope[2]);
     for (int k = 0; k <= 200; k++) {
@@ -259,14 +297,10 @@ static void forces_slope_line(forces_plot *F, cairo_t *cr)
     cairo_set_line_width(cr, 1.5 * s);
     cairo_stroke(cr);
     cairo_set_dash(cr, NULL, 0, 0.0);
-    char num[48];
-    post_fmt_sig3(num, sizeof num, F->slope);
-    snprintf(F->slope_label, sizeof F->slope_label, "low-speed slope %s N/m per m/s", num);
-    F->leg[F->nleg++] = (post_legend_entry){F->slope_label, col_slope, 0, 1.5 * s, 1.0, 1, 4};
 }
 
 /* Inside the plot rectangle: the slope, the reference curves (thin and
- * pale), the computed points; their legend entries. */
+ * pale), the computed points. */
 static void forces_curves(forces_plot *F, cairo_t *cr)
 {
     const post_axes *ax = &F->ax;
@@ -277,34 +311,23 @@ static void forces_curves(forces_plot *F, cairo_t *cr)
     cairo_clip(cr);
     if (isfinite(F->slope))
         forces_slope_line(F, cr);
-    const char *rl = F->o != NULL && F->o->ref_label != NULL ? F->o->ref_label : "reference";
-    snprintf(F->ref_drag_label, sizeof F->ref_drag_label, "drag, %s", rl);
-    snprintf(F->ref_normal_label, sizeof F->ref_normal_label, "normal force, %s", rl);
-    if (rn > 0 && F->ref_drag != NULL) {
-        post_chart_series(cr, ax, rn, F->rxs, F->ref_drag, F->rorder, col_drag, 1.4 * s, 0.55, 0,
-                          0.0);
-        F->leg[F->nleg++] =
-            (post_legend_entry){F->ref_drag_label, col_drag, 0, 1.4 * s, 0.55, 0, 2};
-    }
-    if (rn > 0 && F->ref_normal != NULL) {
-        post_chart_series(cr, ax, rn, F->rxs, F->ref_normal, F->rorder, col_normal, 1.4 * s, 0.55,
+    if (rn > 0 && F->ref_drag != NULL)
+        post_chart_series(cr, ax, rn, F->rxs, F->ref_drag, F->rorder, F->col_drag, 1.4 * s, 0.55,
                           0, 0.0);
-        F->leg[F->nleg++] = (post_legend_entry){F->ref_normal_label, col_normal, 0, 1.4 * s,
-                                                0.55, 0, 3};
-    }
-    if (F->normal != NULL) {
-        post_chart_series(cr, ax, F->n, F->xs, F->normal, F->order, col_normal, 1.8 * s, 1.0, 2,
-                          3.6 * s);
-        F->leg[F->nleg++] = (post_legend_entry){"normal force", col_normal, 2, 1.8 * s, 1.0, 0, 1};
-    }
-    post_chart_series(cr, ax, F->n, F->xs, F->drag, F->order, col_drag, 1.8 * s, 1.0, 1, 4.2 * s);
-    F->leg[F->nleg++] = (post_legend_entry){"drag", col_drag, 1, 1.8 * s, 1.0, 0, 0};
+    if (rn > 0 && F->ref_normal != NULL)
+        post_chart_series(cr, ax, rn, F->rxs, F->ref_normal, F->rorder, F->col_normal, 1.4 * s,
+                          0.55, 0, 0.0);
+    if (F->normal != NULL)
+        post_chart_series(cr, ax, F->n, F->xs, F->normal, F->order, F->col_normal, 2.0 * s, 1.0,
+                          MARK_NORMAL, 4.0 * s);
+    post_chart_series(cr, ax, F->n, F->xs, F->drag, F->order, F->col_drag, 2.0 * s, 1.0,
+                      MARK_DRAG, 4.2 * s);
     cairo_restore(cr);
 }
 
 /* The peak of the options: a ring at (peak speed, peak drag) and the label
  * "peak drag F N/m at v m/s" (U+2248 before F when interpolated) on a white
- * box beside it, whose rectangle goes to F->peak_box. */
+ * box beside it. */
 static void forces_peak_marker(forces_plot *F, cairo_t *cr)
 {
     const post_plot_opts *o = F->o;
@@ -317,7 +340,7 @@ static void forces_peak_marker(forces_plot *F, cairo_t *cr)
     post_fmt_sig3(vnum, sizeof vnum, o->peak_speed);
     snprintf(ann, sizeof ann, "peak drag %s%s N/m at %s m/s",
              o->peak_interpolated ? "\xe2\x89\x88 " : "", fnum, vnum);
-    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
+    cairo_set_source_rgb(cr, POST_INK_RGB);
     cairo_new_sub_path(cr);
     cairo_arc(cr, PX, PY, 8.0 * s, 0.0, 2.0 * EDDY_PI);
     cairo_set_line_width(cr, 1.3 * s);
@@ -331,15 +354,10 @@ static void forces_peak_marker(forces_plot *F, cairo_t *cr)
         axx = ax->px + 4.0 * s + boxpad;
     if (ayy - boxpad < ax->py + 4.0 * s)
         ayy = PY + 14.0 * s;
-    double *box = F->peak_box;
-    box[0] = axx - boxpad;
-    box[1] = ayy - boxpad;
-    box[2] = aw + 2.0 * boxpad;
-    box[3] = ah + 2.0 * boxpad;
     cairo_set_source_rgba(cr, 1.0, 1.0, 1.0, 0.85);
-    cairo_rectangle(cr, box[0], box[1], box[2], box[3]);
+    cairo_rectangle(cr, axx - boxpad, ayy - boxpad, aw + 2.0 * boxpad, ah + 2.0 * boxpad);
     cairo_fill(cr);
-    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
+    cairo_set_source_rgb(cr, POST_INK_RGB);
     post_text(cr, axx, ayy, ann, 0.0, 0.0);
 }
 
@@ -349,8 +367,7 @@ static void forces_axes(const forces_plot *F, cairo_t *cr)
     const post_axes *ax = &F->ax;
     const post_chart_style *ps = &F->ps;
     double lw = fmax(1.0, round(ps->s));
-    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
-    post_frame_outside(cr, ax->px, ax->py, ax->pw, ax->ph, lw);
+    post_chart_axis_lines(cr, ax, lw, 0);
     post_chart_value_ticks(cr, ax, &F->yt, 0, ps, lw);
     if (ax->xlog)
         post_chart_log_x_ticks(cr, ax, &F->lt, ps, lw);
@@ -361,19 +378,11 @@ static void forces_axes(const forces_plot *F, cairo_t *cr)
                            "force per unit length (N/m)");
 }
 
-/* The legend in the corner with the fewest curve points under it, off the
- * peak label. */
+/* The legend strip under the title. */
 static void forces_legend(forces_plot *F, cairo_t *cr)
 {
-    const post_axes *ax = &F->ax;
-    int n = F->n, rn = F->ref_n;
-    post_chart_curve curves[4] = {
-        {ax, n, F->xs, F->drag, F->order},
-        {ax, F->normal != NULL ? n : 0, F->xs, F->normal, F->order},
-        {ax, F->ref_drag != NULL ? rn : 0, F->rxs, F->ref_drag, F->rorder},
-        {ax, F->ref_normal != NULL ? rn : 0, F->rxs, F->ref_normal, F->rorder}};
-    post_chart_legend(cr, ax, &F->ps, F->leg, F->nleg, curves, 4,
-                      F->o->has_peak ? F->peak_box : NULL);
+    post_chart_legend_strip(cr, &F->ps, F->leg, F->nleg, F->ps.pad, F->legend_y,
+                            F->W - 2.0 * F->ps.pad, 1);
 }
 
 /* The title, then the PNG with its text chunks (the peak's numbers with
@@ -383,7 +392,7 @@ static eddy_status forces_write(const forces_plot *F, const char *path, cairo_su
 {
     const post_plot_opts *o = F->o;
     const char *title = o->title != NULL ? o->title : "Forces vs speed";
-    post_title(cr, title, F->ps.f_title, F->ax.px + F->ax.pw / 2.0, F->ps.pad, F->W, F->ps.pad);
+    post_title(cr, title, F->ps.f_title, F->ps.pad, F->title_y, F->W, F->ps.pad);
     eddy_status st = post_canvas_status(cr, err);
     if (st != EDDY_OK)
         return st;
@@ -432,8 +441,7 @@ eddy_status post_plot_forces_png(const char *path, int n, const double *speed,
         st = post_canvas_new(F.W, F.H, &surf, &cr, err);
     if (st == EDDY_OK) {
         forces_layout(&F, cr);
-        post_chart_grid(cr, &F.ax, &F.ps, F.ax.xlog ? F.lt.n : F.xt.n,
-                        F.ax.xlog ? F.lt.v : F.xt.v, &F.yt);
+        post_chart_grid(cr, &F.ax, &F.ps, &F.yt);
         forces_curves(&F, cr);
         if (F.o->has_peak)
             forces_peak_marker(&F, cr);
@@ -471,6 +479,10 @@ typedef struct {
     double lw, curve_lw;                   /* frame and curve line widths, px */
     post_axes ax, ax2;                     /* ax2: y2's scale, same rectangle */
     post_ticks yt, y2t, xt;
+    double col1[3], col2[3];               /* series 0 and 1 of 2             */
+    post_legend_entry leg[2];
+    int nleg;
+    double title_y, legend_y, legend_h;
 } xy_plot;
 
 /* Smallest and largest of v[n]. */
@@ -523,6 +535,25 @@ static eddy_status xy_check(const char *path, xy_plot *P, eddy_error *err)
     return EDDY_OK;
 }
 
+/* The legend: both curves, or the one curve when it is named. */
+static void xy_legend_entries(xy_plot *P)
+{
+    const post_xy_opts *o = P->o;
+    post_series_col(0, 2, P->col1);
+    post_series_col(1, 2, P->col2);
+    P->nleg = 0;
+    if (P->y2 != NULL || o->y1_name != NULL) {
+        const char *name = o->y1_name != NULL ? o->y1_name : o->y1_label;
+        P->leg[P->nleg++] = (post_legend_entry){name != NULL ? name : "y1", P->col1, 0,
+                                                P->curve_lw, 1.0, 0, 0};
+    }
+    if (P->y2 != NULL) {
+        const char *name = o->y2_name != NULL ? o->y2_name : o->y2_label;
+        P->leg[P->nleg++] = (post_legend_entry){name != NULL ? name : "y2", P->col2, 0,
+                                                P->curve_lw, 1.0, 0, 1};
+    }
+}
+
 /* The plot rectangle and the axes; y2's ticks fall on y1's grid lines. */
 static void xy_layout(xy_plot *P, cairo_t *cr)
 {
@@ -533,7 +564,12 @@ static void xy_layout(xy_plot *P, cairo_t *cr)
     P->lw = fmax(1.0, round(s));
     P->curve_lw = fmax(2.0 * s, 1.5);
     int has_title = P->o->title != NULL && P->o->title[0] != '\0';
-    double top = ps->pad + (has_title ? 1.6 * ps->f_title : 0.0) + 0.6 * ps->f_tick;
+    xy_legend_entries(P);
+    P->title_y = ps->pad;
+    P->legend_y = ps->pad + (has_title ? 1.75 * ps->f_title : 0.0);
+    P->legend_h = post_chart_legend_strip(cr, ps, P->leg, P->nleg, ps->pad, P->legend_y,
+                                          P->W - 2.0 * ps->pad, 0);
+    double top = P->legend_y + P->legend_h + 0.6 * ps->f_tick;
     ax->py = ceil(top);
     ax->ph = floor(P->H - top - ps->bottom);
     post_font(cr, ps->f_tick, 0);
@@ -558,14 +594,14 @@ static void xy_layout(xy_plot *P, cairo_t *cr)
 static void xy_curves(const xy_plot *P, cairo_t *cr)
 {
     const post_axes *ax = &P->ax;
-    post_chart_grid(cr, ax, &P->ps, P->xt.n, P->xt.v, &P->yt);
+    post_chart_grid(cr, ax, &P->ps, &P->yt);
     cairo_save(cr);
     cairo_rectangle(cr, ax->px, ax->py, ax->pw, ax->ph);
     cairo_clip(cr);
     if (P->y2 != NULL)
-        post_chart_series(cr, &P->ax2, P->n, P->x, P->y2, NULL, col_normal, P->curve_lw, 1.0, 0,
+        post_chart_series(cr, &P->ax2, P->n, P->x, P->y2, NULL, P->col2, P->curve_lw, 1.0, 0,
                           0.0);
-    post_chart_series(cr, ax, P->n, P->x, P->y1, NULL, col_drag, P->curve_lw, 1.0, 0, 0.0);
+    post_chart_series(cr, ax, P->n, P->x, P->y1, NULL, P->col1, P->curve_lw, 1.0, 0, 0.0);
     cairo_restore(cr);
 }
 
@@ -575,41 +611,26 @@ static void xy_axes(const xy_plot *P, cairo_t *cr)
     const post_axes *ax = &P->ax;
     const post_chart_style *ps = &P->ps;
     double lw = P->lw;
-    cairo_set_source_rgb(cr, 0.1, 0.1, 0.1);
-    post_frame_outside(cr, ax->px, ax->py, ax->pw, ax->ph, lw);
+    post_chart_axis_lines(cr, ax, lw, P->y2 != NULL);
     post_chart_value_ticks(cr, ax, &P->yt, 0, ps, lw);
     if (P->y2 != NULL)
         post_chart_value_ticks(cr, &P->ax2, &P->y2t, 1, ps, lw);
     post_chart_x_ticks(cr, ax, &P->xt, ps, lw);
     post_chart_x_title(cr, ax, ps, lw, P->o->x_label);
     if (P->y2 != NULL)
-        cairo_set_source_rgb(cr, col_drag[0], col_drag[1], col_drag[2]);
+        cairo_set_source_rgb(cr, P->col1[0], P->col1[1], P->col1[2]);
     post_chart_value_title(cr, ax, ps, ps->pad + POST_CAP_FRAC * ps->f_label, P->o->y1_label);
     if (P->y2 != NULL) {
-        cairo_set_source_rgb(cr, col_normal[0], col_normal[1], col_normal[2]);
+        cairo_set_source_rgb(cr, P->col2[0], P->col2[1], P->col2[2]);
         post_chart_value_title(cr, ax, ps, P->W - ps->pad - 0.3 * ps->f_label, P->o->y2_label);
     }
 }
 
-/* The legend: both curves, or the one curve when it is named. */
-static void xy_legend(const xy_plot *P, cairo_t *cr)
+/* The legend strip under the title. */
+static void xy_legend(xy_plot *P, cairo_t *cr)
 {
-    const post_xy_opts *o = P->o;
-    post_legend_entry leg[2];
-    int nleg = 0;
-    if (P->y2 != NULL || o->y1_name != NULL) {
-        const char *name = o->y1_name != NULL ? o->y1_name : o->y1_label;
-        leg[nleg++] = (post_legend_entry){name != NULL ? name : "y1", col_drag, 0, P->curve_lw,
-                                          1.0, 0, 0};
-    }
-    if (P->y2 != NULL) {
-        const char *name = o->y2_name != NULL ? o->y2_name : o->y2_label;
-        leg[nleg++] = (post_legend_entry){name != NULL ? name : "y2", col_normal, 0, P->curve_lw,
-                                          1.0, 0, 1};
-    }
-    post_chart_curve curves[2] = {{&P->ax, P->n, P->x, P->y1, NULL},
-                                  {&P->ax2, P->y2 != NULL ? P->n : 0, P->x, P->y2, NULL}};
-    post_chart_legend(cr, &P->ax, &P->ps, leg, nleg, curves, 2, NULL);
+    post_chart_legend_strip(cr, &P->ps, P->leg, P->nleg, P->ps.pad, P->legend_y,
+                            P->W - 2.0 * P->ps.pad, 1);
 }
 
 /* The title, then the PNG with its text chunks. */
@@ -617,8 +638,7 @@ static eddy_status xy_write(const xy_plot *P, const char *path, cairo_surface_t 
                             cairo_t *cr, eddy_error *err)
 {
     const post_xy_opts *o = P->o;
-    post_title(cr, o->title, P->ps.f_title, P->ax.px + P->ax.pw / 2.0, P->ps.pad, P->W,
-               P->ps.pad);
+    post_title(cr, o->title, P->ps.f_title, P->ps.pad, P->title_y, P->W, P->ps.pad);
     eddy_status st = post_canvas_status(cr, err);
     if (st != EDDY_OK)
         return st;

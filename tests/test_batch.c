@@ -13,6 +13,10 @@
  *     as nested loops in the order written).
  *   - Array ranges in #SBATCH --array: Slurm's sbatch manual ("--array=0-15",
  *     "--array=0,6,16-32").
+ *   - summary.png: a valid PNG (decoded with libpng, its IHDR size), and
+ *     pixels of each case's colour (the colours it lists in its text chunk
+ *     "eddy2d:series", checked against the house palette post_series_rgb);
+ *     stand-in results with invented numbers, a picture test, no physics.
  */
 #include <cJSON.h>
 #include <math.h>
@@ -25,10 +29,19 @@
 #include "mesh/mesh.h"
 #include "app/app_batch.h"
 #include "design/design.h"
+#include "post/post_img.h"
 #include "tests/check.h"
+#include "tests/pngread.h"
 
 /* Peak of a parabola in log10(speed) through three samples: exact. */
 #define PEAK_TOL 1e-9
+/* summary.png */
+#define OVERLAY_W 1100      /* px, the size app_batch_summary.c writes */
+#define OVERLAY_H 700
+#define COLOUR_TOL 6        /* 8-bit levels around a series colour      */
+#define COLOUR_PX_MIN 20    /* pixels of a series colour that must be seen */
+#define KEY_ROWS 110        /* rows of title and key above the plot: not counted,
+                               the key shows every colour itself */
 
 static char tmpdir[256];
 
@@ -633,6 +646,144 @@ static void test_collect_and_plan(void)
           "a case named like a batch file is refused", "%s", err.msg);
 }
 
+/* Pixels of im below its first KEY_ROWS rows within COLOUR_TOL of (r, g, b). */
+static int colour_pixels(const image *im, int r, int g, int b)
+{
+    int n = 0;
+    for (int j = KEY_ROWS; j < im->h; j++)
+        for (int i = 0; i < im->w; i++) {
+            const unsigned char *q = px(im, i, j);
+            n += abs(q[0] - r) <= COLOUR_TOL && abs(q[1] - g) <= COLOUR_TOL &&
+                 abs(q[2] - b) <= COLOUR_TOL;
+        }
+    return n;
+}
+
+/* A batch of ncase variants with stand-in results (drag k F(v), or for a
+ * disc torque k T(rpm)), summarised: summary.png and summary.html. */
+static void overlay_batch(const char *tag, int ncase, int disc)
+{
+    char dir[512], path[1200], extra[400], list[200] = "";
+    snprintf(dir, sizeof dir, "%s/ov_%s", tmpdir, tag);
+    mkdir(dir, 0777);
+    for (int k = 0; k < ncase; k++) /* speeds.0 values in reverse: the plot sorts them */
+        snprintf(list + strlen(list), sizeof list - strlen(list), "%s%d", k ? "," : "",
+                 ncase - k);
+    snprintf(extra, sizeof extra, ",\"variants\":{\"speeds.0\":[%s]}", list);
+    char *text = with(extra);
+    snprintf(path, sizeof path, "%s/in_%s.json", tmpdir, tag);
+    write_file(path, text);
+    free(text);
+    const char *args[1] = {path};
+    app_batch_plan *p = NULL;
+    eddy_error err = {0};
+    eddy_status s = app_batch_plan_build(1, args, 1, &p, &err);
+    if (s != EDDY_OK || p->ncase != ncase) {
+        check(0, "overlay batch plan", "%s", err.msg);
+        app_batch_plan_free(p);
+        return;
+    }
+    s = app_batch_plan_save(p, dir, &err);
+    for (int c = 0; s == EDDY_OK && c < p->ncase; c++) {
+        double scale = 1.0 + c;
+        char standin[1024];
+        if (disc)
+            snprintf(standin, sizeof standin,
+                     "{\"points\":[{\"speed\":1,\"drag_force\":%g,\"force_y\":-1,\"loss\":1,"
+                     "\"rpm\":100,\"torque\":%g},{\"speed\":10,\"drag_force\":%g,\"force_y\":-1,"
+                     "\"loss\":1,\"rpm\":1000,\"torque\":%g},{\"speed\":100,\"drag_force\":%g,"
+                     "\"force_y\":-1,\"loss\":1,\"rpm\":10000,\"torque\":%g}],\"notice\":\"n\"}",
+                     scale, 3 * scale, 2 * scale, 6 * scale, scale, 3 * scale);
+        else
+            snprintf(standin, sizeof standin,
+                     "{\"points\":[{\"speed\":1,\"drag_force\":%g,\"force_y\":-1,\"loss\":1},"
+                     "{\"speed\":10,\"drag_force\":%g,\"force_y\":-1,\"loss\":1},"
+                     "{\"speed\":100,\"drag_force\":%g,\"force_y\":-1,\"loss\":1}],"
+                     "\"notice\":\"n\"}",
+                     scale, 2 * scale, scale);
+        snprintf(path, sizeof path, "%s/%s/result.json", dir, p->cases[c].name);
+        write_file(path, standin);
+        s = app_batch_case_done(dir, &p->cases[c], 1.0, &err);
+    }
+    if (s == EDDY_OK)
+        s = app_batch_write_summary(dir, p, NULL, &err);
+    char what[200];
+    snprintf(what, sizeof what, "%s: summary written", tag);
+    check(s == EDDY_OK, what, "%s", err.msg);
+    snprintf(path, sizeof path, "%s/summary.png", dir);
+    image im;
+    snprintf(what, sizeof what, "%s: summary.png is a valid PNG of %d x %d px", tag, OVERLAY_W,
+             OVERLAY_H);
+    if (read_png(path, &im) != 0) {
+        check(0, what, "cannot decode %s", path);
+        app_batch_plan_free(p);
+        return;
+    }
+    check(im.w == OVERLAY_W && im.h == OVERLAY_H, what, "%d x %d", im.w, im.h);
+    /* every case's colour, as listed, is the palette's (or the ramp's) and is drawn */
+    const char *series = text_of(&im, "eddy2d:series");
+    int nline = 0, palette_ok = 1, fewest = 1 << 30;
+    for (const char *q = series; q != NULL && *q != '\0'; nline++) {
+        const char *tab = strchr(q, '\t'), *nl = strchr(q, '\n');
+        unsigned r = 0, g = 0, b = 0;
+        if (tab == NULL || nl == NULL || sscanf(tab + 1, "#%2x%2x%2x", &r, &g, &b) != 3)
+            break;
+        unsigned char want[3];
+        post_series_rgb(nline, ncase, want);
+        palette_ok = palette_ok && want[0] == r && want[1] == g && want[2] == b;
+        int npx = colour_pixels(&im, (int)r, (int)g, (int)b);
+        fewest = npx < fewest ? npx : fewest;
+        q = nl + 1;
+    }
+    snprintf(what, sizeof what, "%s: summary.png holds pixels of each of the %d cases' colours",
+             tag, ncase);
+    check(nline == ncase && palette_ok && fewest >= COLOUR_PX_MIN, what,
+          "%d series listed, colours are the series colours: %d, fewest pixels of one colour %d "
+          "(at least %d)",
+          nline, palette_ok, fewest, COLOUR_PX_MIN);
+    /* in the order of the variant value: the first listed is value 1 */
+    snprintf(what, sizeof what, "%s: the curves are keyed by the variant value, in its order",
+             tag);
+    check(series != NULL && strncmp(series, "1\t", 2) == 0 &&
+              text_of(&im, "eddy2d:key") != NULL &&
+              strcmp(text_of(&im, "eddy2d:key"), "speeds.0") == 0,
+          what, "first %.*s", series != NULL ? (int)strcspn(series, "\n") : 6,
+          series != NULL ? series : "(none)");
+    const char *xl = text_of(&im, "eddy2d:x"), *yl = text_of(&im, "eddy2d:y");
+    snprintf(what, sizeof what, "%s: summary.png plots %s", tag,
+             disc ? "torque against rpm" : "drag against speed");
+    check(xl != NULL && yl != NULL &&
+              (disc ? strstr(xl, "rpm") != NULL && strstr(yl, "torque") != NULL
+                    : strstr(xl, "m/s") != NULL && strstr(yl, "drag") != NULL),
+          what, "x %s, y %s", xl != NULL ? xl : "-", yl != NULL ? yl : "-");
+    image_free(&im);
+    snprintf(path, sizeof path, "%s/summary.html", dir);
+    char *html = read_file(path);
+    snprintf(what, sizeof what, "%s: summary.html shows summary.png and says what it plots", tag);
+    check(html != NULL && strstr(html, "<img src=\"summary.png\"") != NULL &&
+              strstr(html, disc ? "torque of the whole disc (N m) against rpm"
+                                : "drag per unit length (N/m) against speed") != NULL,
+          what, "%s", "");
+    free(html);
+    /* no ok case left (the results withdrawn): the old summary.png goes */
+    for (int c = 0; c < p->ncase; c++) {
+        snprintf(path, sizeof path, "%s/%s/result.json", dir, p->cases[c].name);
+        unlink(path);
+    }
+    s = app_batch_write_summary(dir, p, NULL, &err);
+    snprintf(path, sizeof path, "%s/summary.png", dir);
+    snprintf(what, sizeof what, "%s: without an ok case summary.png is removed", tag);
+    check(s == EDDY_OK && !exists(path), what, "status %d", (int)s);
+    app_batch_plan_free(p);
+}
+
+static void test_overlay(void)
+{
+    overlay_batch("five", 5, 0);
+    overlay_batch("twelve", 12, 0);
+    overlay_batch("disc", 3, 1);
+}
+
 int main(void)
 {
     snprintf(tmpdir, sizeof tmpdir, "/tmp/eddy2d_test_batch_XXXXXX");
@@ -646,6 +797,7 @@ int main(void)
     test_shared_mesh_rules();
     test_expand_errors();
     test_collect_and_plan();
+    test_overlay();
     char cmd[600];
     snprintf(cmd, sizeof cmd, "rm -rf '%s'", tmpdir);
     if (system(cmd) != 0)

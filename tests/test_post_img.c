@@ -3,13 +3,21 @@
  *
  * The pictures are written, decoded again with libpng and measured.
  * Reference values and their sources:
- *   - Moreland's "cool to warm" diverging map: the 33-entry 8-bit table of
- *     K. Moreland, "Diverging Color Maps for Scientific Visualization" (2009),
- *     quoted from memory of the published table; tolerance MORELAND_TOL
- *     levels covers rounding and the reference white chosen.
- *   - viridis (van der Walt & Smith, 2015): the common 5-colour hex sample
- *     #440154 #3B528B #21918C #5EC962 #FDE725 (start, quarters, end), from
- *     memory; tolerance VIRIDIS_TOL levels.
+ *   - batlow: entries of the published 256-entry table (F. Crameri,
+ *     Scientific colour maps, doi:10.5281/zenodo.1243862, MIT licence;
+ *     Crameri, Shephard & Heron, Nature Communications 11, 5444, 2020),
+ *     the 6-decimal values of the table as redistributed, times 255;
+ *     tolerance BATLOW_TOL levels (rounding).
+ *   - CIELAB L* and Delta E*ab: CIE 15:2004 "Colorimetry", section 8.2.1
+ *     (L* = 116 f(Y/Yn) - 16, Delta E*ab the Euclidean distance in L*a*b*),
+ *     D65 white; sRGB decoding: IEC 61966-2-1:1999.  Written out here, not
+ *     taken from the project's code.
+ *   - Design properties checked: a sequential map strictly monotone in L*
+ *     with roughly even steps (Kovesi, "Good colour maps: how to design
+ *     them", arXiv:1509.03700, 2015: uniform perceptual contrast); a
+ *     diverging map whose two halves have the same L* (ibid.); series
+ *     colours pairwise at least SERIES_DE_MIN apart (a common threshold for
+ *     colours told apart at a glance; common practice, no source).
  *   - Geometry: the position of a hot spot, the aspect ratio of the map and
  *     the spacing of contour lines of a linear potential follow from the
  *     stated mapping world -> pixel (plain arithmetic, no project code).
@@ -41,12 +49,17 @@
 #define M_PI 3.14159265358979323846
 #endif
 
-#define MORELAND_TOL 3   /* 8-bit levels */
-#define VIRIDIS_TOL 3    /* 8-bit levels */
+#define BATLOW_TOL 1     /* 8-bit levels */
+#define STEP_RATIO_MAX 2.0 /* largest / smallest L* step of SEQ_STEPS equal steps */
+#define SEQ_STEPS 16     /* steps of 1/16 in t: 8-bit rounding (up to 0.4 L*)
+                            stays small against a step of about 4.7 L* */
+#define DIV_SYM_TOL 1.0  /* |L*(t) - L*(1 - t)| */
+#define DIV_CENTRE_L 96.0 /* L* of the neutral centre of the diverging map */
+#define SERIES_DE_MIN 20.0 /* Delta E*ab between any two series colours */
 #define POS_TOL_PX 1.5   /* hot-spot and contour positions */
 #define MIRROR_TOL 0.008 /* |t(x) + t(-x) - 1| of decoded values: 2 table steps of
                             1/1023 plus 8-bit plateaus near the neutral centre */
-#define NEUTRAL_TOL 2    /* levels from (221,221,221) */
+#define NEUTRAL_TOL 2    /* levels from the grey of L* = DIV_CENTRE_L */
 #define RING_DIRS 16     /* rays looked along for the peak ring */
 #define RING_HITS 14     /* rays that must cross it */
 #define RING_MISS 4      /* at most this many around an unmarked sample */
@@ -102,16 +115,42 @@ static double decode_t(int diverging, const unsigned char *c, int *dist)
     return (double)best / (NS - 1);
 }
 
-/* CIELAB L* of an sRGB colour (D65), for the equal-lightness check. */
-static double lightness(const unsigned char *c)
+/* CIELAB (CIE 15:2004, D65 white) of an 8-bit sRGB colour (IEC 61966-2-1). */
+static double lab_f(double t)
+{
+    const double d = 6.0 / 29.0;
+    return t > d * d * d ? cbrt(t) : t / (3.0 * d * d) + 4.0 / 29.0;
+}
+
+static void srgb_to_lab(const unsigned char *c, double lab[3])
 {
     double lin[3];
     for (int k = 0; k < 3; k++) {
         double v = c[k] / 255.0;
         lin[k] = v <= 0.04045 ? v / 12.92 : pow((v + 0.055) / 1.055, 2.4);
     }
+    double X = 0.4124 * lin[0] + 0.3576 * lin[1] + 0.1805 * lin[2];
     double Y = 0.2126 * lin[0] + 0.7152 * lin[1] + 0.0722 * lin[2];
-    return Y > 0.008856 ? 116.0 * cbrt(Y) - 16.0 : 903.3 * Y;
+    double Z = 0.0193 * lin[0] + 0.1192 * lin[1] + 0.9505 * lin[2];
+    double fx = lab_f(X / 0.95047), fy = lab_f(Y), fz = lab_f(Z / 1.08883);
+    lab[0] = 116.0 * fy - 16.0;
+    lab[1] = 500.0 * (fx - fy);
+    lab[2] = 200.0 * (fy - fz);
+}
+
+static double lightness(const unsigned char *c)
+{
+    double lab[3];
+    srgb_to_lab(c, lab);
+    return lab[0];
+}
+
+/* The 8-bit grey of CIELAB lightness L (a* = b* = 0). */
+static int grey_of_lightness(double L)
+{
+    double fy = (L + 16.0) / 116.0, Y = fy * fy * fy;
+    double v = Y <= 0.0031308 ? 12.92 * Y : 1.055 * pow(Y, 1.0 / 2.4) - 0.055;
+    return (int)lround(255.0 * v);
 }
 
 /* ------------------------------------------------------------------ */
@@ -146,69 +185,130 @@ static void geometric(double *v, int n, double lo, double hi, double r)
 
 static void test_colour_maps(void)
 {
-    /* Moreland 2009, table of the cool-to-warm map, 33 entries (from memory) */
-    static const unsigned char moreland[33][3] = {
-        {59, 76, 192},   {68, 90, 204},   {77, 104, 215},  {87, 117, 225},  {98, 130, 234},
-        {108, 142, 241}, {119, 154, 247}, {130, 165, 251}, {141, 176, 254}, {152, 185, 255},
-        {163, 194, 255}, {174, 201, 253}, {184, 208, 249}, {194, 213, 244}, {204, 217, 238},
-        {213, 219, 230}, {221, 221, 221}, {229, 216, 209}, {236, 211, 197}, {241, 204, 185},
-        {245, 196, 173}, {247, 187, 160}, {247, 177, 148}, {247, 166, 135}, {244, 154, 123},
-        {241, 141, 111}, {236, 127, 99},  {229, 112, 88},  {222, 96, 77},   {213, 80, 66},
-        {203, 62, 56},   {192, 40, 47},   {180, 4, 38}};
+    /* batlow: published entries k = 0, 51, 102, 153, 204, 255 (sRGB 0..1) */
+    static const int bk[6] = {0, 51, 102, 153, 204, 255};
     int worst = 0, worst_k = 0;
-    for (int k = 0; k < 33; k++) {
+    static const double bt[6][3] = {
+        {0.003596, 0.099991, 0.350104}, {0.095262, 0.309199, 0.380605},
+        {0.342093, 0.461377, 0.279322}, {0.699086, 0.554570, 0.196174},
+        {0.986442, 0.654414, 0.554015}, {0.981508, 0.800145, 0.980512}};
+    for (int k = 0; k < 6; k++) {
         unsigned char c[3];
-        post_cmap_rgb(1, k / 32.0, c);
+        post_cmap_rgb(0, bk[k] / 255.0, c);
         for (int q = 0; q < 3; q++) {
-            int d = abs(c[q] - moreland[k][q]);
+            int d = abs(c[q] - (int)lround(255.0 * bt[k][q]));
             if (d > worst) {
                 worst = d;
-                worst_k = k;
+                worst_k = bk[k];
             }
         }
     }
-    check(worst <= MORELAND_TOL, "cmap_moreland_table_33",
-          "largest difference %d levels at entry %d (tol %d)", worst, worst_k, MORELAND_TOL);
+    check(worst <= BATLOW_TOL, "cmap_batlow_published_entries",
+          "6 entries, largest difference %d levels at entry %d (tol %d)", worst, worst_k,
+          BATLOW_TOL);
 
-    static const double vt[5] = {0.0, 0.25, 0.5, 0.75, 1.0};
-    static const unsigned char vref[5][3] = {
-        {0x44, 0x01, 0x54}, {0x3b, 0x52, 0x8b}, {0x21, 0x91, 0x8c}, {0x5e, 0xc9, 0x62}, {0xfd, 0xe7, 0x25}};
-    worst = 0;
-    for (int k = 0; k < 5; k++) {
-        unsigned char c[3];
-        post_cmap_rgb(0, vt[k], c);
-        for (int q = 0; q < 3; q++) {
-            int d = abs(c[q] - vref[k][q]);
-            if (d > worst) {
-                worst = d;
-                worst_k = k;
-            }
-        }
-    }
-    check(worst <= VIRIDIS_TOL, "cmap_viridis_5_hex", "largest difference %d levels at t=%.2f",
-          worst, vt[worst_k]);
-
-    /* viridis lightness grows monotonically (its design property) */
-    double prev = -1.0;
+    /* sequential map: L* strictly increasing over steps of 1/64 (each about
+     * 1.2 L*, the 8-bit output rounds by up to 0.4), and the steps of
+     * SEQ_STEPS equal t steps even */
+    double prev = -1.0, dmin = INFINITY, dmax = 0.0, L0 = 0.0, L1 = 0.0;
     int mono = 1;
     for (int k = 0; k <= 64; k++) {
         unsigned char c[3];
         post_cmap_rgb(0, k / 64.0, c);
         double L = lightness(c);
-        if (L < prev - 0.3)
-            mono = 0;
+        mono = mono && L > prev;
         prev = L;
     }
-    check(mono, "cmap_viridis_lightness_monotonic", "%s", "");
+    int mono256 = mono;
+    prev = -1.0;
+    for (int k = 0; k <= SEQ_STEPS; k++) {
+        unsigned char c[3];
+        post_cmap_rgb(0, (double)k / SEQ_STEPS, c);
+        double L = lightness(c);
+        if (k > 0) {
+            mono = mono && L > prev;
+            dmin = fmin(dmin, L - prev);
+            dmax = fmax(dmax, L - prev);
+        } else {
+            L0 = L;
+        }
+        L1 = L;
+        prev = L;
+    }
+    check(mono256 && mono && dmax / dmin <= STEP_RATIO_MAX,
+          "cmap_sequential_lightness_monotone_even",
+          "L* strictly increasing in steps of 1/64: %d; L* %.2f -> %.2f in %d steps of "
+          "%.3f..%.3f, max/min step %.2f (tol %.1f)",
+          mono256, L0, L1, SEQ_STEPS, dmin, dmax, dmax / dmin, STEP_RATIO_MAX);
+
+    /* diverging map: the halves equal in L*, L* rising to the centre */
+    double worst_sym = 0.0, dmin_half = INFINITY, dmax_half = 0.0;
+    int rising = 1;
+    prev = -1.0;
+    for (int k = 0; k <= 64; k++) {
+        unsigned char a[3], b[3];
+        post_cmap_rgb(1, k / 128.0, a);
+        post_cmap_rgb(1, 1.0 - k / 128.0, b);
+        double La = lightness(a), Lb = lightness(b);
+        worst_sym = fmax(worst_sym, fabs(La - Lb));
+        if (k > 0) {
+            rising = rising && La > prev;
+            dmin_half = fmin(dmin_half, La - prev);
+            dmax_half = fmax(dmax_half, La - prev);
+        }
+        prev = La;
+    }
+    check(worst_sym <= DIV_SYM_TOL, "cmap_diverging_lightness_symmetric",
+          "max |L*(t) - L*(1-t)| = %.3f over 65 pairs (tol %.1f)", worst_sym, DIV_SYM_TOL);
+    check(rising && dmax_half / dmin_half <= STEP_RATIO_MAX, "cmap_diverging_halves_monotone",
+          "L* rises to the centre in 64 steps of %.3f..%.3f, max/min %.2f, centre L* %.2f", dmin_half,
+          dmax_half, dmax_half / dmin_half, prev);
+
+    /* series colours: pairwise Delta E*ab */
+    double demin = INFINITY;
+    int di = 0, dj = 0;
+    for (int i = 0; i < POST_SERIES_N; i++)
+        for (int j = i + 1; j < POST_SERIES_N; j++) {
+            unsigned char ci[3], cj[3];
+            double li[3], lj[3];
+            post_series_rgb(i, POST_SERIES_N, ci);
+            post_series_rgb(j, POST_SERIES_N, cj);
+            srgb_to_lab(ci, li);
+            srgb_to_lab(cj, lj);
+            double de = sqrt((li[0] - lj[0]) * (li[0] - lj[0]) + (li[1] - lj[1]) * (li[1] - lj[1]) +
+                             (li[2] - lj[2]) * (li[2] - lj[2]));
+            if (de < demin) {
+                demin = de;
+                di = i;
+                dj = j;
+            }
+        }
+    check(demin >= SERIES_DE_MIN, "series_colours_delta_e",
+          "%d colours, smallest Delta E*ab %.1f between %d and %d (threshold %.0f)", POST_SERIES_N,
+          demin, di, dj, SERIES_DE_MIN);
+    /* more series than the palette: a ramp whose lightness follows the order */
+    int ramp_ok = 1;
+    prev = -1.0;
+    for (int k = 0; k < 12; k++) {
+        unsigned char c[3];
+        post_series_rgb(k, 12, c);
+        ramp_ok = ramp_ok && lightness(c) > prev;
+        prev = lightness(c);
+    }
+    check(ramp_ok, "series_ramp_beyond_palette_ordered", "12 series, last L* %.1f", prev);
+
     unsigned char lo[3], hi[3], nanc[3];
     post_cmap_rgb(0, -5.0, lo);
     post_cmap_rgb(0, 7.0, hi);
     post_cmap_rgb(1, NAN, nanc);
-    check(lo[0] == 0x44 && hi[0] == 0xfd && abs(nanc[0] - 221) <= 1, "cmap_clamps_out_of_range",
-          "t=-5 -> %d, t=7 -> %d, NaN -> %d", lo[0], hi[0], nanc[0]);
+    int grey = grey_of_lightness(DIV_CENTRE_L);
+    check(lo[2] == lround(255.0 * bt[0][2]) && hi[0] == lround(255.0 * bt[5][0]) &&
+              abs(nanc[0] - grey) <= 1 && abs(nanc[2] - grey) <= 1,
+          "cmap_clamps_out_of_range", "t=-5 -> %d, t=7 -> %d, NaN -> %d,%d,%d (grey %d)", lo[2],
+          hi[0], nanc[0], nanc[1], nanc[2], grey);
 }
 
-/* A Gaussian hot spot on a graded grid, viridis: size, aspect, position,
+/* A Gaussian hot spot on a graded grid, batlow: size, aspect, position,
  * orientation, colour bar, text chunks. */
 static void test_hot_spot(void)
 {
@@ -266,7 +366,7 @@ static void test_hot_spot(void)
           "plot %dx%d, view aspect %.4f", g.plot_w, g.plot_h, aspect);
 
     /* measure the map rectangle on the picture itself: the run of pixels
-     * that decode as viridis colours through the middle row and column */
+     * that decode as batlow colours through the middle row and column */
     int midr = g.plot_y + g.plot_h / 2, midc = g.plot_x + g.plot_w / 2, d;
     int c0 = midc, c1 = midc, r0 = midr, r1 = midr;
     while (c0 > 0 && (decode_t(0, px(&im, c0 - 1, midr), &d), d <= 2))
@@ -317,8 +417,9 @@ static void test_hot_spot(void)
     /* colour bar: top = maximum colour, bottom = minimum */
     const unsigned char *bt = px(&im, g.bar_x + g.bar_w / 2, g.bar_y);
     const unsigned char *bb = px(&im, g.bar_x + g.bar_w / 2, g.bar_y + g.bar_h - 1);
-    check(abs(bt[0] - 253) <= 2 && abs(bt[1] - 231) <= 2 && abs(bt[2] - 37) <= 2 &&
-              abs(bb[0] - 68) <= 2 && abs(bb[1] - 1) <= 2 && abs(bb[2] - 84) <= 2,
+    /* batlow's published end entries, times 255 */
+    check(abs(bt[0] - 250) <= 2 && abs(bt[1] - 204) <= 2 && abs(bt[2] - 250) <= 2 &&
+              abs(bb[0] - 1) <= 2 && abs(bb[1] - 25) <= 2 && abs(bb[2] - 89) <= 2,
           "map_colour_bar_ends", "top (%d,%d,%d) bottom (%d,%d,%d)", bt[0], bt[1], bt[2], bb[0],
           bb[1], bb[2]);
     check(fabs(g.vmin) < 1e-15 && fabs(g.vmax - 0.8) < 0.01, "map_range_zero_to_max",
@@ -342,7 +443,7 @@ static void test_hot_spot(void)
     image_free(&im);
 }
 
-/* f(-x, y) = -f(x, y) on a symmetric graded grid, Moreland map: mirror
+/* f(-x, y) = -f(x, y) on a symmetric graded grid, diverging map: mirror
  * pixels decode to t and 1 - t, have equal lightness, are warm on the
  * positive side and cool on the negative; masked cells are neutral. */
 static void test_antisymmetric(void)
@@ -406,17 +507,17 @@ static void test_antisymmetric(void)
     check(worst_L <= 1.0, "anti_mirror_equal_lightness", "max |dL*| = %.2f", worst_L);
     check(nfit > 1000 && warm_ok && cool_ok, "anti_warm_right_cool_left",
           "%d pixel pairs, warm %d cool %d", nfit, warm_ok, cool_ok);
-    /* masked band at the top: neutral grey-white (Moreland's midpoint) */
-    int rr = g.plot_y + 2, worst_n = 0;
+    /* masked band at the top: the neutral grey of the map's centre */
+    int rr = g.plot_y + 2, worst_n = 0, grey = grey_of_lightness(DIV_CENTRE_L);
     for (int c = g.plot_x; c < g.plot_x + g.plot_w; c++) {
         const unsigned char *p = px(&im, c, rr);
         for (int q = 0; q < 3; q++)
-            worst_n = abs(p[q] - 221) > worst_n ? abs(p[q] - 221) : worst_n;
+            worst_n = abs(p[q] - grey) > worst_n ? abs(p[q] - grey) : worst_n;
     }
-    check(worst_n <= NEUTRAL_TOL, "anti_zero_is_neutral", "largest deviation from 221 %d levels",
-          worst_n);
+    check(worst_n <= NEUTRAL_TOL, "anti_zero_is_neutral", "largest deviation from %d %d levels",
+          grey, worst_n);
     const unsigned char *bm = px(&im, g.bar_x + g.bar_w / 2, g.bar_y + g.bar_h / 2);
-    check(abs(bm[0] - 221) <= 3 && abs(bm[1] - 221) <= 3 && abs(bm[2] - 221) <= 3,
+    check(abs(bm[0] - grey) <= 3 && abs(bm[1] - grey) <= 3 && abs(bm[2] - grey) <= 3,
           "anti_colour_bar_middle_neutral", "(%d,%d,%d)", bm[0], bm[1], bm[2]);
     image_free(&im);
 }
@@ -456,7 +557,7 @@ static void test_flux_lines(void)
         if (px(&im, c, r)[1] < 180) {
             double s = 0.0, wsum = 0.0;
             while (c < g.plot_x + g.plot_w && px(&im, c, r)[1] < 215) {
-                double wgt = 221.0 - px(&im, c, r)[1];
+                double wgt = 230.0 - px(&im, c, r)[1];
                 s += wgt * (c + 0.5);
                 wsum += wgt;
                 c++;
@@ -542,6 +643,10 @@ static double model_drag(double v, double vc, double f0)
     return 2.0 * f0 * u / (1.0 + u * u);
 }
 
+/* The series colours of the plots: drag (and y1) series 0, normal force (and
+ * y2) series 1 of 2. */
+static unsigned char drag_rgb[3], normal_rgb[3];
+
 static int count_colour(const image *im, int r, int g, int b, int tol)
 {
     int n = 0;
@@ -589,7 +694,8 @@ static int drag_markers(const image *im, double *cx, double *cy, int max)
             const int di[5] = {0, 2, -2, 0, 0}, dj[5] = {0, 0, 0, 2, -2};
             for (int q = 0; q < 5 && core; q++) {
                 const unsigned char *p = px(im, i + di[q], j + dj[q]);
-                core = abs(p[0] - 0) <= 6 && abs(p[1] - 114) <= 6 && abs(p[2] - 178) <= 6;
+                core = abs(p[0] - drag_rgb[0]) <= 6 && abs(p[1] - drag_rgb[1]) <= 6 &&
+                       abs(p[2] - drag_rgb[2]) <= 6;
             }
             if (!core)
                 continue;
@@ -730,9 +836,10 @@ static void test_force_plots(void)
         check(im.w == 1000 && im.h == 650, "plot_default_size", "%dx%d", im.w, im.h);
         int nd = distinct_colours(&im);
         check(nd > 100, "plot_not_blank", "%d distinct colours", nd);
-        int nblue = count_colour(&im, 0, 114, 178, 6), nverm = count_colour(&im, 213, 94, 0, 6);
-        check(nblue > 300 && nverm > 300, "plot_series_drawn",
-              "%d drag-blue px, %d vermillion px", nblue, nverm);
+        int n_s0 = count_colour(&im, drag_rgb[0], drag_rgb[1], drag_rgb[2], 6);
+        int n_s1 = count_colour(&im, normal_rgb[0], normal_rgb[1], normal_rgb[2], 6);
+        check(n_s0 > 300 && n_s1 > 300, "plot_series_drawn",
+              "%d drag-colour px, %d normal-colour px", n_s0, n_s1);
         const char *t = text_of(&im, "eddy2d:case");
         check(t != NULL && strcmp(t, "synthetic") == 0, "plot_text_case", "%s", t ? t : "(none)");
         t = text_of(&im, "eddy2d:unit");
@@ -763,9 +870,9 @@ static void test_force_plots(void)
     st = post_plot_forces_png(path, 8, lv, ld, NULL, NAN, 0, NULL, NULL, NULL, &po, &err);
     check(st == EDDY_OK, "plot_linear_written", "%s", err.msg);
     if (read_png(path, &im) == 0) {
-        int nblue = count_colour(&im, 0, 114, 178, 6);
-        check(im.w == 800 && im.h == 500 && nblue > 150, "plot_linear_size_and_points",
-              "%dx%d, %d blue px", im.w, im.h, nblue);
+        int n_s0 = count_colour(&im, drag_rgb[0], drag_rgb[1], drag_rgb[2], 6);
+        check(im.w == 800 && im.h == 500 && n_s0 > 150, "plot_linear_size_and_points",
+              "%dx%d, %d drag-colour px", im.w, im.h, n_s0);
         image_free(&im);
     } else {
         check(0, "plot_linear_decodes", "%s", path);
@@ -918,9 +1025,10 @@ static void test_xy_plot(void)
     image im;
     if (read_png(path, &im) == 0) {
         check(im.w == 1000 && im.h == 650, "xy_default_size", "%dx%d", im.w, im.h);
-        int nblue = count_colour(&im, 0, 114, 178, 6), nverm = count_colour(&im, 213, 94, 0, 6);
-        check(nblue > 600 && nverm > 600, "xy_both_curves_drawn",
-              "%d speed-blue px, %d deceleration-vermillion px", nblue, nverm);
+        int n_s0 = count_colour(&im, drag_rgb[0], drag_rgb[1], drag_rgb[2], 6);
+        int n_s1 = count_colour(&im, normal_rgb[0], normal_rgb[1], normal_rgb[2], 6);
+        check(n_s0 > 600 && n_s1 > 600, "xy_both_curves_drawn",
+              "%d speed-colour px, %d deceleration-colour px", n_s0, n_s1);
         const char *t = text_of(&im, "eddy2d:case");
         check(t != NULL && strcmp(t, "synthetic-stop") == 0, "xy_text_case", "%s",
               t ? t : "(none)");
@@ -955,11 +1063,12 @@ static void test_xy_plot(void)
     st = post_plot_xy_png(path, 50, lx, lv, NULL, &o, &err);
     check(st == EDDY_OK, "xy_one_curve_written", "%s", err.msg);
     if (read_png(path, &im) == 0) {
-        int nblue = count_colour(&im, 0, 114, 178, 6), nverm = count_colour(&im, 213, 94, 0, 6);
+        int n_s0 = count_colour(&im, drag_rgb[0], drag_rgb[1], drag_rgb[2], 6);
+        int n_s1 = count_colour(&im, normal_rgb[0], normal_rgb[1], normal_rgb[2], 6);
         /* a 1.5 px line about 700 px long: its core keeps the exact colour
          * over roughly half its length in pixels */
-        check(im.w == 700 && im.h == 450 && nblue > 200 && nverm == 0, "xy_one_curve_drawn",
-              "%dx%d, %d blue px, %d vermillion px", im.w, im.h, nblue, nverm);
+        check(im.w == 700 && im.h == 450 && n_s0 > 200 && n_s1 == 0, "xy_one_curve_drawn",
+              "%dx%d, %d y1-colour px, %d y2-colour px", im.w, im.h, n_s0, n_s1);
         check(text_of(&im, "eddy2d:y2") == NULL && text_of(&im, "Title") == NULL,
               "xy_one_curve_text", "y2 or title text present");
         image_free(&im);
@@ -1024,6 +1133,8 @@ int main(void)
         }
     }
     init_samples();
+    post_series_rgb(0, 2, drag_rgb);
+    post_series_rgb(1, 2, normal_rgb);
     test_colour_maps();
     test_hot_spot();
     test_antisymmetric();
