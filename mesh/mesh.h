@@ -69,13 +69,32 @@ const mesh_material *mesh_library_find(const char *name);
 /* Case                                                                      */
 /* ------------------------------------------------------------------------ */
 
+/*
+ * The geometry of a case ("geometry" in the case file).
+ *   MESH_PLANAR: x along the motion, y across, everything per metre of depth
+ *     in z; the unknown is A = A_z.
+ *   MESH_AXISYMMETRIC: r-z, motion along the axis z; the unknown is the flux
+ *     function psi = r A_phi (Wb per radian).  The case reader maps z onto
+ *     the grid's x axis and r onto its y axis (y = 0 is the axis), so every
+ *     mesh_case and mesh_grid field named x holds z and every field named y
+ *     holds r; region boxes are stored as [z0, r0, z1, r1], mag_angle is
+ *     measured from +z (x) towards +r (y), and jz is J_phi.  The planar
+ *     mesher, pattern and analysis apply unchanged; only the per-cell
+ *     weights of the box integration and of the force and loss integrals
+ *     differ (solver/sol.h, sol_row_metric).  Forces are of the whole ring
+ *     (N), losses W.
+ */
+typedef enum { MESH_PLANAR = 0, MESH_AXISYMMETRIC = 1 } mesh_geometry;
+
 typedef struct {
     char name[64];
     int material;        /* index into mesh_case.materials, or -1 for air */
-    double box[4];       /* x0, y0, x1, y1 in m */
+    double box[4];       /* x0, y0, x1, y1 in m (axisymmetric: z0, r0, z1, r1) */
     int moving;          /* 1: moves at +v along x (must span the domain in x) */
-    double mag_angle;    /* magnetisation direction, radians from +x (magnets) */
-    double jz;           /* source current density along +z, A/m^2 */
+    double mag_angle;    /* magnetisation direction, radians from +x towards +y
+                          * (magnets; axisymmetric: from +z towards +r) */
+    double jz;           /* source current density along +z, A/m^2 (axisymmetric:
+                          * J_phi, the ring current over the box's r-z area) */
 } mesh_region;
 
 typedef struct {
@@ -91,7 +110,8 @@ typedef struct {
 /* A line along which B and J are exported (a Hall-probe scan). */
 typedef struct {
     char name[64];           /* safe for a file name */
-    double p0[2], p1[2];     /* end points, m; the line is horizontal or vertical */
+    double p0[2], p1[2];     /* end points (x, y), m (axisymmetric: (z, r)); the line is
+                              * horizontal or vertical */
     int points;              /* samples, >= 2 */
 } mesh_profile;
 
@@ -106,7 +126,8 @@ typedef enum {
 typedef struct {
     int present;
     double mass;             /* kg */
-    double depth;            /* m of magnet/plate overlap out of the plane */
+    double depth;            /* m of magnet/plate overlap out of the plane (axisymmetric:
+                              * 1, the forces are of the whole ring already) */
     double repeat;           /* periods or magnet units engaged */
     double from_speed, to_speed; /* m/s */
     double extra_force;      /* N, constant (e.g. friction, gravity component) */
@@ -133,7 +154,8 @@ typedef struct {
     char description[512];
     char length_unit[8];     /* "m" or "mm": for display */
     double length_scale;     /* metres per case-file length unit */
-    double x0, x1, y0, y1;   /* domain, m */
+    mesh_geometry geometry;  /* planar (default) or axisymmetric */
+    double x0, x1, y0, y1;   /* domain, m (axisymmetric: z0, z1, 0, R) */
     int x_periodic;          /* 1: periodic on the x sides, 0: A = 0 */
     int nmat;
     mesh_material *materials;
@@ -201,6 +223,7 @@ typedef struct {
     unsigned char *moving;   /* 1 in cells of moving regions */
     short *region;           /* region index owning the cell, -1 for air */
     int x_periodic;          /* copied from the case */
+    mesh_geometry geometry;  /* copied from the case; axisymmetric: x is z, y is r */
     /* The moving band: rows jm0 <= j < jm1 hold every moving cell (0, 0 if
      * the case has no moving region). */
     int jm0, jm1;

@@ -22,6 +22,8 @@ static eddy_status read_domain(mesh_reader *r, const cJSON *root)
 {
     static const char *const keys[] = {"x", "y", "x_boundary", "y_boundary", NULL};
     mesh_case *c = r->c;
+    if (c->geometry == MESH_AXISYMMETRIC)
+        return mesh_case_read_domain_rz(r, root);
     const cJSON *dom = cJSON_GetObjectItemCaseSensitive(root, "domain");
     if (dom == NULL)
         return mesh_json_bad(r, "domain",
@@ -149,16 +151,22 @@ static eddy_status read_profiles(mesh_reader *r, const cJSON *root)
         const cJSON *it = cJSON_GetObjectItemCaseSensitive(e, "from");
         snprintf(q, sizeof q, "%s.from", p);
         if (it == NULL)
-            return mesh_json_bad(r, q, "missing ([x, y] is required)");
+            return mesh_json_bad(r, q, "missing (%s is required)",
+                                 c->geometry == MESH_AXISYMMETRIC ? "[r, z]" : "[x, y]");
         MESH_TRY(mesh_json_numbers(r, it, q, 2, m->p0));
         it = cJSON_GetObjectItemCaseSensitive(e, "to");
         snprintf(q, sizeof q, "%s.to", p);
         if (it == NULL)
-            return mesh_json_bad(r, q, "missing ([x, y] is required)");
+            return mesh_json_bad(r, q, "missing (%s is required)",
+                                 c->geometry == MESH_AXISYMMETRIC ? "[r, z]" : "[x, y]");
         MESH_TRY(mesh_json_numbers(r, it, q, 2, m->p1));
         for (int t = 0; t < 2; t++) {
             m->p0[t] *= c->length_scale;
             m->p1[t] *= c->length_scale;
+        }
+        if (c->geometry == MESH_AXISYMMETRIC) { /* given as [r, z] */
+            mesh_case_rz_point(m->p0);
+            mesh_case_rz_point(m->p1);
         }
         if (!(fabs(m->p0[0] - m->p1[0]) <= tol) == !(fabs(m->p0[1] - m->p1[1]) <= tol))
             return mesh_json_bad(r, p, "the line must be horizontal or vertical and not a point");
@@ -219,11 +227,13 @@ static eddy_status parse_root(mesh_reader *r, const cJSON *root)
     static const char *const keys[] = {"name",    "description", "length_unit", "domain",
                                        "materials", "regions",   "speeds",      "mesh",
                                        "profiles", "variants", "temperature", "vehicle",
-                                       "end_effect", "disc", NULL};
+                                       "end_effect", "disc", "geometry", NULL};
     if (!cJSON_IsObject(root))
         return mesh_json_bad(r, "(top level)", "must be a JSON object");
     MESH_TRY(mesh_json_check_keys(r, root, "(top level)", keys));
     MESH_TRY(read_names_and_unit(r, root));
+    MESH_TRY(mesh_case_read_geometry(r, root));
+    MESH_TRY(mesh_case_check_rz_keys(r, root));
     MESH_TRY(read_domain(r, root));
     MESH_TRY(mesh_case_read_materials(r, root));
     MESH_TRY(mesh_case_read_regions(r, root));

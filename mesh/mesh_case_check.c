@@ -75,7 +75,7 @@ static eddy_status check_sizes(mesh_reader *r, const cJSON *root)
         MESH_TRY(mesh_json_warn(r, "%s: domain: %g m across with no length_unit (metres are the "
                                    "default); if the lengths are millimetres, add "
                                    "\"length_unit\": \"mm\"", r->fname, side));
-    if (c->vehicle.present && c->vehicle.depth < DEPTH_WARN_M)
+    if (c->vehicle.present && c->geometry == MESH_PLANAR && c->vehicle.depth < DEPTH_WARN_M)
         MESH_TRY(mesh_json_warn(r, "%s: vehicle.depth: %g %s is %.3g mm of magnet overlap, so the "
                                    "braking force is tiny and the stop long; depth is in the "
                                    "case length unit (%s)",
@@ -91,6 +91,8 @@ static eddy_status check_sizes(mesh_reader *r, const cJSON *root)
 static eddy_status check_net_current(mesh_reader *r)
 {
     const mesh_case *c = r->c;
+    if (c->geometry == MESH_AXISYMMETRIC)
+        return EDDY_OK; /* a ring current's far field is a dipole's */
     double net = 0.0, total = 0.0, h = INFINITY;
     for (int k = 0; k < c->nreg; k++) {
         const mesh_region *g = &c->regions[k];

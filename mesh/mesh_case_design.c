@@ -113,7 +113,10 @@ eddy_status mesh_case_read_vehicle(mesh_reader *r, const cJSON *root)
     h->present = 1;
     h->repeat = 1.0;
     MESH_TRY(mesh_json_positive(r, v, "mass", "vehicle", 1.0, &h->mass));
-    MESH_TRY(mesh_json_positive(r, v, "depth", "vehicle", c->length_scale, &h->depth));
+    if (c->geometry == MESH_AXISYMMETRIC)
+        h->depth = 1.0; /* the forces are of the whole ring already */
+    else
+        MESH_TRY(mesh_json_positive(r, v, "depth", "vehicle", c->length_scale, &h->depth));
     MESH_TRY(mesh_json_positive(r, v, "from_speed", "vehicle", 1.0, &h->from_speed));
     MESH_TRY(mesh_json_number(r, v, "to_speed", "vehicle", 1, &h->to_speed, NULL));
     MESH_TRY(mesh_json_number(r, v, "repeat", "vehicle", 0, &h->repeat, NULL));

@@ -51,6 +51,35 @@ eddy_status mesh_case_apply_temperature(mesh_reader *r, const cJSON *root);
  * speeds and the vehicle. */
 eddy_status mesh_case_check_vehicle_speed(mesh_reader *r);
 
+/* The axisymmetric geometry (mesh_case_rz.c) */
+
+/* "geometry": "planar" (default) or "axisymmetric" into r->c->geometry;
+ * first, before the domain. */
+eddy_status mesh_case_read_geometry(mesh_reader *r, const cJSON *root);
+
+/* "domain" of an axisymmetric case: {"r": [0, R], "z": [z0, z1],
+ * "z_boundary": "zero" | "periodic"} into x0, x1 (z) and y0 = 0, y1 = R;
+ * the planar keys x, y, x_boundary, y_boundary are errors naming the key. */
+eddy_status mesh_case_read_domain_rz(mesh_reader *r, const cJSON *root);
+
+/* An axisymmetric region box in [r0, z0, r1, z1] (metres, checked: r0 >= 0,
+ * r1 > r0, z1 > z0; path names it in messages) into the grid's
+ * [z0, r0, z1, r1].  Returns EDDY_OK or EDDY_ERR_INPUT. */
+eddy_status mesh_case_rz_box(mesh_reader *r, const char *path, const double in[4],
+                             double out[4]);
+
+/* An axisymmetric profile point [r, z] turned in place into the grid's
+ * (z, r). */
+void mesh_case_rz_point(double p[2]);
+
+/* A magnetisation angle from +r towards +z (radians) as the grid's angle
+ * from +z (x) towards +r (y). */
+double mesh_case_rz_angle(double from_r);
+
+/* Keys with no meaning for a ring (disc, end_effect, vehicle.depth) are
+ * errors naming the key in an axisymmetric case; nothing for a planar one. */
+eddy_status mesh_case_check_rz_keys(mesh_reader *r, const cJSON *root);
+
 /* Plausibility (mesh_case_check.c), last: unique region names, speeds below
  * the speed of light, remanence a magnet can have (errors), and warnings
  * for fast speeds, strong remanence, sizes that look like a slip of the

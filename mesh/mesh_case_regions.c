@@ -208,11 +208,17 @@ static eddy_status read_region_box(mesh_reader *r, const cJSON *e, const char *p
     char q[128];
     const cJSON *box = cJSON_GetObjectItemCaseSensitive(e, "box");
     snprintf(q, sizeof q, "%s.box", p);
+    int rz = c->geometry == MESH_AXISYMMETRIC;
     if (box == NULL)
-        return mesh_json_bad(r, q, "missing ([x0, y0, x1, y1] is required)");
+        return mesh_json_bad(r, q, "missing (%s is required)",
+                             rz ? "[r0, z0, r1, z1]" : "[x0, y0, x1, y1]");
     MESH_TRY(mesh_json_numbers(r, box, q, 4, g->box));
     for (int t = 0; t < 4; t++)
         g->box[t] *= c->length_scale;
+    if (rz) {
+        double given[4] = {g->box[0], g->box[1], g->box[2], g->box[3]};
+        MESH_TRY(mesh_case_rz_box(r, q, given, g->box));
+    }
     if (!(g->box[2] > g->box[0]))
         return mesh_json_bad(r, q, "x1 must be greater than x0");
     if (!(g->box[3] > g->box[1]))
@@ -223,13 +229,14 @@ static eddy_status read_region_box(mesh_reader *r, const cJSON *e, const char *p
     return EDDY_OK;
 }
 
-/* "magnetization_angle" (degrees from +x, default 90) of the region at path
- * p into g->mag_angle (radians): required for a material with a remanence,
- * ignored with a warning otherwise.  mat: the region's material, NULL for
- * air. */
+/* "magnetization_angle" (degrees from +x, default 90; axisymmetric: from
+ * +r towards +z) of the region at path p into g->mag_angle (radians, from
+ * the grid's +x): required for a material with a remanence, ignored with a
+ * warning otherwise.  mat: the region's material, NULL for air. */
 static eddy_status read_region_angle(mesh_reader *r, const cJSON *e, const char *p,
                                      const mesh_material *mat, mesh_region *g)
 {
+    const char *from = r->c->geometry == MESH_AXISYMMETRIC ? "+r towards +z" : "+x";
     double deg = 90.0;
     int has_angle = 0;
     MESH_TRY(mesh_json_number(r, e, "magnetization_angle", p, 0, &deg, &has_angle));
@@ -237,14 +244,16 @@ static eddy_status read_region_angle(mesh_reader *r, const cJSON *e, const char 
         char q[128];
         snprintf(q, sizeof q, "%s.magnetization_angle", p);
         return mesh_json_bad(r, q, "%g degrees: give the direction between -360 and 360 degrees "
-                                   "from +x", deg);
+                                   "from %s", deg, from);
     }
     g->mag_angle = deg * EDDY_PI / 180.0;
+    if (r->c->geometry == MESH_AXISYMMETRIC)
+        g->mag_angle = mesh_case_rz_angle(g->mag_angle);
     if (mat != NULL && mat->br > 0.0 && !has_angle) {
         char q[128];
         snprintf(q, sizeof q, "%s.magnetization_angle", p);
         return mesh_json_bad(r, q, "missing: material \"%s\" has a remanence, so the direction "
-                                   "(degrees from +x) is required", mat->name);
+                                   "(degrees from %s) is required", mat->name, from);
     }
     if (has_angle && (mat == NULL || mat->br == 0.0))
         MESH_TRY(mesh_json_warn(r, "%s: %s.magnetization_angle: ignored, the material has no "
@@ -300,9 +309,9 @@ static eddy_status check_moving_region(mesh_reader *r, const char *p, const mesh
     if (fabs(g->box[0] - c->x0) > tol || fabs(g->box[2] - c->x1) > tol) {
         char q[128];
         snprintf(q, sizeof q, "%s.box", p);
-        return mesh_json_bad(r, q, "a moving region must span the whole x-extent of the "
+        return mesh_json_bad(r, q, "a moving region must span the whole %s-extent of the "
                                    "domain (%g to %g %s) so that the field is steady in the "
-                                   "magnet frame",
+                                   "magnet frame", c->geometry == MESH_AXISYMMETRIC ? "z" : "x",
                              c->x0 / c->length_scale, c->x1 / c->length_scale, c->length_unit);
     }
     if (mat == NULL || mat->sigma == 0.0)

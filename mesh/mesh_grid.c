@@ -484,6 +484,7 @@ eddy_status mesh_grid_build(const mesh_case *c, double memory_limit, mesh_grid *
     g->x = x;
     g->y = y;
     g->x_periodic = c->x_periodic;
+    g->geometry = c->geometry;
     g->k_dominant = k_dom;
     g->h_skin = h_skin;
     size_t nc = (size_t)g->ncx * (size_t)g->ncy;

@@ -109,6 +109,7 @@ eddy_status post_fields_compute(const mesh_grid *g, const double *a, double v, p
                           "post_fields_compute: fields for %d x %d nodes, grid has %d x %d",
                           f->nx, f->ny, g->nx, g->ny);
     const int nx = g->nx, ny = g->ny, ncx = g->ncx, per = g->x_periodic != 0;
+    const int rz = g->geometry == MESH_AXISYMMETRIC;
     const size_t snx = (size_t)nx;
     f->speed = v;
 
@@ -119,10 +120,22 @@ eddy_status post_fields_compute(const mesh_grid *g, const double *a, double v, p
         size_t row = snx * (size_t)j;
         for (int i = 0; i <= i_last; i++) {
             size_t k = (size_t)i + row;
-            /* dA/dy along the column */
+            /* dA/dy along the column (axisymmetric: dpsi/ds, s = r^2 / 2,
+             * the steps being the rows' metric ey = s_j+1 - s_j) */
             int has_m = j > 0, has_p = j < ny - 1;
             double hm = has_m ? g->y[j] - g->y[j - 1] : 0.0;
             double hp = has_p ? g->y[j + 1] - g->y[j] : 0.0;
+            if (rz) {
+                sol_row_metric mm, mp;
+                if (has_m) {
+                    sol_row_metric_of(g, j - 1, &mm);
+                    hm = mm.ey;
+                }
+                if (has_p) {
+                    sol_row_metric_of(g, j, &mp);
+                    hp = mp.ey;
+                }
+            }
             double dm = has_m ? (a[k] - a[k - snx]) / hm : 0.0;
             double dp = has_p ? (a[k + snx] - a[k]) / hp : 0.0;
             double dady = node_derivative(has_m, dm, hm, has_p, dp, hp);
@@ -139,6 +152,8 @@ eddy_status post_fields_compute(const mesh_grid *g, const double *a, double v, p
                 dxp = (a[(size_t)ir + row] - a[k]) / hxp;
             }
             double dadx = node_derivative(il >= 0, dxm, hxm, ir >= 0, dxp, hxp);
+            if (rz) /* B_z = dpsi/ds, B_r = -(1/r) dpsi/dz (0 on the axis) */
+                dadx = g->y[j] > 0.0 ? dadx / g->y[j] : 0.0;
             f->bx[k] = dady;
             f->by[k] = -dadx;
             f->bmag[k] = hypot(dady, dadx);
@@ -312,11 +327,13 @@ eddy_status post_write_vtr(const char *path, const mesh_grid *g, const double *a
     eddy_text_printf(&b, "    <Piece Extent=\"0 %d 0 %d 0 0\">\n", ext_x, ext_y);
 
     const char *in = "        ";
+    /* axisymmetric: the file's x is z and its y is r; B_T holds (B_z, B_r, 0) */
+    int rz = g->geometry == MESH_AXISYMMETRIC;
     eddy_text_printf(&b, "      <PointData Scalars=\"B_magnitude_T\" Vectors=\"B_T\">\n");
-    vtr_array(&b, in, "A_Wb_per_m", 1, nn, "%.9g", get_plain, a);
+    vtr_array(&b, in, rz ? "psi_Wb_per_rad" : "A_Wb_per_m", 1, nn, "%.9g", get_plain, a);
     vtr_array(&b, in, "B_T", 3, nn, "%.9g", get_b, f);
     vtr_array(&b, in, "B_magnitude_T", 1, nn, "%.9g", get_plain, f->bmag);
-    vtr_array(&b, in, "Jz_A_per_m2", 1, nn, "%.9g", get_plain, f->jz);
+    vtr_array(&b, in, rz ? "Jphi_A_per_m2" : "Jz_A_per_m2", 1, nn, "%.9g", get_plain, f->jz);
     vtr_array(&b, in, "loss_density_W_per_m3", 1, nn, "%.9g", get_plain, f->loss);
     eddy_text_printf(&b, "      </PointData>\n");
 
@@ -331,9 +348,9 @@ eddy_status post_write_vtr(const char *path, const mesh_grid *g, const double *a
     eddy_text_printf(&b, "      </CellData>\n");
 
     eddy_text_printf(&b, "      <Coordinates>\n");
-    vtr_array(&b, in, "x_m", 1, (size_t)g->nx, "%.15g", get_plain, g->x);
-    vtr_array(&b, in, "y_m", 1, (size_t)g->ny, "%.15g", get_plain, g->y);
-    vtr_array(&b, in, "z_m", 1, 1, "%.15g", get_zero, NULL);
+    vtr_array(&b, in, rz ? "axial_z_m" : "x_m", 1, (size_t)g->nx, "%.15g", get_plain, g->x);
+    vtr_array(&b, in, rz ? "radius_r_m" : "y_m", 1, (size_t)g->ny, "%.15g", get_plain, g->y);
+    vtr_array(&b, in, rz ? "unused_m" : "z_m", 1, 1, "%.15g", get_zero, NULL);
     eddy_text_printf(&b, "      </Coordinates>\n");
     eddy_text_printf(&b, "    </Piece>\n");
     eddy_text_printf(&b, "  </RectilinearGrid>\n");
@@ -449,7 +466,9 @@ eddy_status post_line_profile(const mesh_grid *g, const double *a, double v, con
     }
 
     eddy_text b = {0};
-    eddy_text_printf(&b, "s_m,x_m,y_m,Bx_T,By_T,Jz_A_per_m2\n");
+    int rz = g->geometry == MESH_AXISYMMETRIC;
+    eddy_text_printf(&b, rz ? "s_m,r_m,z_m,Br_T,Bz_T,Jphi_A_per_m2\n"
+                            : "s_m,x_m,y_m,Bx_T,By_T,Jz_A_per_m2\n");
     double length = fabs(dx) + fabs(dy); /* one of them is 0 */
     double lo_x = fmin(p0[0], p1[0]), hi_x = fmax(p0[0], p1[0]);
     double lo_y = fmin(p0[1], p1[1]), hi_y = fmax(p0[1], p1[1]);
@@ -469,7 +488,10 @@ eddy_status post_line_profile(const mesh_grid *g, const double *a, double v, con
             break;
         }
         double j = profile_current(g, jz, x, y);
-        eddy_text_printf(&b, "%.9g,%.9g,%.9g,%.9g,%.9g,%.9g\n", t * length, x, y, bx, by, j);
+        if (rz) /* grid x is z, y is r; post_field_at gives (B_z, B_r) */
+            eddy_text_printf(&b, "%.9g,%.9g,%.9g,%.9g,%.9g,%.9g\n", t * length, y, x, by, bx, j);
+        else
+            eddy_text_printf(&b, "%.9g,%.9g,%.9g,%.9g,%.9g,%.9g\n", t * length, x, y, bx, by, j);
     }
     free(jz);
     if (s == EDDY_OK && b.oom)

@@ -68,6 +68,22 @@ static void grad_local(const double c[4], double hx, double hy, double xi, doubl
     *dady = ((c[2] - c[0]) * (1.0 - xi) + (c[3] - c[1]) * xi) / hy;
 }
 
+/* Axisymmetric cells (grid x is z, y is r, the node values are psi =
+ * r A_phi): psi is interpolated bilinearly in z and s = r^2 / 2, the
+ * variable in which it is smooth on the axis (psi ~ r^2 there) and in which
+ * the solver's radial flux (nu / r) dpsi/dr = nu dpsi/ds is constant across
+ * a cell row (solver/sol_metric.c).  At local (xi, eta), eta = (s - s_j) /
+ * (s_j+1 - s_j), hs = s_j+1 - s_j (the row metric's ey) and radius r:
+ * B_z = dpsi/ds, B_r = -(1/r) dpsi/dz (0 on the axis, where dpsi/dz
+ * vanishes like r^2). */
+static void field_rz_local(const double c[4], double hx, double hs, double xi, double eta,
+                           double r, double *bz, double *br)
+{
+    double dpdz = ((c[1] - c[0]) * (1.0 - eta) + (c[3] - c[2]) * eta) / hx;
+    *bz = ((c[2] - c[0]) * (1.0 - xi) + (c[3] - c[1]) * xi) / hs;
+    *br = r > 0.0 ? -dpdz / r : 0.0;
+}
+
 static int is_air(const mesh_grid *g, size_t k)
 {
     return g->sigma[k] == 0.0 && g->brx[k] == 0.0 && g->bry[k] == 0.0 && g->jz[k] == 0.0 &&
@@ -88,6 +104,31 @@ static void band_stress(const mesh_grid *g, const double *a, int j0, int j1, dou
                         double *fx, double *fy)
 {
     double sx = 0.0, sy = 0.0, height = 0.0;
+    if (g->geometry == MESH_AXISYMMETRIC) {
+        /* the ring integral of T_zr = B_z B_r / mu0 over a cylinder r = const
+         * in air, 2 pi r integral T_zr dz, is the same on every cylinder
+         * between the band and the sources; its mean over the rows is
+         * 2 pi integral T_zr ds dz / (r_j1 - r_j0), s = r^2 / 2, on the
+         * Gauss points in (z, s) */
+        for (int j = j0; j < j1; j++) {
+            sol_row_metric m;
+            sol_row_metric_of(g, j, &m);
+            double s0 = 0.5 * g->y[j] * g->y[j];
+            height += g->y[j + 1] - g->y[j];
+            for (int i = 0; i < g->ncx; i++) {
+                double hx = g->x[i + 1] - g->x[i], c[4];
+                corners(g, a, i, j, c);
+                for (int p = 0; p < 2; p++)
+                    for (int q = 0; q < 2; q++) {
+                        double bz, br, r = sqrt(2.0 * (s0 + gauss_pts[q] * m.ey));
+                        field_rz_local(c, hx, m.ey, gauss_pts[p], gauss_pts[q], r, &bz, &br);
+                        sx += 0.25 * hx * m.ey * bz * br / EDDY_MU0;
+                    }
+            }
+        }
+        *fx += ny_sign * 2.0 * EDDY_PI * sx / height;
+        return; /* the net radial force on a whole ring is zero */
+    }
     for (int j = j0; j < j1; j++) {
         double hy = g->y[j + 1] - g->y[j];
         height += hy;
@@ -113,6 +154,8 @@ static void band_stress(const mesh_grid *g, const double *a, int j0, int j1, dou
 static void boundary_stress(const mesh_grid *g, const double *a, int j, double ny_sign,
                             double *fy)
 {
+    if (g->geometry == MESH_AXISYMMETRIC)
+        return; /* psi = 0 there: B_r = 0, T_zr = 0, and no net radial force */
     double hy = g->y[j + 1] - g->y[j], s = 0.0;
     for (int i = 0; i < g->ncx; i++) {
         double hx = g->x[i + 1] - g->x[i], c[4];
@@ -160,6 +203,12 @@ static int stress_force(const mesh_grid *g, const double *a, double *fx, double 
         band_stress(g, a, j0, g->jm0, -1.0, fx, fy);
     }
     return 1;
+}
+
+/* 1 for a planar grid, 2 pi for an axisymmetric one (the whole ring). */
+static double ma_ring(const mesh_grid *g)
+{
+    return g->geometry == MESH_AXISYMMETRIC ? 2.0 * EDDY_PI : 1.0;
 }
 
 /* dA/dy at node (i, jn): the mean of the two one-sided differences across
@@ -218,14 +267,18 @@ static int total_current_force(const mesh_grid *g, const double *a, double *fx, 
     int ncx = g->ncx, i0 = g->x_periodic ? 0 : 1, i1 = ncx; /* unknown node columns */
     double nu0 = 1.0 / EDDY_MU0, sx = 0.0, sy = 0.0;
     for (int jn = g->jm0; jn <= g->jm1; jn++) {
-        double hb = g->y[jn] - g->y[jn - 1], ha = g->y[jn + 1] - g->y[jn];
+        sol_row_metric mb, ma; /* the rows below and above the node row */
+        sol_row_metric_of(g, jn - 1, &mb);
+        sol_row_metric_of(g, jn, &ma);
+        double hb = mb.ey, ha = ma.ey; /* planar: the row heights */
+        double wy = mb.wx[1] + ma.wx[0];
         for (int i = i0; i < i1; i++) {
             int il = i > 0 ? i - 1 : ncx - 1, ir = i + 1; /* node ncx is node 0 when periodic */
             double hl = g->x[il + 1] - g->x[il], hr = g->x[i + 1] - g->x[i];
             size_t row = nx * (size_t)jn;
             double ai = a[(size_t)i + row], aw = a[(size_t)il + row], ae = a[(size_t)ir + row];
             double as = a[(size_t)i + row - nx], an = a[(size_t)i + row + nx];
-            double wy = 0.5 * (ha + hb), wx = 0.5 * (hl + hr);
+            double wx = 0.5 * (hl + hr);
             double cur = nu0 * (wy * ((ai - aw) / hl + (ai - ae) / hr) +
                                 wx * ((ai - as) / hb + (ai - an) / ha));
             double dadx = (ae - aw) / (hl + hr);
@@ -234,8 +287,10 @@ static int total_current_force(const mesh_grid *g, const double *a, double *fx, 
             sy += cur * dady;
         }
     }
-    *fx = sx;
-    *fy = sy;
+    /* axisymmetric: F_z = 2 pi sum I_i dpsi/dz (J_phi B_r r = -J_phi dpsi/dz
+     * per radian); the net radial force on a whole ring is zero */
+    *fx = ma_ring(g) * sx;
+    *fy = g->geometry == MESH_AXISYMMETRIC ? 0.0 : sy;
     return 1;
 }
 
@@ -264,9 +319,13 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
     size_t nx = (size_t)g->nx;
     int ncx = g->ncx, i_end = g->x_periodic ? ncx : ncx + 1;
     double fx = 0.0, fy = 0.0, loss = 0.0, jpk = 0.0, qpk = 0.0;
+    double ring = ma_ring(g);
     for (int j = g->jm0; j < g->jm1; j++) {
         double hy = g->y[j + 1] - g->y[j];
+        sol_row_metric m;
+        sol_row_metric_of(g, j, &m);
         for (int jn = j; jn <= j + 1; jn++) { /* node rows on the two sides of the cell row */
+            double w = m.wx[jn - j]; /* planar: hy / 2 */
             for (int i = 0; i < i_end; i++) {
                 /* cells left (il) and right (ir) of node i in this row */
                 int ir = i < ncx ? i : (g->x_periodic ? 0 : -1);
@@ -283,8 +342,11 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
                 double aw = a[(size_t)il + row], ae = a[(size_t)ir + 1 + row];
                 double pr = fitted ? c * hr / nu : 0.0, pl = fitted ? c * hl / nu : 0.0;
                 double afr = face_value(ai, ae, pr), afl = face_value(aw, ai, pl);
-                double w = 0.5 * hy, area = w * 0.5 * (hl + hr);
-                double cur = -c * w * (afr - afl); /* A per metre of depth */
+                double dual = 0.5 * (hl + hr), area = 0.5 * hy * dual; /* plain area */
+                /* A per metre of depth; axisymmetric: the ring current through
+                 * this part of the dual cell, A (J_phi = -(sigma v / r) dpsi/dz
+                 * integrated over dr dz) */
+                double cur = -c * w * (afr - afl);
                 double dadx = (ae - aw) / (hl + hr);
                 /* the mean of the two one-sided differences in y across the
                  * node (one-sided on the outer box), as in the nodal stress:
@@ -296,9 +358,12 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
                     node_current[(size_t)i + row] += cur;
                     node_area[(size_t)i + row] += area;
                 }
-                fx += cur * dadx;
+                fx += ring * cur * dadx;
                 fy += cur * dady;
-                loss += cur * cur / (sigma * area);
+                /* planar: w dual = area; axisymmetric: J_phi^2 r = sigma^2 v^2
+                 * (dpsi/dz)^2 / r integrates to cur^2 / (sigma w dual) per
+                 * radian */
+                loss += ring * cur * cur / (sigma * (w * dual));
                 if (fabs(cur) / area > jpk)
                     jpk = fabs(cur) / area;
                 if (cur * cur / (sigma * area * area) > qpk)
@@ -307,7 +372,7 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
         }
     }
     out->fx = fx;
-    out->fy = fy;
+    out->fy = g->geometry == MESH_AXISYMMETRIC ? 0.0 : fy; /* no net radial force on a ring */
     out->loss = loss;
     out->j_peak = jpk;
     out->q_peak = qpk;
@@ -330,11 +395,15 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
     for (int j = g->jm0; j < g->jm1; j++) {
         size_t k0 = (size_t)g->ncx * (size_t)j;
         double hy = g->y[j + 1] - g->y[j];
+        sol_row_metric m;
+        sol_row_metric_of(g, j, &m);
         if (g->moving[k0])
             sig_t += g->sigma[k0] * hy;
+        /* planar: the cross-section (m^2); axisymmetric: the ring volume
+         * 2 pi integral r dr dz (m^3) */
         for (int i = 0; i < g->ncx; i++)
             if (g->moving[k0 + (size_t)i] && g->sigma[k0 + (size_t)i] > 0.0)
-                area += hy * (g->x[i + 1] - g->x[i]);
+                area += m.ring * m.ey * (g->x[i + 1] - g->x[i]);
     }
     double sgn = v > 0 ? 1.0 : (v < 0 ? -1.0 : 0.0);
     f->speed = v;
@@ -448,6 +517,13 @@ eddy_status post_field_at(const mesh_grid *g, const double *a, double x, double 
         return EDDY_RAISE(NULL, EDDY_ERR_INPUT, "point outside the grid");
     double hx = g->x[i + 1] - g->x[i], hy = g->y[j + 1] - g->y[j], c[4], dadx, dady;
     corners(g, a, i, j, c);
+    if (g->geometry == MESH_AXISYMMETRIC) { /* bx = B_z, by = B_r */
+        sol_row_metric m;
+        sol_row_metric_of(g, j, &m);
+        double eta = 0.5 * (y * y - g->y[j] * g->y[j]) / m.ey;
+        field_rz_local(c, hx, m.ey, (x - g->x[i]) / hx, eta, y, bx, by);
+        return EDDY_OK;
+    }
     grad_local(c, hx, hy, (x - g->x[i]) / hx, (y - g->y[j]) / hy, &dadx, &dady);
     *bx = dady;
     *by = -dadx;

@@ -185,6 +185,34 @@ eddy_status sol_export(const sol_system *s, double v, const char *matrix_path,
 double sol_bernoulli(double z);
 
 /* ------------------------------------------------------------------------ */
+/* The geometry's weights of the box integration (sol_metric.c)              */
+/* ------------------------------------------------------------------------ */
+
+/*
+ * The metric of cell row j (0 <= j < ncy) of a grid: what the geometry
+ * changes in the box integration, the force and the loss integrals.  A
+ * planar row (height hy) has wx = {hy/2, hy/2}, ey = hy, ring = 1, i.e. the
+ * plain widths of the half faces.  An axisymmetric row, r_j <= r <= r_j+1
+ * (grid y is r, the unknown psi = r A_phi; see sol_metric.c):
+ *   wx[0], wx[1]: integral of dr / r over the lower and the upper half of the
+ *                 row, ln(r_m / r_j) and ln(r_j+1 / r_m), r_m the middle
+ *                 (dimensionless; wx[0] = 0 on the axis row, whose lower
+ *                 corners are the axis, psi = 0, and never unknowns);
+ *   ey:           integral of r dr over the row, (r_j+1^2 - r_j^2) / 2, m^2;
+ *   ring:         2 pi (integrals per radian times 2 pi give the whole ring).
+ * The x half faces of a cell carry the conductance wx[e] nu / hx, its y half
+ * faces (hx / 2) nu / ey; the cell's volume per unit of ring is hx ey.
+ */
+typedef struct {
+    double wx[2];  /* widths of the x half faces, lower and upper half: m (planar), 1 (r-z) */
+    double ey;     /* edge length of the differences across the row: m (planar), m^2 (r-z) */
+    double ring;   /* 1 (planar, per metre of depth), 2 pi (the whole ring) */
+} sol_row_metric;
+
+/* The metric of row j of g into *m (no allocation, cannot fail). */
+void sol_row_metric_of(const mesh_grid *g, int j, sol_row_metric *m);
+
+/* ------------------------------------------------------------------------ */
 /* Saturable materials: B-H curves (sol_bh.c), Newton-Raphson (sol_newton.c) */
 /* ------------------------------------------------------------------------ */
 

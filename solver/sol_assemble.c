@@ -35,9 +35,11 @@
  * node 0 (sol_pattern.c).
  *
  * The stencil of one cell (sol_assemble_cell) takes the face conductances
- * and the corners' sources from its caller, so another geometry reuses it
- * with its own face weights; sol_assemble is the planar geometry.  Values
- * go straight into the fixed CSC arrays through precomputed positions.
+ * and the corners' sources from its caller; the geometry enters only
+ * through the metric of each cell row (sol_row_metric_of, sol_metric.c:
+ * the planar widths, or the r weights of the axisymmetric geometry, where
+ * the unknown is psi = r A_phi).  Values go straight into the fixed CSC
+ * arrays through precomputed positions.
  */
 #include "solver/sol_int.h"
 
@@ -98,23 +100,25 @@ void sol_assemble_cell(const sol_system *s, sol_work *w, int i, int j, const sol
             w->rhs[u[q]] += c->f[q];
 }
 
-/* The planar stencil of cell k = (i, j) of size hx by hy at speed v, with
- * reluctivity nu: half faces of width hy/2 and hx/2; coil current on the
- * quarter cells, magnetisation as the flux of nu Br through the half faces
- * inside the cell. */
-static void planar_cell(const mesh_grid *g, size_t k, double hx, double hy, double nu, double v,
-                        sol_cell *c)
+/* The stencil of cell k = (i, j) of size hx by hy at speed v, with
+ * reluctivity nu and the metric m of its row (sol_metric.c): x half faces
+ * of width m->wx[0], m->wx[1] (planar: hy/2), y half faces of width hx/2 over
+ * the edge length m->ey (planar: hy); coil current on the quarter cells,
+ * magnetisation as the flux of nu Br through the half faces inside the cell
+ * (both in the plain x-y, or z-r, plane whatever the geometry). */
+static void metric_cell(const mesh_grid *g, size_t k, double hx, double hy,
+                        const sol_row_metric *m, double nu, double v, sol_cell *c)
 {
-    double gx = 0.5 * hy * nu / hx, bm = 1.0, bp = 1.0;
+    double bm = 1.0, bp = 1.0;
     if (g->moving[k] && g->sigma[k] > 0.0 && v != 0.0) {
         double pe = g->sigma[k] * v * hx / nu;
         bp = sol_bernoulli(pe);
         bm = bp + pe; /* B(-z) = B(z) + z */
     }
-    double gy = 0.5 * hx * nu / hy;
+    double gy = 0.5 * hx * nu / m->ey;
     double q = 0.25 * hx * hy * g->jz[k];
     double my = 0.5 * hy * nu * g->bry[k], mx = 0.5 * hx * nu * g->brx[k];
-    *c = (sol_cell){.gx = {gx, gx},
+    *c = (sol_cell){.gx = {m->wx[0] * nu / hx, m->wx[1] * nu / hx},
                     .bm = {bm, bm},
                     .bp = {bp, bp},
                     .gy = {gy, gy},
@@ -128,10 +132,12 @@ void sol_assemble(const sol_system *s, sol_work *w, double v, const double *nuc)
     memset(w->rhs, 0, (size_t)s->n * sizeof *w->rhs);
     for (int j = 0; j < g->ncy; j++) {
         double hy = g->y[j + 1] - g->y[j];
+        sol_row_metric m;
+        sol_row_metric_of(g, j, &m);
         for (int i = 0; i < g->ncx; i++) {
             size_t k = (size_t)i + (size_t)g->ncx * j;
             sol_cell c;
-            planar_cell(g, k, g->x[i + 1] - g->x[i], hy, nuc[k], v, &c);
+            metric_cell(g, k, g->x[i + 1] - g->x[i], hy, &m, nuc[k], v, &c);
             sol_assemble_cell(s, w, i, j, &c);
         }
     }

@@ -57,6 +57,27 @@ static void cell_corners(const sol_system *s, const double *x, int i, int j, dou
     }
 }
 
+/* The metric of row j (sol_row_metric_of) relative to the planar one: the
+ * x half-face widths over hy/2 (sx) and hy over the edge length ey (sy), all
+ * exactly 1 in a planar grid, so that planar numbers keep every bit; m
+ * (optional) receives the metric itself.  With them the cell's energy
+ * x_c' K_c x_c / nu over its volume hx ey is
+ *   b = (sx0 px^2 + sx1 qx^2) sy / (2 hx^2) + (py^2 + qy^2) sy^2 / (2 hy^2),
+ * the planar b with the r weights: (dpsi/dz / r)^2 = B_r^2 and
+ * (dpsi/dr / r)^2 = B_z^2 in an axisymmetric cell. */
+static void metric_factors(const mesh_grid *g, int j, double sx[2], double *sy,
+                           sol_row_metric *m)
+{
+    sol_row_metric local;
+    if (m == NULL)
+        m = &local;
+    sol_row_metric_of(g, j, m);
+    double hy = g->y[j + 1] - g->y[j];
+    sx[0] = m->wx[0] / (0.5 * hy);
+    sx[1] = m->wx[1] / (0.5 * hy);
+    *sy = hy / m->ey;
+}
+
 /* nu and d nu / d b of every cell at the iterate x into w->nu, w->dnu;
  * returns the largest b of a saturable cell (T^2). */
 static double update_nu(const sol_system *s, sol_work *w, const double *x)
@@ -65,6 +86,8 @@ static double update_nu(const sol_system *s, sol_work *w, const double *x)
     double bmax = 0.0;
     for (int j = 0; j < g->ncy; j++) {
         double hy = g->y[j + 1] - g->y[j];
+        double sx[2], sy;
+        metric_factors(g, j, sx, &sy, NULL);
         for (int i = 0; i < g->ncx; i++) {
             size_t k = (size_t)i + (size_t)g->ncx * (size_t)j;
             int curve = g->bh_cell[k];
@@ -77,8 +100,8 @@ static double update_nu(const sol_system *s, sol_work *w, const double *x)
             long u[4];
             cell_corners(s, x, i, j, c, u);
             double px = c[1] - c[0], qx = c[3] - c[2], py = c[2] - c[0], qy = c[3] - c[1];
-            double b2 = 0.5 * (px * px + qx * qx) / (hx * hx) +
-                        0.5 * (py * py + qy * qy) / (hy * hy);
+            double b2 = 0.5 * (sx[0] * px * px + sx[1] * qx * qx) / (hx * hx) * sy +
+                        0.5 * (py * py + qy * qy) / (hy * hy) * (sy * sy);
             if (b2 > bmax)
                 bmax = b2;
             sol_bh_eval(&s->bh[curve], b2, &w->nu[k], &w->dnu[k]);
@@ -121,6 +144,9 @@ static void add_jacobian(const sol_system *s, sol_work *w, double v, const doubl
     const mesh_grid *g = s->g;
     for (int j = 0; j < g->ncy; j++) {
         double hy = g->y[j + 1] - g->y[j];
+        double sx[2], sy;
+        sol_row_metric m;
+        metric_factors(g, j, sx, &sy, &m);
         for (int i = 0; i < g->ncx; i++) {
             size_t k = (size_t)i + (size_t)g->ncx * (size_t)j;
             if (g->bh_cell[k] < 0 || w->dnu[k] == 0.0)
@@ -133,15 +159,18 @@ static void add_jacobian(const sol_system *s, sol_work *w, double v, const doubl
                 double pe = g->sigma[k] * v * hx / w->nu[k], bp = sol_bernoulli(pe);
                 gfit = bp * (bp + pe); /* B(Pe) B(-Pe) */
             }
-            double ax = 0.5 * hy / hx * gfit, ay = 0.5 * hx / hy;
-            double gnu[4] = {ax * (c[0] - c[1]) + ay * (c[0] - c[2]),
-                             -ax * (c[0] - c[1]) + ay * (c[1] - c[3]),
-                             ax * (c[2] - c[3]) + ay * (c[2] - c[0]),
-                             -ax * (c[2] - c[3]) + ay * (c[3] - c[1])};
+            /* the geometric parts of the fluxes (K_c / nu, fitted) */
+            double ax0 = m.wx[0] / hx * gfit, ax1 = m.wx[1] / hx * gfit, ay = 0.5 * hx / m.ey;
+            double gnu[4] = {ax0 * (c[0] - c[1]) + ay * (c[0] - c[2]),
+                             -ax0 * (c[0] - c[1]) + ay * (c[1] - c[3]),
+                             ax1 * (c[2] - c[3]) + ay * (c[2] - c[0]),
+                             -ax1 * (c[2] - c[3]) + ay * (c[3] - c[1])};
             double px = c[1] - c[0], qx = c[3] - c[2], py = c[2] - c[0], qy = c[3] - c[1];
-            double ix2 = 1.0 / (hx * hx), iy2 = 1.0 / (hy * hy);
-            double db[4] = {-px * ix2 - py * iy2, px * ix2 - qy * iy2, -qx * ix2 + py * iy2,
-                            qx * ix2 + qy * iy2};
+            /* d b / d corner (metric_factors) */
+            double ix0 = sx[0] * sy / (hx * hx), ix1 = sx[1] * sy / (hx * hx);
+            double iy2 = sy * sy / (hy * hy);
+            double db[4] = {-px * ix0 - py * iy2, px * ix0 - qy * iy2, -qx * ix1 + py * iy2,
+                            qx * ix1 + qy * iy2};
             for (int r = 0; r < 4; r++) {
                 if (u[r] < 0)
                     continue;

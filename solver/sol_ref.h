@@ -113,7 +113,7 @@ eddy_status sol_ref_solve(const sol_ref_problem *p, const sol_ref_source *src, i
  * with what problem?  See sol_ref_case.c for the rules (one moving
  * non-magnetic plate spanning the domain, sources along +-y or coils above
  * it, an optional permeable yoke above the sources, nothing else but air;
- * no saturable region).
+ * no saturable region; planar only: an axisymmetric case does not fit).
  *
  *   c            a validated case (mesh_case_load); read only, not retained.
  *   p            receives the problem (rel_tol 1e-7).

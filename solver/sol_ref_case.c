@@ -2,7 +2,7 @@
  * sol_ref_case.c - decide whether a case fits the layered reference geometry
  * and translate it into a sol_ref_problem.
  *
- * A case fits when:
+ * A case fits when it is planar (the reference has no axisymmetric form) and:
  *  - exactly one moving region with conductivity > 0 and a constant mu_r >= 1
  *    (no B-H curve) spans the domain (the plate);
  *  - every source (magnet with remanence along +y or -y, or coil) lies
@@ -50,6 +50,11 @@ eddy_status sol_ref_from_case(const mesh_case *c, sol_ref_problem *p, sol_ref_so
     if (why != NULL && why_len > 0)
         why[0] = '\0';
     memset(p, 0, sizeof *p);
+    if (c->geometry == MESH_AXISYMMETRIC) {
+        fits_not(why, why_len, "%s", "the layered Fourier reference is a planar solution; it is "
+                                     "not evaluated for an axisymmetric case");
+        return EDDY_ERR_NOT_APPLICABLE;
+    }
     int plate = -1;
     for (int k = 0; k < c->nreg; k++) {
         const mesh_region *r = &c->regions[k];
