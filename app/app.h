@@ -208,4 +208,15 @@ eddy_status app_run_clear_outputs(const char *dir, eddy_error *err);
 /* The safety notice printed by the tool and written into result.json. */
 const char *app_safety_notice(void);
 
+/* The safety notice of a case of geometry g: app_safety_notice() for a
+ * planar case; for an axisymmetric one the same cautions with its own
+ * scope (forces of the whole ring).  Static storage. */
+const char *app_safety_notice_for(mesh_geometry g);
+
+/* The units of a case's forces and losses for labels: "N/m" and "W/m" for a
+ * planar case (per metre of depth), "N" and "W" for an axisymmetric one
+ * (the whole ring).  Static storage. */
+const char *app_force_unit(mesh_geometry g);
+const char *app_loss_unit(mesh_geometry g);
+
 #endif

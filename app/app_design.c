@@ -97,8 +97,8 @@ int app_design_refine(const app_report *r, double *speeds, int max_new)
     return m;
 }
 
-/* Density x specific heat of the moving conductors, area-weighted, J/(m^3 K);
- * 0 if unknown. */
+/* Density x specific heat of the moving conductors, area-weighted (volume-
+ * weighted in an axisymmetric case), J/(m^3 K); 0 if unknown. */
 static double rho_cp(const app_report *r)
 {
     const mesh_case *c = r->c;
@@ -111,6 +111,9 @@ static double rho_cp(const app_report *r)
         if (m->sigma <= 0)
             continue;
         double a = (g->box[2] - g->box[0]) * (g->box[3] - g->box[1]);
+        if (c->geometry == MESH_AXISYMMETRIC) /* weighted by the ring's volume */
+            a = (g->box[2] - g->box[0]) * EDDY_PI *
+                (g->box[3] * g->box[3] - g->box[1] * g->box[1]);
         if (m->density <= 0 || m->specific_heat <= 0)
             return 0.0;
         sum += a * m->density * m->specific_heat;

@@ -160,7 +160,9 @@ static int cmd_export(const char *path, const char *dir, double max_memory)
 static void progress_line(void *ctx, int k, int n, const post_forces *f)
 {
     (void)ctx;
-    fprintf(stderr, "\r  [%d/%d] %10.4g m/s   drag %12.5g N/m   ", k + 1, n, f->speed, f->drag);
+    /* no unit: the case (planar N/m or axisymmetric N) is read inside the run; the table
+     * after it names the unit */
+    fprintf(stderr, "\r  [%d/%d] %10.4g m/s   drag %12.5g   ", k + 1, n, f->speed, f->drag);
     if (k + 1 == n)
         fprintf(stderr, "\n");
 }
@@ -176,8 +178,12 @@ static void print_table(const app_report *r)
     const mesh_case *c = r->c;
     int ref = r->ref_drag != NULL && r->g != NULL;
     int disc = c->disc.present, end = c->end_effect.present;
-    printf("%12s %14s %14s %14s %14s %10s", "speed m/s", "drag N/m", "normal N/m", "loss W/m",
-           r->g != NULL ? "stress drag" : "drag (ref)", "Rm");
+    if (c->geometry == MESH_AXISYMMETRIC) /* the whole ring; no net radial force */
+        printf("%12s %14s %14s %14s %14s %10s", "speed m/s", "drag N", "radial N", "loss W",
+               "stress drag", "Rm");
+    else
+        printf("%12s %14s %14s %14s %14s %10s", "speed m/s", "drag N/m", "normal N/m",
+               "loss W/m", r->g != NULL ? "stress drag" : "drag (ref)", "Rm");
     if (disc)
         printf(" %10s %12s %12s", "rpm", "torque N m", "power W");
     if (end)
@@ -229,7 +235,7 @@ static int cmd_solve(const char *path, int reference_only, const app_run_opts *o
             printf("reference: %s\n", r->ref_note);
         printf("results in %s/ (result.json, forces.csv%s%s)\n", r->outdir,
                o->images ? ", pictures" : "", o->vtk && r->g != NULL ? ", .vtr fields" : "");
-        printf("note: %s\n", app_safety_notice());
+        printf("note: %s\n", app_safety_notice_for(r->c->geometry));
     }
     app_report_free(r);
     return 0;

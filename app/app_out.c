@@ -183,6 +183,12 @@ eddy_status app_out_fields(app_report *r, const mesh_grid *g, const app_run_opts
         mo.length_unit = c->length_unit;
         mo.length_scale = 1.0 / c->length_scale;
         app_view_window(c, o->full_domain, mo.view);
+        int rz = c->geometry == MESH_AXISYMMETRIC;
+        if (rz) { /* z horizontal, r up; a holds psi = r A_phi, whose contours
+                   * are the field lines */
+            mo.x_name = "z";
+            mo.y_name = "r";
+        }
         mo.n_flux_lines = 24;
         mo.outlines = boxes;
         mo.n_outlines = nb;
@@ -191,7 +197,7 @@ eddy_status app_out_fields(app_report *r, const mesh_grid *g, const app_run_opts
         mo.version = EDDY_VERSION;
         /* induced current density, diverging map symmetric about zero */
         snprintf(title, sizeof title, "%s: induced current density at %.4g m/s", c->name, v);
-        mo.quantity = "J_z";
+        mo.quantity = rz ? "J_phi" : "J_z";
         mo.unit_label = "MA/m^2";
         mo.value_scale = 1e-6;
         mo.diverging = 1;
@@ -253,8 +259,11 @@ eddy_status app_out_force_plot(app_report *r, eddy_error *err)
     post_plot_opts po;
     post_plot_opts_defaults(&po);
     char title[160];
-    snprintf(title, sizeof title, "%s: drag and normal force", r->c->name);
+    int rz = r->c->geometry == MESH_AXISYMMETRIC;
+    snprintf(title, sizeof title, rz ? "%s: drag on the whole ring" : "%s: drag and normal force",
+             r->c->name);
     po.title = title;
+    po.whole_ring = rz;
     po.case_name = r->c->name;
     po.version = EDDY_VERSION;
     /* the peak result.json reports (app_design_evaluate), not one of the plot's */
@@ -267,7 +276,9 @@ eddy_status app_out_force_plot(app_report *r, eddy_error *err)
     char path[4200];
     snprintf(path, sizeof path, "%s/forces.png", r->outdir); /* written atomically */
     int nref = r->ref_drag != NULL && r->g != NULL ? n : 0;
-    eddy_status s = post_plot_forces_png(path, n, sp, dr, fy, slope, nref, sp, r->ref_drag,
+    /* r-z: no normal-force curve (the net radial force on a ring is zero) */
+    eddy_status s = post_plot_forces_png(path, n, sp, dr, rz ? NULL : fy, slope, nref, sp,
+                                         r->ref_drag,
                                          r->ref_force_y, &po, err);
     free(sp);
     return s;

@@ -22,6 +22,21 @@ const char *app_safety_notice(void)
            "other implants; conductors heated by eddy currents can burn.";
 }
 
+const char *app_safety_notice_for(mesh_geometry g)
+{
+    if (g != MESH_AXISYMMETRIC)
+        return app_safety_notice();
+    return "Engineering estimate for design studies (axisymmetric, steady state, forces of the "
+           "whole ring). Dampers and brakes in systems that carry or protect people must be "
+           "designed and verified to the applicable local codes and standards by qualified, "
+           "licensed engineers. Strong permanent magnets can pinch and crush fingers and disturb "
+           "pacemakers and other implants; conductors heated by eddy currents can burn.";
+}
+
+const char *app_force_unit(mesh_geometry g) { return g == MESH_AXISYMMETRIC ? "N" : "N/m"; }
+
+const char *app_loss_unit(mesh_geometry g) { return g == MESH_AXISYMMETRIC ? "W" : "W/m"; }
+
 /* Every cJSON allocation of result.json goes through J(): a NULL result (an
  * allocation failure, or an object that a failed allocation left NULL)
  * marks the document failed, and app_write_results then writes nothing
@@ -159,6 +174,13 @@ static void add_design(cJSON *root, const app_report *r)
                               app_design_stop_enough_points(r->stop_table_change)));
         J(cJSON_AddStringToObject(
             s, "note",
+            c->geometry == MESH_AXISYMMETRIC ?
+            "m dv/dt = -(drag x repeat + extra_force), drag of the whole ring interpolated by a "
+            "monotone cubic (Fritsch and Carlson 1980) in log speed and log drag, linear below "
+            "the lowest speed. An eddy-current damper alone never brings a load to rest: its "
+            "drag falls to zero with speed. Engineering estimate; dampers in systems that carry "
+            "or protect people must be designed and verified to the applicable codes by "
+            "qualified engineers." :
             "m dv/dt = -(drag x depth x repeat + extra_force), drag interpolated by a monotone "
             "cubic (Fritsch and Carlson 1980) in log speed and log drag, linear below the "
             "lowest speed. An eddy-current brake alone never brings a load to rest: its drag "
@@ -178,10 +200,19 @@ static cJSON *build_json(const app_report *r)
     J(cJSON_AddStringToObject(root, "description", c->description));
     J(cJSON_AddStringToObject(root, "case_file", c->path));
     J(cJSON_AddStringToObject(root, "tool", "eddy2d " EDDY_VERSION));
+    int rz = c->geometry == MESH_AXISYMMETRIC;
+    J(cJSON_AddStringToObject(root, "geometry", rz ? "axisymmetric" : "planar"));
     cJSON *units = J(cJSON_AddObjectToObject(root, "units"));
     J(cJSON_AddStringToObject(units, "speed", "m/s"));
-    J(cJSON_AddStringToObject(units, "force", "N/m (per metre of depth; per period for a periodic domain)"));
-    J(cJSON_AddStringToObject(units, "loss", "W/m"));
+    if (rz) {
+        J(cJSON_AddStringToObject(units, "force", "N (the whole ring; force_x is along the "
+                                                  "axis z, force_y the net radial force, zero "
+                                                  "for a ring)"));
+        J(cJSON_AddStringToObject(units, "loss", "W (the whole ring)"));
+    } else {
+        J(cJSON_AddStringToObject(units, "force", "N/m (per metre of depth; per period for a periodic domain)"));
+        J(cJSON_AddStringToObject(units, "loss", "W/m"));
+    }
     J(cJSON_AddStringToObject(units, "current_density", "A/m^2"));
     J(cJSON_AddStringToObject(root, "method", r->method != NULL ? r->method : ""));
     if (g != NULL)
@@ -257,7 +288,7 @@ static cJSON *build_json(const app_report *r)
     for (int k = 0; k < c->nwarn; k++) {
         json_push(w, J(cJSON_CreateString(c->warnings[k])));
     }
-    J(cJSON_AddStringToObject(root, "notice", app_safety_notice()));
+    J(cJSON_AddStringToObject(root, "notice", app_safety_notice_for(c->geometry)));
     return root;
 }
 
@@ -298,7 +329,8 @@ static void add_mesh(cJSON *root, const app_report *r)
     add_num(mesh, "min_cell_y", hmin_y);
     add_num(mesh, "skin_cell_size", g->h_skin);
     add_num(mesh, "dominant_wavenumber", g->k_dominant);
-    J(cJSON_AddStringToObject(mesh, "x_boundary", g->x_periodic ? "periodic" : "zero"));
+    J(cJSON_AddStringToObject(mesh, g->geometry == MESH_AXISYMMETRIC ? "z_boundary" : "x_boundary",
+                              g->x_periodic ? "periodic" : "zero"));
     cJSON *solver = J(cJSON_AddObjectToObject(root, "solver"));
     J(cJSON_AddStringToObject(solver, "scheme",
                             "box integration, exponentially fitted convection (Scharfetter-Gummel)"));
@@ -328,9 +360,13 @@ static eddy_status write_csv(const char *dir, const app_report *r, eddy_error *e
     int disc = c->disc.present, end = c->end_effect.present;
     int ref = r->ref_drag != NULL && r->g != NULL;
     eddy_text b = {0};
-    eddy_text_str(&b, "speed_m_per_s,drag_force_N_per_m,force_x_N_per_m,force_y_N_per_m,"
-                      "drag_force_stress_N_per_m,loss_W_per_m,low_speed_drag_N_per_m,"
-                      "magnetic_reynolds");
+    if (c->geometry == MESH_AXISYMMETRIC) /* forces and loss of the whole ring */
+        eddy_text_str(&b, "speed_m_per_s,drag_force_N,force_z_N,force_r_N,"
+                          "drag_force_stress_N,loss_W,low_speed_drag_N,magnetic_reynolds");
+    else
+        eddy_text_str(&b, "speed_m_per_s,drag_force_N_per_m,force_x_N_per_m,force_y_N_per_m,"
+                          "drag_force_stress_N_per_m,loss_W_per_m,low_speed_drag_N_per_m,"
+                          "magnetic_reynolds");
     if (disc)
         eddy_text_str(&b, ",rpm,torque_N_m,power_W");
     if (end)

@@ -8,6 +8,19 @@
  * Conventions: forces are per metre of out-of-plane depth (per period and
  * metre for a periodic domain), on the moving regions.  B = (dA/dy, -dA/dx);
  * J_z = -sigma v dA/dx in moving cells.
+ *
+ * Axisymmetric grids (g->geometry, mesh/mesh.h: grid x is z, y is r, the node
+ * values are psi = r A_phi in Wb per radian): every function here takes psi
+ * where it says A.  B = (B_z, B_r) = ((1/r) dpsi/dr, -(1/r) dpsi/dz) in the
+ * places of (B_x, B_y); J_phi = -(sigma v / r) dpsi/dz in the place of J_z;
+ * forces (force_x = F_z along the axis, N) and losses (W) are of the whole
+ * ring, force_y and the normal components are 0 (the net radial force on a
+ * ring vanishes), conductor_area is the conductors' volume (m^3), and the
+ * line-form stress is the ring integral of B_z B_r / mu0 over cylinders in
+ * the air on both sides of the moving band (for a magnetised moving band
+ * the reported force is this line form where it exists, else the nodal
+ * form).  The weights come from
+ * sol_row_metric_of (solver/sol.h), the one place of the geometry.
  */
 #ifndef EDDY_POST_H
 #define EDDY_POST_H
@@ -57,7 +70,8 @@ typedef struct {
     double j_peak;             /* A/m^2, largest |J_z| of a node's dual cell */
     double loss_density_peak;  /* W/m^3, largest J^2/sigma of a node's dual cell */
     double loss_density_mean;  /* W/m^3, loss / conductor_area */
-    double conductor_area;     /* m^2, cross-section of the moving conductors */
+    double conductor_area;     /* m^2, cross-section of the moving conductors (r-z: their
+                                * volume, m^3) */
     double heating_rate;       /* K/s, adiabatic: loss / (rho c_p area); NAN if unknown */
     double rpm;                /* disc brakes: revolutions per minute; NAN otherwise */
     double torque, power;      /* disc brakes: N m, W of the whole disc; NAN otherwise */

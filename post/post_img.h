@@ -83,10 +83,14 @@ typedef struct {
     int diverging;           /* 1: diverging map, range -m..m with m = max |v|;
                                 0: batlow, range min(0, vmin)..vmax              */
     const char *length_unit; /* axis unit label, e.g. "mm" or "m"                */
+    const char *x_name;      /* horizontal axis name; NULL: "x" ("z" in r-z)     */
+    const char *y_name;      /* vertical axis name; NULL: "y" ("r" in r-z)       */
     double length_scale;     /* display length = metres * length_scale           */
     int width_px;            /* image width in px (0: 1200; 300..10000)          */
     double view[4];          /* x0, y0, x1, y1 in m: the window drawn (crop)      */
-    int n_flux_lines;        /* contours of A at equal steps (0..1000); 0: none  */
+    int n_flux_lines;        /* contours of A at equal steps (0..1000); 0: none;
+                                in r-z pass psi = r A_phi: its contours are the
+                                field lines                                      */
     const double *outlines;  /* n_outlines rectangles x0,y0,x1,y1 (m), may be NULL
                                 when n_outlines == 0                             */
     int n_outlines;
@@ -170,6 +174,9 @@ typedef struct {
     int peak_interpolated; /* 1: an estimate between the samples (the label
                               puts U+2248 "almost equal to" before F); 0: a
                               sample                                         */
+    int whole_ring;        /* 1: forces of a whole ring (axisymmetric case): the
+                              unit is N, not N/m (axis title, legend, peak label,
+                              PNG text "eddy2d:unit"); 0: per unit length     */
 } post_plot_opts;
 
 /* Fill *o with the defaults above: strings NULL, sizes 0 (default), no

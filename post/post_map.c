@@ -560,10 +560,10 @@ static void draw_map_axes(cairo_t *cr, const map_layout *L, const post_map_opts 
     const char *lu = o->length_unit != NULL ? o->length_unit : "m";
     char lab[96];
     post_font(cr, L->f_label, 0);
-    snprintf(lab, sizeof lab, "x (%s)", lu);
+    snprintf(lab, sizeof lab, "%s (%s)", o->x_name != NULL ? o->x_name : "x", lu);
     double xlab_y = bottom + L->ticklen + 5.0 * s + 1.2 * L->f_tick + 10.0 * s;
     post_text(cr, g->plot_x + g->plot_w / 2.0, xlab_y, lab, 0.5, 0.0);
-    snprintf(lab, sizeof lab, "y (%s)", lu);
+    snprintf(lab, sizeof lab, "%s (%s)", o->y_name != NULL ? o->y_name : "y", lu);
     double ylab_x = 12.0 * s + POST_CAP_FRAC * L->f_label;
     cairo_save(cr);
     cairo_translate(cr, ylab_x, g->plot_y + g->plot_h / 2.0);

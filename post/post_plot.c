@@ -226,7 +226,8 @@ static void forces_legend_entries(forces_plot *F)
     if (isfinite(F->slope)) {
         char num[48];
         post_fmt_sig3(num, sizeof num, F->slope);
-        snprintf(F->slope_label, sizeof F->slope_label, "low-speed slope %s N/m per m/s", num);
+        snprintf(F->slope_label, sizeof F->slope_label, "low-speed slope %s %s per m/s", num,
+                 F->o->whole_ring ? "N" : "N/m");
         F->leg[F->nleg++] = (post_legend_entry){F->slope_label, col_slope, 0, 1.5 * s, 1.0, 1, 4};
     }
 }
@@ -338,8 +339,9 @@ static void forces_peak_marker(forces_plot *F, cairo_t *cr)
     char fnum[48], vnum[48], ann[160];
     post_fmt_sig3(fnum, sizeof fnum, o->peak_drag);
     post_fmt_sig3(vnum, sizeof vnum, o->peak_speed);
-    snprintf(ann, sizeof ann, "peak drag %s%s N/m at %s m/s",
-             o->peak_interpolated ? "\xe2\x89\x88 " : "", fnum, vnum);
+    snprintf(ann, sizeof ann, "peak drag %s%s %s at %s m/s",
+             o->peak_interpolated ? "\xe2\x89\x88 " : "", fnum, o->whole_ring ? "N" : "N/m",
+             vnum);
     cairo_set_source_rgb(cr, POST_INK_RGB);
     cairo_new_sub_path(cr);
     cairo_arc(cr, PX, PY, 8.0 * s, 0.0, 2.0 * EDDY_PI);
@@ -375,7 +377,8 @@ static void forces_axes(const forces_plot *F, cairo_t *cr)
         post_chart_x_ticks(cr, ax, &F->xt, ps, lw);
     post_chart_x_title(cr, ax, ps, lw, ax->xlog && F->all_neg ? "|speed| (m/s)" : "speed (m/s)");
     post_chart_value_title(cr, ax, ps, ps->pad + POST_CAP_FRAC * ps->f_label,
-                           "force per unit length (N/m)");
+                           F->o->whole_ring ? "force on the whole ring (N)"
+                                            : "force per unit length (N/m)");
 }
 
 /* The legend strip under the title. */
@@ -404,7 +407,7 @@ static eddy_status forces_write(const forces_plot *F, const char *path, cairo_su
         {"Software", post_png_software(software, sizeof software, o->version)},
         {"eddy2d:case", o->case_name},
         {"eddy2d:quantity", F->normal != NULL ? "drag, normal force" : "drag"},
-        {"eddy2d:unit", "N/m"},
+        {"eddy2d:unit", o->whole_ring ? "N" : "N/m"},
         {"eddy2d:peak_speed_m_per_s", o->has_peak ? pv : NULL},
         {"eddy2d:peak_drag_N_per_m", o->has_peak ? pf : NULL}};
     return post_png_write(path, surf, kv, (int)(sizeof kv / sizeof kv[0]), err);

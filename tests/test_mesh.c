@@ -138,6 +138,10 @@ typedef struct {
 #define PLATE "{\"material\":\"copper_annealed\",\"box\":[0,-2,10,0],\"moving\":true}"
 #define MAG "{\"material\":\"ndfeb_42\",\"box\":[2,1,8,2],\"magnetization_angle\":90}"
 
+#define RZDOM "\"domain\":{\"r\":[0,50],\"z\":[-50,50]}"
+#define RZDOM_X "\"domain\":{\"r\":[0,50],\"z\":[-50,50],\"x_boundary\":\"zero\"}"
+#define TUBE "{\"material\":\"copper_annealed\",\"box\":[10,-50,12,50],\"moving\":true}"
+
 static const bad_case bad_cases[] = {
     {"truncated JSON", "{\"name\":\"x\",\"domain\":{\"x\":[0,1", "not valid JSON"},
     {"malformed JSON", "{\"name\":\"x\",,}", "line 1, column"},
@@ -179,6 +183,17 @@ static const bad_case bad_cases[] = {
     {"remanence of 1e6 T", "{" DOM ",\"materials\":{\"m\":{\"remanence\":1e6}},\"regions\":[" PLATE ",{\"material\":\"m\",\"box\":[2,1,8,2],\"magnetization_angle\":90}],\"speeds\":[1]}", "materials.m.remanence: 1e+06 T: no permanent magnet comes near this"},
     {"duplicate region names", "{" DOM ",\"regions\":[{\"name\":\"a\",\"material\":\"copper_annealed\",\"box\":[0,-2,10,0],\"moving\":true},{\"name\":\"a\",\"material\":\"ndfeb_42\",\"box\":[2,1,8,2],\"magnetization_angle\":90}],\"speeds\":[1]}", "regions[1].name: \"a\" is also the name of regions[0]; region names must be unique"},
     {"temperature above the linear model", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"temperature\":1200}", "temperature: 1200 C is outside the linear resistivity model (-200 to 1000 C)"},
+    /* the axisymmetric geometry: keys without meaning for a ring are errors
+     * naming the key */
+    {"unknown geometry", "{\"geometry\":\"spherical\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "geometry: unknown geometry \"spherical\""},
+    {"planar domain keys in r-z", "{\"geometry\":\"axisymmetric\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "domain.x: has no meaning in an axisymmetric case"},
+    {"x_boundary in r-z", "{\"geometry\":\"axisymmetric\"," RZDOM_X ",\"regions\":[" TUBE "],\"speeds\":[1]}", "domain.x_boundary: has no meaning in an axisymmetric case"},
+    {"r-z domain off the axis", "{\"geometry\":\"axisymmetric\",\"domain\":{\"r\":[1,50],\"z\":[-50,50]},\"regions\":[" TUBE "],\"speeds\":[1]}", "domain.r: must start on the axis, r = 0"},
+    {"r-z box inside out", "{\"geometry\":\"axisymmetric\"," RZDOM ",\"regions\":[" TUBE ",{\"box\":[5,1,4,2],\"current\":1}],\"speeds\":[1]}", "regions[1].box: r1 must be greater than r0"},
+    {"r-z moving region not spanning z", "{\"geometry\":\"axisymmetric\"," RZDOM ",\"regions\":[{\"material\":\"copper_annealed\",\"box\":[10,-40,12,50],\"moving\":true}],\"speeds\":[1]}", "must span the whole z-extent"},
+    {"disc in r-z", "{\"geometry\":\"axisymmetric\"," RZDOM ",\"regions\":[" TUBE "],\"speeds\":[1],\"disc\":{\"mean_radius\":100,\"active_length\":10,\"periods\":8}}", "disc: has no meaning in an axisymmetric case"},
+    {"end_effect in r-z", "{\"geometry\":\"axisymmetric\"," RZDOM ",\"regions\":[" TUBE "],\"speeds\":[1],\"end_effect\":{\"plate_width\":100,\"active_width\":10,\"pole_pitch\":8}}", "end_effect: has no meaning in an axisymmetric case"},
+    {"vehicle depth in r-z", "{\"geometry\":\"axisymmetric\"," RZDOM ",\"regions\":[" TUBE "],\"speeds\":[1,2],\"vehicle\":{\"mass\":10,\"depth\":20,\"from_speed\":2,\"to_speed\":1}}", "vehicle.depth: has no meaning in an axisymmetric case"},
     {"resistivity below the linear law's floor", "{" DOM ",\"materials\":{\"m\":{\"conductivity\":1e7,\"temperature_coefficient\":0.01}},\"regions\":[{\"material\":\"m\",\"box\":[0,-2,10,0],\"moving\":true}],\"speeds\":[1],\"temperature\":-80}", "temperature: material \"m\": 1 + alpha (T - 20 C) = 0 for alpha = 0.01 1/K at -80 C"},
 };
 
@@ -253,9 +268,56 @@ static void test_bad_inputs(void)
     check(s == EDDY_ERR_IO && c == NULL, "a missing file is an I/O error", "%s", err.msg);
 }
 
+/* An axisymmetric case as the grid sees it: z on x, r on y, boxes
+ * [r0, z0, r1, z1] turned into [z0, r0, z1, r1], the angle from +r towards +z
+ * turned into the grid's angle from +z (x) towards +r (y), profile points
+ * [r, z] into (z, r), the vehicle's depth 1 (forces of the whole ring). */
+static void test_rz_case(void)
+{
+    const char *json =
+        "{\"geometry\":\"axisymmetric\",\"length_unit\":\"mm\","
+        "\"domain\":{\"r\":[0,50],\"z\":[-60,40],\"z_boundary\":\"periodic\"},"
+        "\"regions\":[{\"material\":\"copper_annealed\",\"box\":[10,-60,12,40],\"moving\":true},"
+        "{\"material\":\"ndfeb_42\",\"box\":[0,-5,8,5],\"magnetization_angle\":90},"
+        "{\"material\":\"ndfeb_42\",\"box\":[0,6,8,9],\"magnetization_angle\":0}],"
+        "\"speeds\":[1,2],\"vehicle\":{\"mass\":3,\"from_speed\":2,\"to_speed\":1},"
+        "\"profiles\":[{\"from\":[9,-20],\"to\":[9,20]}]}";
+    eddy_error err = {0};
+    mesh_case *c = NULL;
+    eddy_status s = mesh_case_parse(json, "rz.json", &c, &err);
+    check(s == EDDY_OK, "an axisymmetric case parses", "%s", err.msg);
+    if (s != EDDY_OK)
+        return;
+    const mesh_region *t = &c->regions[0], *m = &c->regions[1], *q = &c->regions[2];
+    check(c->geometry == MESH_AXISYMMETRIC && c->x0 == -0.06 && c->x1 == 0.04 && c->y0 == 0.0 &&
+              fabs(c->y1 - 0.05) < 1e-15 && c->x_periodic == 1,
+          "r-z domain on the grid: z on x, r on y from the axis, periodic z",
+          "x %g..%g, y %g..%g, periodic %d", c->x0, c->x1, c->y0, c->y1, c->x_periodic);
+    check(fabs(t->box[0] + 0.06) < 1e-15 && fabs(t->box[1] - 0.010) < 1e-15 &&
+              fabs(t->box[2] - 0.04) < 1e-15 && fabs(t->box[3] - 0.012) < 1e-15,
+          "r-z box [r0, z0, r1, z1] stored as [z0, r0, z1, r1]", "%g %g %g %g", t->box[0],
+          t->box[1], t->box[2], t->box[3]);
+    /* 90 degrees from +r towards +z is +z: the grid's +x (angle 0); 0 is +r: +y */
+    check(fabs(cos(m->mag_angle) - 1.0) < 1e-15 && fabs(sin(q->mag_angle) - 1.0) < 1e-15,
+          "r-z magnetisation angle: 90 is along +z (grid x), 0 along +r (grid y)",
+          "%g, %g rad", m->mag_angle, q->mag_angle);
+    check(fabs(c->profiles[0].p0[0] + 0.02) < 1e-15 && fabs(c->profiles[0].p0[1] - 0.009) < 1e-15 &&
+              c->vehicle.depth == 1.0,
+          "r-z profile points [r, z] on the grid as (z, r); vehicle depth 1 (whole ring)",
+          "(%g, %g), depth %g", c->profiles[0].p0[0], c->profiles[0].p0[1], c->vehicle.depth);
+    mesh_grid *g = NULL;
+    s = mesh_grid_build(c, 0.0, &g, NULL, &err);
+    check(s == EDDY_OK && g->geometry == MESH_AXISYMMETRIC && g->y[0] == 0.0,
+          "the r-z case meshes with the planar mesher, the axis as its first grid line", "%s",
+          err.msg);
+    mesh_grid_free(g);
+    mesh_case_free(c);
+}
+
 int main(void)
 {
     test_good_case();
+    test_rz_case();
     test_bad_inputs();
     return check_summary();
 }
