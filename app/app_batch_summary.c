@@ -28,7 +28,48 @@ typedef struct {
     double *rpm, *torque;                  /* NaN where the case is no disc */
     double peak_drag, peak_speed;
     int png_w, png_h;                      /* forces.png size, 0 if none */
+    int axisymmetric;                      /* result.json's "geometry" is "axisymmetric":
+                                            * forces of the whole ring (N), loss W */
 } case_result;
+
+/* The labels of the summary's forces and losses: per metre of depth (planar
+ * cases), of the whole ring (every ok case axisymmetric), or both named when
+ * a batch mixes the two. */
+typedef struct {
+    const char *force, *loss;   /* units: "N/m", "W/m" / "N", "W" / both */
+    const char *drag_title;     /* the overlay's axis title */
+    const char *note;           /* the last line of summary.html */
+    const char *csv_columns;    /* summary.csv's force and loss columns */
+} summary_units;
+
+static void choose_units(const case_result *res, int n, summary_units *u)
+{
+    int rz = 0, planar = 0;
+    for (int c = 0; c < n; c++)
+        if (res[c].state == APP_CASE_OK) {
+            rz += res[c].axisymmetric;
+            planar += !res[c].axisymmetric;
+        }
+    if (rz > 0 && planar == 0) {
+        *u = (summary_units){"N", "W", "drag on the whole ring (N)",
+                             "Forces and losses of the whole ring (axisymmetric cases); the "
+                             "same numbers are in summary.csv and summary.json.",
+                             "drag_force_N,force_y_N,loss_W,peak_drag_N"};
+    } else if (rz > 0) {
+        *u = (summary_units){"N/m or N", "W/m or W", "drag (N/m planar, N axisymmetric)",
+                             "Forces per metre of depth for planar cases (per period for a "
+                             "periodic domain), of the whole ring for axisymmetric ones (each "
+                             "case's result.json names its geometry); the same numbers are in "
+                             "summary.csv and summary.json.",
+                             "drag_force_N_per_m_or_N,force_y_N_per_m_or_N,loss_W_per_m_or_W,"
+                             "peak_drag_N_per_m_or_N"};
+    } else {
+        *u = (summary_units){"N/m", "W/m", "drag per unit length (N/m)",
+                             "Forces per metre of depth (per period for a periodic domain); the "
+                             "same numbers are in summary.csv and summary.json.",
+                             "drag_force_N_per_m,force_y_N_per_m,loss_W_per_m,peak_drag_N_per_m"};
+    }
+}
 
 static double json_num(const cJSON *o, const char *key)
 {
@@ -110,6 +151,8 @@ static eddy_status load_result(const char *outdir, const app_batch_case *c, case
         r->torque[k] = json_num(p, "torque");
     }
     r->npoint = n;
+    const cJSON *geo = cJSON_GetObjectItemCaseSensitive(root, "geometry");
+    r->axisymmetric = cJSON_IsString(geo) && strcmp(geo->valuestring, "axisymmetric") == 0;
     /* the peak is the one result.json reports (design_peak, evaluated once
      * by the run), not found again here */
     const cJSON *pk = cJSON_GetObjectItemCaseSensitive(root, "peak");
@@ -199,7 +242,7 @@ static eddy_status write_text(const char *outdir, const char *name, eddy_text *b
 }
 
 static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
-                             const case_result *res, eddy_error *err)
+                             const case_result *res, const summary_units *u, eddy_error *err)
 {
     eddy_text b = {0};
     eddy_text_str(&b, "case,source");
@@ -207,8 +250,8 @@ static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
         eddy_text_str(&b, ",");
         csv_field(&b, p->keys[k]);
     }
-    eddy_text_str(&b, ",speed_m_per_s,drag_force_N_per_m,force_y_N_per_m,loss_W_per_m,"
-               "peak_drag_N_per_m,peak_drag_speed_m_per_s,status,error,seconds\n");
+    eddy_text_printf(&b, ",speed_m_per_s,%s,peak_drag_speed_m_per_s,status,error,seconds\n",
+                     u->csv_columns);
     for (int c = 0; c < p->ncase; c++) {
         const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
@@ -242,7 +285,8 @@ static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
 
 static eddy_status write_summary_json(const char *outdir, const app_batch_plan *p,
                                       const case_result *res, const app_batch_counts *n,
-                                      const char *when, eddy_error *err)
+                                      const summary_units *u, const char *when,
+                                      eddy_error *err)
 {
     cJSON *root = cJSON_CreateObject();
     int ok = root != NULL;
@@ -250,9 +294,9 @@ static eddy_status write_summary_json(const char *outdir, const app_batch_plan *
     ok = ok && cJSON_AddStringToObject(root, "written", when) != NULL;
     cJSON *units = ok ? cJSON_AddObjectToObject(root, "units") : NULL;
     ok = units != NULL && cJSON_AddStringToObject(units, "speed", "m/s") != NULL &&
-         cJSON_AddStringToObject(units, "drag_force", "N/m") != NULL &&
-         cJSON_AddStringToObject(units, "force_y", "N/m") != NULL &&
-         cJSON_AddStringToObject(units, "loss", "W/m") != NULL &&
+         cJSON_AddStringToObject(units, "drag_force", u->force) != NULL &&
+         cJSON_AddStringToObject(units, "force_y", u->force) != NULL &&
+         cJSON_AddStringToObject(units, "loss", u->loss) != NULL &&
          cJSON_AddStringToObject(units, "seconds", "s (wall time of the case)") != NULL;
     cJSON *cnt = ok ? cJSON_AddObjectToObject(root, "counts") : NULL;
     ok = cnt != NULL && cJSON_AddNumberToObject(cnt, "cases", n->cases) != NULL &&
@@ -353,7 +397,8 @@ static void overlay_label(eddy_text *b, const app_batch_case *c)
  * pictures, or without an ok case, there is none (an old one is removed);
  * on failure the file is removed too. */
 static eddy_status write_overlay(const char *outdir, const app_batch_plan *p,
-                                 const case_result *res, overlay_info *ov, eddy_error *err)
+                                 const case_result *res, const summary_units *u,
+                                 overlay_info *ov, eddy_error *err)
 {
     memset(ov, 0, sizeof *ov);
     char path[4200];
@@ -416,7 +461,7 @@ static eddy_status write_overlay(const char *outdir, const app_batch_plan *p,
                        : "batch: drag of every case against speed";
         o.version = EDDY_VERSION;
         o.x_label = disc ? "speed (rpm)" : "speed (m/s)";
-        o.y_label = disc ? "torque of the disc (N m)" : "drag per unit length (N/m)";
+        o.y_label = disc ? "torque of the disc (N m)" : u->drag_title;
         o.key_label = key.p;
         o.width_px = OVERLAY_W;
         o.height_px = OVERLAY_H;
@@ -443,12 +488,13 @@ static eddy_status write_overlay(const char *outdir, const app_batch_plan *p,
 }
 
 /* The overlay figure of summary.html (nothing without summary.png). */
-static void html_overlay(eddy_text *b, const overlay_info *ov)
+static void html_overlay(eddy_text *b, const overlay_info *ov, const summary_units *u)
 {
     if (!ov->written)
         return;
-    const char *what = ov->disc ? "torque of the whole disc (N m) against rpm"
-                                : "drag per unit length (N/m) against speed (m/s)";
+    char drag_what[160];
+    snprintf(drag_what, sizeof drag_what, "%s against speed (m/s)", u->drag_title);
+    const char *what = ov->disc ? "torque of the whole disc (N m) against rpm" : drag_what;
     eddy_text_printf(b, "<h2>All cases overlaid</h2>\n<figure id=\"overlay\" class=\"overlay\">"
                      "<a href=\"summary.png\"><img src=\"summary.png\" width=\"%d\" "
                      "height=\"%d\" alt=\"%s, every ok case\"></a><figcaption>%s, %d ok "
@@ -495,7 +541,8 @@ static void html_head(eddy_text *b, const app_batch_counts *n, const char *when)
 }
 
 /* The table of the cases: variant values, status, peak drag, error. */
-static void html_cases(eddy_text *b, const app_batch_plan *p, const case_result *res)
+static void html_cases(eddy_text *b, const app_batch_plan *p, const case_result *res,
+                       const summary_units *u)
 {
     eddy_text_str(b, "<h2>Cases</h2>\n<table id=\"cases\">\n<thead><tr><th>case</th>");
     for (int k = 0; k < p->nkey; k++) {
@@ -503,8 +550,8 @@ static void html_cases(eddy_text *b, const app_batch_plan *p, const case_result 
         html_text(b, p->keys[k]);
         eddy_text_str(b, "</th>");
     }
-    eddy_text_str(b, "<th>status</th><th>peak drag (N/m)</th><th>at speed (m/s)</th>"
-                  "<th>seconds</th><th>error</th></tr></thead>\n<tbody>\n");
+    eddy_text_printf(b, "<th>status</th><th>peak drag (%s)</th><th>at speed (m/s)</th>"
+                     "<th>seconds</th><th>error</th></tr></thead>\n<tbody>\n", u->force);
     for (int c = 0; c < p->ncase; c++) {
         const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
@@ -574,11 +621,13 @@ static void html_figure(eddy_text *b, const app_batch_case *pc, const case_resul
 }
 
 /* The table of every case and speed. */
-static void html_points(eddy_text *b, const app_batch_plan *p, const case_result *res)
+static void html_points(eddy_text *b, const app_batch_plan *p, const case_result *res,
+                        const summary_units *u)
 {
-    eddy_text_str(b, "<h2>Every speed</h2>\n<table id=\"points\">\n<thead><tr><th>case</th>"
-                  "<th>speed (m/s)</th><th>drag (N/m)</th><th>normal force (N/m)</th>"
-                  "<th>loss (W/m)</th><th>status</th></tr></thead>\n<tbody>\n");
+    eddy_text_printf(b, "<h2>Every speed</h2>\n<table id=\"points\">\n<thead><tr><th>case</th>"
+                     "<th>speed (m/s)</th><th>drag (%s)</th><th>normal force (%s)</th>"
+                     "<th>loss (%s)</th><th>status</th></tr></thead>\n<tbody>\n", u->force,
+                     u->force, u->loss);
     for (int c = 0; c < p->ncase; c++) {
         const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
@@ -601,19 +650,19 @@ static void html_points(eddy_text *b, const app_batch_plan *p, const case_result
 
 static eddy_status write_html(const char *outdir, const app_batch_plan *p,
                               const case_result *res, const app_batch_counts *n,
-                              const overlay_info *ov, const char *when, eddy_error *err)
+                              const overlay_info *ov, const summary_units *u, const char *when,
+                              eddy_error *err)
 {
     eddy_text b = {0};
     html_head(&b, n, when);
-    html_cases(&b, p, res);
-    html_overlay(&b, ov);
+    html_cases(&b, p, res, u);
+    html_overlay(&b, ov, u);
     eddy_text_str(&b, "<h2>Force-speed plots</h2>\n<div class=\"plots\">\n");
     for (int c = 0; c < p->ncase; c++)
         html_figure(&b, &p->cases[c], &res[c]);
     eddy_text_str(&b, "</div>\n");
-    html_points(&b, p, res);
-    eddy_text_str(&b, "<p>Forces per metre of depth (per period for a periodic domain); the "
-                  "same numbers are in summary.csv and summary.json.</p>\n</body>\n</html>\n");
+    html_points(&b, p, res, u);
+    eddy_text_printf(&b, "<p>%s</p>\n</body>\n</html>\n", u->note);
     return write_text(outdir, "summary.html", &b, err);
 }
 
@@ -644,16 +693,18 @@ eddy_status app_batch_write_summary(const char *outdir, const app_batch_plan *p,
         strftime(when, sizeof when, "%Y-%m-%d %H:%M:%S UTC", &tm);
     if (s == EDDY_OK)
         s = eddy_make_dir(outdir, err);
+    summary_units u;
+    choose_units(res, p->ncase, &u);
     if (s == EDDY_OK)
-        s = write_csv(outdir, p, res, err);
+        s = write_csv(outdir, p, res, &u, err);
     if (s == EDDY_OK)
-        s = write_summary_json(outdir, p, res, &n, when, err);
+        s = write_summary_json(outdir, p, res, &n, &u, when, err);
     overlay_info ov;
     memset(&ov, 0, sizeof ov);
     if (s == EDDY_OK)
-        s = write_overlay(outdir, p, res, &ov, err);
+        s = write_overlay(outdir, p, res, &u, &ov, err);
     if (s == EDDY_OK)
-        s = write_html(outdir, p, res, &n, &ov, when, err);
+        s = write_html(outdir, p, res, &n, &ov, &u, when, err);
     for (int c = 0; c < p->ncase; c++)
         free(res[c].speed);
     free(res);

@@ -295,6 +295,24 @@ grep -q 'alpha.json and .*alpha.json: two cases named "alpha"' "$T/err" &&
 grep -q "variants: ignored here" "$T/warn" && ok "a plain solve ignores \"variants\" with a warning" ||
     ko "solve warns about variants" "$(cat "$T/warn")"
 
+# --- an axisymmetric batch: units of the whole ring in the summary ------------
+cat > "$T/in/rzb.json" <<'JSON'
+{"name":"rzb","geometry":"axisymmetric","length_unit":"mm","domain":{"r":[0,150],"z":[-150,150]},
+ "regions":[{"name":"tube","material":"aluminium_6063_t5","box":[12,-150,15,150],"moving":true},
+            {"name":"magnet","material":"ndfeb_42","box":[0,-8,10,8],"magnetization_angle":90}],
+ "speeds":[0.5,4],
+ "variants":{"regions.tube.box":[[12,-150,15,150],[12,-150,17,150]]}}
+JSON
+if "$E" batch "$T/in/rzb.json" -o "$T/rzb" -q -j 1 >/dev/null 2>&1 &&
+   head -n 1 "$T/rzb/summary.csv" | grep -q ',drag_force_N,force_y_N,loss_W,peak_drag_N,' &&
+   grep -q '"drag_force":	"N"' "$T/rzb/summary.json" &&
+   grep -q 'peak drag (N)' "$T/rzb/summary.html" &&
+   [ "$(grep -c ',ok,' "$T/rzb/summary.csv")" -eq 4 ]; then
+    ok "axisymmetric batch: two variants solved, summary in N and W of the whole ring"
+else
+    ko "axisymmetric batch" "$(head -n 2 "$T/rzb/summary.csv" 2>/dev/null | tr '\n' ' ')"
+fi
+
 # --- the catalogue of malformed case files -----------------------------------
 C="$T/catalogue"
 mkdir -p "$C"
