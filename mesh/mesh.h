@@ -108,9 +108,14 @@ typedef struct {
     double mass;             /* kg */
     double depth;            /* m of magnet/plate overlap out of the plane */
     double repeat;           /* periods or magnet units engaged */
-    double from_speed, to_speed; /* m/s */
-    double extra_force;      /* N, constant (e.g. friction, gravity component) */
+    double from_speed, to_speed; /* m/s; from_speed 0 when not given (gravity only) */
+    int has_from_speed;      /* 1 if from_speed was given (always without gravity) */
+    double extra_force;      /* N, constant retarding force (e.g. friction) */
     double conductor_mass;   /* kg heated by the stop (0: not given) */
+    int gravity;             /* 1: the load falls along the motion under its weight
+                              * m g (DESIGN_STANDARD_GRAVITY): m dv/dt = m g -
+                              * extra_force - F(v); the run reports its terminal
+                              * speed, and from_speed becomes optional */
 } mesh_vehicle;
 
 /* Finite plate width correction (Russell-Norsworthy factor). */

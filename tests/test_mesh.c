@@ -168,6 +168,9 @@ static const bad_case bad_cases[] = {
     {"growth out of range", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"mesh\":{\"growth\":3}}", "mesh.growth: must lie in (1, 2]"},
     {"unsafe name", "{\"name\":\"../x\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "name: must have 1 to 63 characters, only letters"},
     {"no regions", "{" DOM ",\"regions\":[],\"speeds\":[1]}", "regions: must not be empty"},
+    {"gravity must be boolean", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"vehicle\":{\"mass\":1,\"depth\":1,\"gravity\":1}}", "vehicle.gravity: must be true or false"},
+    {"a falling load's to_speed without from_speed", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"vehicle\":{\"mass\":1,\"depth\":1,\"gravity\":true,\"to_speed\":1}}", "vehicle.to_speed: needs a from_speed"},
+    {"from_speed required without gravity", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"vehicle\":{\"mass\":1,\"depth\":1,\"to_speed\":1}}", "vehicle.from_speed: missing"},
     /* the case reader applies the one sigma(T) rule of design/ (its range and
      * its resistivity floor), not limits of its own */
     /* values that would pass a type check but no device has (the reader's
