@@ -27,6 +27,7 @@ typedef struct {
     double *speed, *drag, *force_y, *loss; /* one allocation, 6 * npoint */
     double *rpm, *torque;                  /* NaN where the case is no disc */
     double peak_drag, peak_speed;
+    double damping, linear_speed, terminal_speed; /* result.json's, NaN if null/absent */
     int png_w, png_h;                      /* forces.png size, 0 if none */
 } case_result;
 
@@ -64,6 +65,7 @@ static eddy_status load_result(const char *outdir, const app_batch_case *c, case
 {
     memset(r, 0, sizeof *r);
     r->peak_drag = r->peak_speed = NAN;
+    r->damping = r->linear_speed = r->terminal_speed = NAN;
     r->state = app_batch_disk_state(outdir, c, &r->seconds, r->error, sizeof r->error);
     if (r->state != APP_CASE_OK) {
         if (r->state == APP_CASE_NOT_RUN && c->invalid) { /* planned invalid, not yet recorded */
@@ -117,6 +119,9 @@ static eddy_status load_result(const char *outdir, const app_batch_case *c, case
         r->peak_drag = json_num(pk, "drag_force");
         r->peak_speed = json_num(pk, "speed");
     }
+    r->damping = json_num(root, "damping_coefficient");
+    r->linear_speed = json_num(root, "linear_up_to_speed");
+    r->terminal_speed = json_num(root, "terminal_speed");
     cJSON_Delete(root);
     return EDDY_OK;
 }
@@ -208,7 +213,8 @@ static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
         csv_field(&b, p->keys[k]);
     }
     eddy_text_str(&b, ",speed_m_per_s,drag_force_N_per_m,force_y_N_per_m,loss_W_per_m,"
-               "peak_drag_N_per_m,peak_drag_speed_m_per_s,status,error,seconds\n");
+               "peak_drag_N_per_m,peak_drag_speed_m_per_s,damping_coefficient_N_s_per_m2,"
+               "linear_up_to_speed_m_per_s,terminal_speed_m_per_s,status,error,seconds\n");
     for (int c = 0; c < p->ncase; c++) {
         const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
@@ -229,6 +235,9 @@ static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
             csv_num(&b, has ? r->loss[k] : NAN);
             csv_num(&b, r->peak_drag);
             csv_num(&b, r->peak_speed);
+            csv_num(&b, r->damping);
+            csv_num(&b, r->linear_speed);
+            csv_num(&b, r->terminal_speed);
             eddy_text_str(&b, ",");
             csv_field(&b, app_case_state_name(r->state));
             eddy_text_str(&b, ",");
@@ -253,6 +262,11 @@ static eddy_status write_summary_json(const char *outdir, const app_batch_plan *
          cJSON_AddStringToObject(units, "drag_force", "N/m") != NULL &&
          cJSON_AddStringToObject(units, "force_y", "N/m") != NULL &&
          cJSON_AddStringToObject(units, "loss", "W/m") != NULL &&
+         cJSON_AddStringToObject(units, "damping_coefficient",
+                                 "N s/m per m of depth (per period for a periodic domain)") !=
+             NULL &&
+         cJSON_AddStringToObject(units, "linear_up_to_speed", "m/s") != NULL &&
+         cJSON_AddStringToObject(units, "terminal_speed", "m/s") != NULL &&
          cJSON_AddStringToObject(units, "seconds", "s (wall time of the case)") != NULL;
     cJSON *cnt = ok ? cJSON_AddObjectToObject(root, "counts") : NULL;
     ok = cnt != NULL && cJSON_AddNumberToObject(cnt, "cases", n->cases) != NULL &&
@@ -283,6 +297,9 @@ static eddy_status write_summary_json(const char *outdir, const app_batch_plan *
                  json_add(o, "loss", json_num_or_null(has ? r->loss[k] : NAN)) &&
                  json_add(o, "peak_drag", json_num_or_null(r->peak_drag)) &&
                  json_add(o, "peak_drag_speed", json_num_or_null(r->peak_speed)) &&
+                 json_add(o, "damping_coefficient", json_num_or_null(r->damping)) &&
+                 json_add(o, "linear_up_to_speed", json_num_or_null(r->linear_speed)) &&
+                 json_add(o, "terminal_speed", json_num_or_null(r->terminal_speed)) &&
                  cJSON_AddStringToObject(o, "status", app_case_state_name(r->state)) != NULL &&
                  json_add(o, "error", r->error[0] ? cJSON_CreateString(r->error)
                                                   : cJSON_CreateNull()) &&
@@ -504,6 +521,8 @@ static void html_cases(eddy_text *b, const app_batch_plan *p, const case_result 
         eddy_text_str(b, "</th>");
     }
     eddy_text_str(b, "<th>status</th><th>peak drag (N/m)</th><th>at speed (m/s)</th>"
+                  "<th>damping coefficient (N s/m<sup>2</sup>)</th><th>linear up to (m/s)"
+                  "</th><th>terminal speed (m/s)</th>"
                   "<th>seconds</th><th>error</th></tr></thead>\n<tbody>\n");
     for (int c = 0; c < p->ncase; c++) {
         const app_batch_case *pc = &p->cases[c];
@@ -522,6 +541,9 @@ static void html_cases(eddy_text *b, const app_batch_plan *p, const case_result 
         html_status(b, r->state);
         html_num(b, r->peak_drag, "num");
         html_num(b, r->peak_speed, "num");
+        html_num(b, r->damping, "num");
+        html_num(b, r->linear_speed, "num");
+        html_num(b, r->terminal_speed, "num");
         html_num(b, r->seconds, "num");
         eddy_text_str(b, "<td class=\"err\">");
         html_text(b, r->error);

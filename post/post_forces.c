@@ -259,7 +259,8 @@ typedef struct {
  * fluxes (fitted = 1) or from central face values (fitted = 0, the v -> 0
  * limit used for the low-speed slope). */
 static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitted,
-                         nodal_sums *out, double *node_current, double *node_area)
+                         const double *row_weight, nodal_sums *out, double *node_current,
+                         double *node_area)
 {
     size_t nx = (size_t)g->nx;
     int ncx = g->ncx, i_end = g->x_periodic ? ncx : ncx + 1;
@@ -296,9 +297,10 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
                     node_current[(size_t)i + row] += cur;
                     node_area[(size_t)i + row] += area;
                 }
-                fx += cur * dadx;
-                fy += cur * dady;
-                loss += cur * cur / (sigma * area);
+                double wt = row_weight != NULL ? row_weight[jn] : 1.0; /* geometry */
+                fx += wt * cur * dadx;
+                fy += wt * cur * dady;
+                loss += wt * cur * cur / (sigma * area);
                 if (fabs(cur) / area > jpk)
                     jpk = fabs(cur) / area;
                 if (cur * cur / (sigma * area * area) > qpk)
@@ -313,10 +315,21 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
     out->q_peak = qpk;
 }
 
-double post_lowspeed_slope(const mesh_grid *g, const double *a_static)
+/* The damping coefficient.  A conductor moving at +v along x in the static
+ * field B0 carries, to first order in v, J_z = sigma (v x B0)_z =
+ * sigma v B0_y = -sigma v dA0/dx (PHYSICS.md), and feels
+ * F_x = integral (J x B0)_x = -integral J_z B0_y = -sigma v integral B0_y^2,
+ * a drag c v with c = sigma integral B0_y^2 = sigma integral (dA0/dx)^2 >= 0.
+ * It is evaluated as the v -> 0 limit of the drag of the scheme itself:
+ * the nodal current with central face values (the Peclet -> 0 limit of the
+ * fitted fluxes) at v = 1 m/s, times dA/dx at the node, so that c v is the
+ * solver's own drag at low speed and not another discretisation of the same
+ * integral.  row_weight multiplies each node row (the geometry). */
+double post_damping_coefficient(const mesh_grid *g, const double *a_static,
+                                const double *row_weight)
 {
     nodal_sums n;
-    nodal_forces(g, a_static, 1.0, 0, &n, NULL, NULL);
+    nodal_forces(g, a_static, 1.0, 0, row_weight, &n, NULL, NULL);
     return -n.fx;
 }
 
@@ -324,7 +337,7 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
                                 double lowspeed_slope, post_forces *f, eddy_error *err)
 {
     nodal_sums n;
-    nodal_forces(g, a, v, 1, &n, NULL, NULL);
+    nodal_forces(g, a, v, 1, NULL, &n, NULL, NULL);
     double sig_t = 0.0; /* integral of sigma over the band thickness, column 0 */
     double area = 0.0;  /* of the moving conductors, m^2 */
     for (int j = g->jm0; j < g->jm1; j++) {
@@ -347,6 +360,7 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
     f->loss_density_mean = area > 0 ? n.loss / area : 0.0;
     f->conductor_area = area;
     f->low_speed_drag = fabs(v) * lowspeed_slope;
+    f->drag_per_speed = v != 0.0 ? f->drag / fabs(v) : NAN;
     f->magnetic_reynolds = EDDY_MU0 * sig_t * fabs(v);
     /* on the dominant wavelength of the sources: mu0 sigma |v| / k, with the
      * band's mean conductivity (sigma t / t) */
@@ -409,7 +423,7 @@ eddy_status post_current_density(const mesh_grid *g, const double *a, double v, 
     for (size_t k = 0; k < nn; k++)
         jz[k] = 0.0;
     nodal_sums n;
-    nodal_forces(g, a, v, 1, &n, jz, area);
+    nodal_forces(g, a, v, 1, NULL, &n, jz, area);
     for (int j = 0; j < g->ny; j++) {
         size_t row = (size_t)g->nx * (size_t)j;
         if (g->x_periodic) { /* the copy node i = nx-1 is node 0 */

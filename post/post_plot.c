@@ -226,7 +226,7 @@ static void forces_legend_entries(forces_plot *F)
     if (isfinite(F->slope)) {
         char num[48];
         post_fmt_sig3(num, sizeof num, F->slope);
-        snprintf(F->slope_label, sizeof F->slope_label, "low-speed slope %s N/m per m/s", num);
+        snprintf(F->slope_label, sizeof F->slope_label, "F = c v, c = %s N s/m^2", num);
         F->leg[F->nleg++] = (post_legend_entry){F->slope_label, col_slope, 0, 1.5 * s, 1.0, 1, 4};
     }
 }
