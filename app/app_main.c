@@ -115,10 +115,11 @@ static int cmd_check(const char *path, double max_memory)
     printf("case        %s\n", c->name);
     if (c->description[0])
         printf("description %s\n", c->description);
-    printf("domain      x %g to %g %s, y %g to %g %s, x sides %s, y sides zero\n",
+    printf("domain      x %g to %g %s, y %g to %g %s, x sides %s, y sides %s\n",
            c->x0 / c->length_scale, c->x1 / c->length_scale, c->length_unit,
            c->y0 / c->length_scale, c->y1 / c->length_scale, c->length_unit,
-           c->x_periodic ? "periodic" : "zero");
+           c->x_periodic ? "periodic" : (c->x_open ? "open" : "zero"),
+           c->y_open ? "open" : "zero");
     printf("regions     %d (%d materials), speeds %d\n", c->nreg, c->nmat, c->nspeed);
     printf("mesh        %d x %d nodes, %ld unknowns\n", est.nx, est.ny, est.unknowns);
     printf("memory      about %.1f MiB estimated (limit %.1f GiB)\n",

@@ -378,7 +378,13 @@ static void add_mesh(cJSON *root, const app_report *r)
     add_num(mesh, "min_cell_y", hmin_y);
     add_num(mesh, "skin_cell_size", g->h_skin);
     add_num(mesh, "dominant_wavenumber", g->k_dominant);
-    J(cJSON_AddStringToObject(mesh, "x_boundary", g->x_periodic ? "periodic" : "zero"));
+    J(cJSON_AddStringToObject(mesh, "x_boundary",
+                              g->x_periodic ? "periodic" : (g->ex != NULL ? "open" : "zero")));
+    if (g->ex != NULL || g->ey != NULL) {
+        J(cJSON_AddStringToObject(mesh, "y_boundary", g->ey != NULL ? "open" : "zero"));
+        add_num(mesh, "mapped_cells_per_open_side",
+                g->ex != NULL ? (double)g->ix0 : (double)g->iy0);
+    }
     cJSON *solver = J(cJSON_AddObjectToObject(root, "solver"));
     J(cJSON_AddStringToObject(solver, "scheme",
                             "box integration, exponentially fitted convection (Scharfetter-Gummel)"));

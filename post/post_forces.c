@@ -218,14 +218,15 @@ static int total_current_force(const mesh_grid *g, const double *a, double *fx, 
     int ncx = g->ncx, i0 = g->x_periodic ? 0 : 1, i1 = ncx; /* unknown node columns */
     double nu0 = 1.0 / EDDY_MU0, sx = 0.0, sy = 0.0;
     for (int jn = g->jm0; jn <= g->jm1; jn++) {
-        double hb = g->y[jn] - g->y[jn - 1], ha = g->y[jn + 1] - g->y[jn];
+        double hb = mesh_edge_y(g, jn - 1), ha = mesh_edge_y(g, jn);
+        double wy = mesh_dual_y(g, jn - 1, jn);
         for (int i = i0; i < i1; i++) {
             int il = i > 0 ? i - 1 : ncx - 1, ir = i + 1; /* node ncx is node 0 when periodic */
-            double hl = g->x[il + 1] - g->x[il], hr = g->x[i + 1] - g->x[i];
+            double hl = mesh_edge_x(g, il), hr = mesh_edge_x(g, i);
             size_t row = nx * (size_t)jn;
             double ai = a[(size_t)i + row], aw = a[(size_t)il + row], ae = a[(size_t)ir + row];
             double as = a[(size_t)i + row - nx], an = a[(size_t)i + row + nx];
-            double wy = 0.5 * (ha + hb), wx = 0.5 * (hl + hr);
+            double wx = mesh_dual_x(g, il, i);
             double cur = nu0 * (wy * ((ai - aw) / hl + (ai - ae) / hr) +
                                 wx * ((ai - as) / hb + (ai - an) / ha));
             double dadx = (ae - aw) / (hl + hr);
@@ -278,13 +279,13 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
                 if (!g->moving[kr] || g->sigma[kr] == 0.0)
                     continue;
                 double sigma = g->sigma[kr], c = sigma * v, nu = g->nu[kr];
-                double hl = g->x[il + 1] - g->x[il], hr = g->x[ir + 1] - g->x[ir];
+                double hl = mesh_edge_x(g, il), hr = mesh_edge_x(g, ir);
                 size_t row = nx * (size_t)jn;
                 double ai = a[(size_t)i + row];
                 double aw = a[(size_t)il + row], ae = a[(size_t)ir + 1 + row];
                 double pr = fitted ? c * hr / nu : 0.0, pl = fitted ? c * hl / nu : 0.0;
                 double afr = face_value(ai, ae, pr), afl = face_value(aw, ai, pl);
-                double w = 0.5 * hy, area = w * 0.5 * (hl + hr);
+                double w = 0.5 * hy, area = w * mesh_dual_x(g, il, ir);
                 double cur = -c * w * (afr - afl); /* A per metre of depth */
                 double dadx = (ae - aw) / (hl + hr);
                 /* the mean of the two one-sided differences in y across the
@@ -345,7 +346,7 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
         double hy = g->y[j + 1] - g->y[j];
         if (g->moving[k0])
             sig_t += g->sigma[k0] * hy;
-        for (int i = 0; i < g->ncx; i++)
+        for (int i = g->ix0; i < g->ix1; i++) /* within the domain */
             if (g->moving[k0 + (size_t)i] && g->sigma[k0 + (size_t)i] > 0.0)
                 area += hy * (g->x[i + 1] - g->x[i]);
     }
