@@ -77,6 +77,21 @@ typedef struct {
     design_stop_result stop;      /* the vehicle's stop (has_stop) */
     double stop_table_change;   /* relative change of the distance on half tables */
     double stop_temperature_rise; /* K, NAN if no conductor mass */
+    char stop_note[512];        /* a vehicle without a stop (!has_stop): why */
+    /* damping (app_design.c) */
+    double damping;             /* N s/m^2 (per metre of depth, per period of a
+                                 * periodic domain): dF/dv at v = 0 from the static
+                                 * field (post_damping_coefficient; the reference's
+                                 * low-speed slope for a reference-only run); NAN
+                                 * if unknown */
+    design_linear_state linear_state; /* where the drag leaves F = c v by 5 % */
+    double linear_speed;        /* m/s, DESIGN_LINEAR_CROSSED only, else NAN */
+    char linear_note[256];      /* the rule, or why linear_speed is NAN */
+    int has_terminal;           /* 1: the vehicle falls under gravity */
+    double terminal_speed;      /* m/s, NAN when not bracketed by the sweep */
+    double terminal_linear;     /* m/s, (m g - extra_force) / (c depth repeat): the
+                                 * linear law's terminal speed, NAN if c is 0 */
+    char terminal_note[512];    /* how terminal_speed was found, or why it is NAN */
     int adapt_rounds;           /* adaptive sweep: refinement rounds done */
     char outdir[4096];          /* where the outputs went */
 } app_report;
@@ -111,7 +126,12 @@ int app_design_refine(const app_report *r, double *speeds, int max_new);
  * marks (app_run.c); the stop of
  * the case's "vehicle" (force = drag x depth x repeat, monotone cubic in
  * log-log, design_stop_compute), the change of its distance when half the
- * points are used, and the conductor's temperature rise.
+ * points are used, and the conductor's temperature rise; the speed up to
+ * which the drag stays within 5 % of damping x speed (design_linear_range);
+ * with "gravity" the terminal speed (design_terminal_speed on the drag x
+ * depth x repeat table against m g - extra_force) and the stop with the
+ * weight as driving force, or why either is undefined (terminal_note,
+ * stop_note).  r->damping must be set (NAN: no linear range).
  * Returns EDDY_OK, EDDY_ERR_INPUT (e.g. the stop's speeds outside the
  * sweep), EDDY_ERR_NOMEM.
  */

@@ -27,6 +27,7 @@ typedef struct {
     double *speed, *drag, *force_y, *loss; /* one allocation, 6 * npoint */
     double *rpm, *torque;                  /* NaN where the case is no disc */
     double peak_drag, peak_speed;
+    double damping, linear_speed, terminal_speed; /* result.json's, NaN if null/absent */
     int png_w, png_h;                      /* forces.png size, 0 if none */
     int axisymmetric;                      /* result.json's "geometry" is "axisymmetric":
                                             * forces of the whole ring (N), loss W */
@@ -40,6 +41,7 @@ typedef struct {
     const char *drag_title;     /* the overlay's axis title */
     const char *note;           /* the last line of summary.html */
     const char *csv_columns;    /* summary.csv's force and loss columns */
+    const char *damp_csv, *damp_json, *damp_html; /* the damping coefficient's unit */
 } summary_units;
 
 static void choose_units(const case_result *res, int n, summary_units *u)
@@ -54,7 +56,9 @@ static void choose_units(const case_result *res, int n, summary_units *u)
         *u = (summary_units){"N", "W", "drag on the whole ring (N)",
                              "Forces and losses of the whole ring (axisymmetric cases); the "
                              "same numbers are in summary.csv and summary.json.",
-                             "drag_force_N,force_y_N,loss_W,peak_drag_N"};
+                             "drag_force_N,force_y_N,loss_W,peak_drag_N",
+                             "damping_coefficient_N_s_per_m", "N s/m of the whole ring",
+                             "N s/m"};
     } else if (rz > 0) {
         *u = (summary_units){"N/m or N", "W/m or W", "drag (N/m planar, N axisymmetric)",
                              "Forces per metre of depth for planar cases (per period for a "
@@ -62,12 +66,19 @@ static void choose_units(const case_result *res, int n, summary_units *u)
                              "case's result.json names its geometry); the same numbers are in "
                              "summary.csv and summary.json.",
                              "drag_force_N_per_m_or_N,force_y_N_per_m_or_N,loss_W_per_m_or_W,"
-                             "peak_drag_N_per_m_or_N"};
+                             "peak_drag_N_per_m_or_N",
+                             "damping_coefficient_N_s_per_m2_or_N_s_per_m",
+                             "N s/m per m of depth (planar cases) or N s/m of the whole ring "
+                             "(axisymmetric cases)",
+                             "N s/m<sup>2</sup> or N s/m"};
     } else {
         *u = (summary_units){"N/m", "W/m", "drag per unit length (N/m)",
                              "Forces per metre of depth (per period for a periodic domain); the "
                              "same numbers are in summary.csv and summary.json.",
-                             "drag_force_N_per_m,force_y_N_per_m,loss_W_per_m,peak_drag_N_per_m"};
+                             "drag_force_N_per_m,force_y_N_per_m,loss_W_per_m,peak_drag_N_per_m",
+                             "damping_coefficient_N_s_per_m2",
+                             "N s/m per m of depth (per period for a periodic domain)",
+                             "N s/m<sup>2</sup>"};
     }
 }
 
@@ -105,6 +116,7 @@ static eddy_status load_result(const char *outdir, const app_batch_case *c, case
 {
     memset(r, 0, sizeof *r);
     r->peak_drag = r->peak_speed = NAN;
+    r->damping = r->linear_speed = r->terminal_speed = NAN;
     r->state = app_batch_disk_state(outdir, c, &r->seconds, r->error, sizeof r->error);
     if (r->state != APP_CASE_OK) {
         if (r->state == APP_CASE_NOT_RUN && c->invalid) { /* planned invalid, not yet recorded */
@@ -160,6 +172,9 @@ static eddy_status load_result(const char *outdir, const app_batch_case *c, case
         r->peak_drag = json_num(pk, "drag_force");
         r->peak_speed = json_num(pk, "speed");
     }
+    r->damping = json_num(root, "damping_coefficient");
+    r->linear_speed = json_num(root, "linear_up_to_speed");
+    r->terminal_speed = json_num(root, "terminal_speed");
     cJSON_Delete(root);
     return EDDY_OK;
 }
@@ -250,8 +265,9 @@ static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
         eddy_text_str(&b, ",");
         csv_field(&b, p->keys[k]);
     }
-    eddy_text_printf(&b, ",speed_m_per_s,%s,peak_drag_speed_m_per_s,status,error,seconds\n",
-                     u->csv_columns);
+    eddy_text_printf(&b, ",speed_m_per_s,%s,peak_drag_speed_m_per_s,%s,"
+                     "linear_up_to_speed_m_per_s,terminal_speed_m_per_s,status,error,seconds\n",
+                     u->csv_columns, u->damp_csv);
     for (int c = 0; c < p->ncase; c++) {
         const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
@@ -272,6 +288,9 @@ static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
             csv_num(&b, has ? r->loss[k] : NAN);
             csv_num(&b, r->peak_drag);
             csv_num(&b, r->peak_speed);
+            csv_num(&b, r->damping);
+            csv_num(&b, r->linear_speed);
+            csv_num(&b, r->terminal_speed);
             eddy_text_str(&b, ",");
             csv_field(&b, app_case_state_name(r->state));
             eddy_text_str(&b, ",");
@@ -297,6 +316,9 @@ static eddy_status write_summary_json(const char *outdir, const app_batch_plan *
          cJSON_AddStringToObject(units, "drag_force", u->force) != NULL &&
          cJSON_AddStringToObject(units, "force_y", u->force) != NULL &&
          cJSON_AddStringToObject(units, "loss", u->loss) != NULL &&
+         cJSON_AddStringToObject(units, "damping_coefficient", u->damp_json) != NULL &&
+         cJSON_AddStringToObject(units, "linear_up_to_speed", "m/s") != NULL &&
+         cJSON_AddStringToObject(units, "terminal_speed", "m/s") != NULL &&
          cJSON_AddStringToObject(units, "seconds", "s (wall time of the case)") != NULL;
     cJSON *cnt = ok ? cJSON_AddObjectToObject(root, "counts") : NULL;
     ok = cnt != NULL && cJSON_AddNumberToObject(cnt, "cases", n->cases) != NULL &&
@@ -327,6 +349,9 @@ static eddy_status write_summary_json(const char *outdir, const app_batch_plan *
                  json_add(o, "loss", json_num_or_null(has ? r->loss[k] : NAN)) &&
                  json_add(o, "peak_drag", json_num_or_null(r->peak_drag)) &&
                  json_add(o, "peak_drag_speed", json_num_or_null(r->peak_speed)) &&
+                 json_add(o, "damping_coefficient", json_num_or_null(r->damping)) &&
+                 json_add(o, "linear_up_to_speed", json_num_or_null(r->linear_speed)) &&
+                 json_add(o, "terminal_speed", json_num_or_null(r->terminal_speed)) &&
                  cJSON_AddStringToObject(o, "status", app_case_state_name(r->state)) != NULL &&
                  json_add(o, "error", r->error[0] ? cJSON_CreateString(r->error)
                                                   : cJSON_CreateNull()) &&
@@ -551,7 +576,10 @@ static void html_cases(eddy_text *b, const app_batch_plan *p, const case_result 
         eddy_text_str(b, "</th>");
     }
     eddy_text_printf(b, "<th>status</th><th>peak drag (%s)</th><th>at speed (m/s)</th>"
-                     "<th>seconds</th><th>error</th></tr></thead>\n<tbody>\n", u->force);
+                     "<th>damping coefficient (%s)</th><th>linear up to (m/s)"
+                     "</th><th>terminal speed (m/s)</th>"
+                     "<th>seconds</th><th>error</th></tr></thead>\n<tbody>\n", u->force,
+                     u->damp_html);
     for (int c = 0; c < p->ncase; c++) {
         const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
@@ -569,6 +597,9 @@ static void html_cases(eddy_text *b, const app_batch_plan *p, const case_result 
         html_status(b, r->state);
         html_num(b, r->peak_drag, "num");
         html_num(b, r->peak_speed, "num");
+        html_num(b, r->damping, "num");
+        html_num(b, r->linear_speed, "num");
+        html_num(b, r->terminal_speed, "num");
         html_num(b, r->seconds, "num");
         eddy_text_str(b, "<td class=\"err\">");
         html_text(b, r->error);

@@ -7,6 +7,7 @@
 #include "app/app.h"
 
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -148,6 +149,99 @@ static void report_peak(app_report *r, int m, const double *sp, const double *dr
     r->peak_at_end = below == 0 || above == 0;
 }
 
+/* Where the drag of the m positive speeds sp[] (drags dr[]) leaves the
+ * linear law r->damping x speed by DESIGN_LINEAR_TOL (design_linear_range). */
+static void report_linear_range(app_report *r, int m, const double *sp, const double *dr)
+{
+    r->linear_speed = NAN;
+    r->linear_state = DESIGN_LINEAR_STARTS_ABOVE;
+    if (m < 1 || !(r->damping > 0)) {
+        snprintf(r->linear_note, sizeof r->linear_note, "%s",
+                 m < 1 ? "no positive speed in the sweep"
+                       : "no damping coefficient (no field in the moving conductors)");
+        return;
+    }
+    if (design_linear_range(m, sp, dr, r->damping, DESIGN_LINEAR_TOL, &r->linear_speed,
+                            &r->linear_state, NULL) != EDDY_OK) {
+        snprintf(r->linear_note, sizeof r->linear_note, "the drags are not a usable table");
+        return;
+    }
+    switch (r->linear_state) {
+    case DESIGN_LINEAR_CROSSED:
+        snprintf(r->linear_note, sizeof r->linear_note,
+                 "first speed where drag / (damping_coefficient x speed) - 1 reaches 5 %% in "
+                 "magnitude, interpolated between the two sweep points around it (log of the "
+                 "deviation against log speed)");
+        break;
+    case DESIGN_LINEAR_NEVER_LEAVES:
+        snprintf(r->linear_note, sizeof r->linear_note,
+                 "the drag stays within 5 %% of damping_coefficient x speed up to the highest "
+                 "speed solved (%.6g m/s): the linear range extends at least that far",
+                 sp[m - 1]);
+        break;
+    case DESIGN_LINEAR_STARTS_ABOVE:
+        snprintf(r->linear_note, sizeof r->linear_note,
+                 "the drag at the lowest speed solved (%.6g m/s) already differs from "
+                 "damping_coefficient x speed by more than 5 %%: add lower speeds",
+                 sp[0]);
+        break;
+    }
+}
+
+/* The terminal speed of a load falling under weight (N) along the motion,
+ * against the whole brake's force table force[] (N) at the m positive
+ * speeds sp[]. */
+static void report_terminal(app_report *r, int m, const double *sp, const double *force,
+                            double weight)
+{
+    const mesh_vehicle *h = &r->c->vehicle;
+    double net = weight - h->extra_force, total_c = r->damping * h->depth * h->repeat;
+    r->has_terminal = 1;
+    r->terminal_speed = NAN;
+    r->terminal_linear = net > 0 && total_c > 0 ? net / total_c : NAN;
+    if (!(net > 0)) {
+        snprintf(r->terminal_note, sizeof r->terminal_note,
+                 "extra_force (%.6g N) is not less than the weight (%.6g N): a falling load "
+                 "does not keep moving, so there is no terminal speed",
+                 h->extra_force, weight);
+        return;
+    }
+    design_terminal_state st = DESIGN_TERMINAL_NONE;
+    eddy_error e = {0};
+    if (m < 2 || design_terminal_speed(m, sp, force, net, DESIGN_INTERP_LOGLOG,
+                                       &r->terminal_speed, &st, &e) != EDDY_OK) {
+        snprintf(r->terminal_note, sizeof r->terminal_note, "no terminal speed from this sweep: %.400s",
+                 m < 2 ? "fewer than two positive speeds" : e.msg);
+        return;
+    }
+    switch (st) {
+    case DESIGN_TERMINAL_FOUND:
+        snprintf(r->terminal_note, sizeof r->terminal_note,
+                 "where drag x depth x repeat + extra_force equals the weight m g (g = 9.80665 "
+                 "m/s^2): the lowest crossing on the swept drag curve, monotone cubic in log "
+                 "speed and log drag between the two points around it");
+        break;
+    case DESIGN_TERMINAL_BELOW_SWEEP:
+        snprintf(r->terminal_note, sizeof r->terminal_note,
+                 "not bracketed: the drag at the lowest speed solved (%.6g m/s) already exceeds "
+                 "the weight less extra_force (%.6g N); add lower speeds (the linear law gives "
+                 "terminal_speed_linear)", sp[0], net);
+        break;
+    case DESIGN_TERMINAL_ABOVE_SWEEP:
+        snprintf(r->terminal_note, sizeof r->terminal_note,
+                 "not bracketed: the drag stays below the weight less extra_force (%.6g N) up "
+                 "to the highest speed solved (%.6g m/s) and is still rising; add higher speeds",
+                 net, sp[m - 1]);
+        break;
+    case DESIGN_TERMINAL_NONE:
+        snprintf(r->terminal_note, sizeof r->terminal_note,
+                 "none: the drag peaks within the sweep below the weight less extra_force "
+                 "(%.6g N), so the brake cannot hold the load at any speed and it keeps "
+                 "speeding up", net);
+        break;
+    }
+}
+
 eddy_status app_design_evaluate(app_report *r, eddy_error *err)
 {
     const mesh_case *c = r->c;
@@ -189,9 +283,12 @@ eddy_status app_design_evaluate(app_report *r, eddy_error *err)
             m++;
         }
     report_peak(r, m, sp, dr);
+    report_linear_range(r, m, sp, dr);
     /* the stop of a load */
     r->has_stop = 0;
+    r->has_terminal = 0;
     r->stop_temperature_rise = NAN;
+    r->stop_note[0] = '\0';
     eddy_status s = EDDY_OK;
     if (c->vehicle.present) {
         const mesh_vehicle *h = &c->vehicle;
@@ -202,10 +299,21 @@ eddy_status app_design_evaluate(app_report *r, eddy_error *err)
         }
         for (int k = 0; k < m; k++)
             force[k] = fmax(dr[k], 0.0) * h->depth * h->repeat;
+        double weight = h->gravity ? h->mass * DESIGN_STANDARD_GRAVITY : 0.0;
+        if (h->gravity)
+            report_terminal(r, m, sp, force, weight);
+        if (!h->has_from_speed) {
+            snprintf(r->stop_note, sizeof r->stop_note,
+                     "no vehicle.from_speed: a falling load is described by its terminal speed");
+            free(force);
+            free(sp);
+            return EDDY_OK;
+        }
         design_stop_input in;
         design_stop_defaults(&in);
         in.mass = h->mass;
         in.extra_force = h->extra_force;
+        in.driving_force = weight;
         in.from_speed = h->from_speed;
         in.to_speed = h->to_speed;
         in.interp = DESIGN_INTERP_LOGLOG;
@@ -214,8 +322,14 @@ eddy_status app_design_evaluate(app_report *r, eddy_error *err)
             in.peak_speed = r->peak_speed;
             in.peak_force = fmax(r->peak_drag, 0.0) * h->depth * h->repeat;
         }
-        s = design_stop_compute(m, sp, force, &in, &r->stop, err);
-        if (s == EDDY_OK) {
+        eddy_error stop_err = {0};
+        s = design_stop_compute(m, sp, force, &in, &r->stop, &stop_err);
+        if (s == EDDY_ERR_NOT_APPLICABLE) { /* a falling load that never slows to to_speed */
+            snprintf(r->stop_note, sizeof r->stop_note, "%.500s", stop_err.msg);
+            s = EDDY_OK;
+        } else if (s != EDDY_OK && err != NULL) {
+            *err = stop_err;
+        } else if (s == EDDY_OK) {
             r->has_stop = 1;
             double dt = 0.0;
             if (design_stop_table_change(m, sp, force, &in, &dt, NULL, NULL) != EDDY_OK)

@@ -115,10 +115,11 @@ static int cmd_check(const char *path, double max_memory)
     printf("case        %s\n", c->name);
     if (c->description[0])
         printf("description %s\n", c->description);
-    printf("domain      x %g to %g %s, y %g to %g %s, x sides %s, y sides zero\n",
+    printf("domain      x %g to %g %s, y %g to %g %s, x sides %s, y sides %s\n",
            c->x0 / c->length_scale, c->x1 / c->length_scale, c->length_unit,
            c->y0 / c->length_scale, c->y1 / c->length_scale, c->length_unit,
-           c->x_periodic ? "periodic" : "zero");
+           c->x_periodic ? "periodic" : (c->x_open ? "open" : "zero"),
+           c->y_open ? "open" : "zero");
     printf("regions     %d (%d materials), speeds %d\n", c->nreg, c->nmat, c->nspeed);
     printf("mesh        %d x %d nodes, %ld unknowns\n", est.nx, est.ny, est.unknowns);
     printf("memory      about %.1f MiB estimated (limit %.1f GiB)\n",
@@ -179,11 +180,11 @@ static void print_table(const app_report *r)
     int ref = r->ref_drag != NULL && r->g != NULL;
     int disc = c->disc.present, end = c->end_effect.present;
     if (c->geometry == MESH_AXISYMMETRIC) /* the whole ring; no net radial force */
-        printf("%12s %14s %14s %14s %14s %10s", "speed m/s", "drag N", "radial N", "loss W",
-               "stress drag", "Rm");
+        printf("%12s %14s %14s %14s %14s %10s %14s", "speed m/s", "drag N", "radial N",
+               "loss W", "stress drag", "Rm", "drag/v N s/m");
     else
-        printf("%12s %14s %14s %14s %14s %10s", "speed m/s", "drag N/m", "normal N/m",
-               "loss W/m", r->g != NULL ? "stress drag" : "drag (ref)", "Rm");
+        printf("%12s %14s %14s %14s %14s %10s %14s", "speed m/s", "drag N/m", "normal N/m",
+               "loss W/m", r->g != NULL ? "stress drag" : "drag (ref)", "Rm", "drag/v N s/m2");
     if (disc)
         printf(" %10s %12s %12s", "rpm", "torque N m", "power W");
     if (end)
@@ -193,9 +194,10 @@ static void print_table(const app_report *r)
     printf("\n");
     for (int k = 0; k < r->npoint; k++) {
         const post_forces *f = &r->f[k];
-        printf("%12.5g %14.6g %14.6g %14.6g %14.6g %10.4g", unsigned_zero(f->speed),
+        printf("%12.5g %14.6g %14.6g %14.6g %14.6g %10.4g %14.6g", unsigned_zero(f->speed),
                unsigned_zero(f->drag), unsigned_zero(f->force_y), unsigned_zero(f->loss),
-               unsigned_zero(f->drag_stress), unsigned_zero(f->magnetic_reynolds));
+               unsigned_zero(f->drag_stress), unsigned_zero(f->magnetic_reynolds),
+               unsigned_zero(f->drag_per_speed));
         if (disc)
             printf(" %10.5g %12.6g %12.6g", unsigned_zero(f->rpm), unsigned_zero(f->torque),
                    unsigned_zero(f->power));
@@ -205,6 +207,42 @@ static void print_table(const app_report *r)
             printf(" %18.6g", unsigned_zero(r->ref_drag[k]));
         printf("\n");
     }
+}
+
+/* The damping coefficient, its linear range, a falling load's terminal
+ * speed and a stop that cannot happen, under the table. */
+static void print_damping(const app_report *r)
+{
+    const mesh_case *c = r->c;
+    if (c->geometry == MESH_AXISYMMETRIC)
+        printf("damping coefficient %.6g N s/m of the whole ring%s (low-speed slope of the "
+               "drag)\n", unsigned_zero(r->damping), c->x_periodic ? ", per period" : "");
+    else
+        printf("damping coefficient %.6g N s/m per m of depth%s (low-speed slope of the drag)\n",
+               unsigned_zero(r->damping), c->x_periodic ? ", per period" : "");
+    if (isfinite(r->linear_speed))
+        printf("linear: the drag stays within 5 %% of c v up to %.4g m/s\n", r->linear_speed);
+    else
+        printf("linear range: %s\n", r->linear_note);
+    if (c->disc.present) {
+        double rr = c->disc.mean_radius;
+        double per_omega = r->damping * c->disc.active_length * c->disc.periods * rr * rr;
+        printf("disc damping %.6g N m s/rad = %.6g N m per rpm (whole disc, mean radius)\n",
+               unsigned_zero(per_omega), unsigned_zero(per_omega * 2.0 * EDDY_PI / 60.0));
+    }
+    if (c->vehicle.present)
+        printf("vehicle damping coefficient %.6g N s/m (c x %s)\n",
+               unsigned_zero(r->damping * c->vehicle.depth * c->vehicle.repeat),
+               c->geometry == MESH_AXISYMMETRIC ? "repeat" : "depth x repeat");
+    if (r->has_terminal) {
+        if (isfinite(r->terminal_speed))
+            printf("terminal speed %.5g m/s falling under m g = %.6g N\n", r->terminal_speed,
+                   c->vehicle.mass * DESIGN_STANDARD_GRAVITY);
+        else
+            printf("terminal speed: %s\n", r->terminal_note);
+    }
+    if (c->vehicle.present && !r->has_stop)
+        printf("stop: none (%s)\n", r->stop_note);
 }
 
 static int cmd_solve(const char *path, int reference_only, const app_run_opts *o, int quiet)
@@ -224,6 +262,7 @@ static int cmd_solve(const char *path, int reference_only, const app_run_opts *o
     }
     if (!quiet) {
         print_table(r);
+        print_damping(r);
         if (r->ref_state == APP_REF_NOT_APPLICABLE && !reference_only)
             printf("reference: the layered Fourier reference does not fit this case (%s)\n",
                    r->ref_note);

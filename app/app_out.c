@@ -248,13 +248,11 @@ eddy_status app_out_force_plot(app_report *r, eddy_error *err)
     if (sp == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
     double *dr = sp + n, *fy = sp + 2 * n;
-    double slope = NAN;
+    double slope = r->damping; /* the dashed asymptote F = c v */
     for (int q = 0; q < n; q++) {
         sp[q] = r->f[q].speed;
         dr[q] = r->f[q].drag;
         fy[q] = r->f[q].force_y;
-        if (r->f[q].speed != 0.0 && isnan(slope))
-            slope = r->f[q].low_speed_drag / fabs(r->f[q].speed);
     }
     post_plot_opts po;
     post_plot_opts_defaults(&po);
@@ -306,8 +304,9 @@ eddy_status app_out_stop(app_report *r, const app_run_opts *o, eddy_error *err)
     post_xy_opts xo;
     post_xy_opts_defaults(&xo);
     char title[200];
-    snprintf(title, sizeof title, "%s: stop from %.4g to %.4g m/s", r->c->name,
-             r->c->vehicle.from_speed, r->c->vehicle.to_speed);
+    snprintf(title, sizeof title, "%s: %s from %.4g to %.4g m/s", r->c->name,
+             r->c->vehicle.gravity ? "falling load slowed" : "stop", r->c->vehicle.from_speed,
+             r->c->vehicle.to_speed);
     xo.title = title;
     xo.case_name = r->c->name;
     xo.version = EDDY_VERSION;

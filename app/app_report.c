@@ -99,10 +99,82 @@ static void add_reference(cJSON *root, const app_report *r)
     }
 }
 
+/* The damping coefficient, its linear range, and what follows from it for
+ * a disc, an end-corrected plate and a vehicle (falling or not). */
+static void add_damping(cJSON *root, const app_report *r)
+{
+    const mesh_case *c = r->c;
+    add_num(root, "damping_coefficient", r->damping);
+    int rz = c->geometry == MESH_AXISYMMETRIC;
+    J(cJSON_AddStringToObject(root, "damping_coefficient_unit",
+                              rz ? (c->x_periodic ? "N s/m of the whole ring, per period"
+                                                  : "N s/m of the whole ring")
+                                 : (c->x_periodic ? "N s/m per m of depth, per period"
+                                                  : "N s/m per m of depth")));
+    J(cJSON_AddStringToObject(
+        root, "damping_coefficient_note",
+        rz  ? "low-speed slope dF/dv: sigma times the integral of B_r^2 over the volume of the "
+              "moving conductors, static (v = 0) field (first-order induced current J_phi = "
+              "sigma v B_r); low_speed_drag = damping_coefficient x speed"
+        : r->g != NULL
+            ? "low-speed slope dF/dv: sigma times the integral of B_y^2 of the static (v = 0) "
+              "field over the moving conductors (first-order induced current J_z = sigma v "
+              "B_y); low_speed_drag = damping_coefficient x speed"
+            : "low-speed slope dF/dv of the layered reference (its drag at magnetic Reynolds "
+              "number 1e-4 over the speed)"));
+    add_num(root, "linear_up_to_speed", r->linear_speed);
+    J(cJSON_AddStringToObject(root, "linear_up_to_speed_note", r->linear_note));
+    if (c->end_effect.present)
+        add_num(root, "damping_coefficient_end_corrected", r->damping * r->end_factor);
+    if (c->disc.present) {
+        /* torque T = drag L N r at v = omega r: dT/domega = c L N r^2 */
+        double rr = c->disc.mean_radius;
+        double per_omega = r->damping * c->disc.active_length * c->disc.periods * rr * rr;
+        cJSON *d = J(cJSON_AddObjectToObject(root, "disc_damping"));
+        add_num(d, "torque_per_angular_speed", per_omega);
+        J(cJSON_AddStringToObject(d, "torque_per_angular_speed_unit", "N m s/rad"));
+        add_num(d, "torque_per_rpm", per_omega * 2.0 * EDDY_PI / 60.0);
+        J(cJSON_AddStringToObject(d, "torque_per_rpm_unit", "N m/rpm"));
+        add_num(d, "linear_up_to_rpm", isfinite(r->linear_speed)
+                                           ? design_disc_rpm(rr, r->linear_speed)
+                                           : NAN);
+        J(cJSON_AddStringToObject(d, "note",
+                                  "the whole disc at low speed, from the same mean-radius model "
+                                  "as its torque: damping_coefficient x active_length x periods "
+                                  "x mean_radius^2"));
+    }
+    if (c->vehicle.present) {
+        const mesh_vehicle *h = &c->vehicle;
+        cJSON *v = J(cJSON_AddObjectToObject(root, "vehicle"));
+        add_num(v, "damping_coefficient", r->damping * h->depth * h->repeat);
+        J(cJSON_AddStringToObject(v, "damping_coefficient_unit", "N s/m"));
+        J(cJSON_AddBoolToObject(v, "gravity", h->gravity));
+        if (h->gravity) {
+            add_num(v, "standard_gravity", DESIGN_STANDARD_GRAVITY);
+            add_num(v, "weight", h->mass * DESIGN_STANDARD_GRAVITY);
+            add_num(v, "terminal_speed_linear", r->terminal_linear);
+            J(cJSON_AddStringToObject(v, "terminal_speed_linear_note",
+                                      "(m g - extra_force) / vehicle damping_coefficient: the "
+                                      "linear law's terminal speed, to be trusted below "
+                                      "linear_up_to_speed"));
+        }
+        J(cJSON_AddStringToObject(v, "note",
+                                  rz ? "vehicle damping_coefficient = damping_coefficient x "
+                                       "repeat, every damper together"
+                                     : "vehicle damping_coefficient = damping_coefficient x depth x "
+                                       "repeat, the whole brake"));
+    }
+    if (r->has_terminal) {
+        add_num(root, "terminal_speed", r->terminal_speed);
+        J(cJSON_AddStringToObject(root, "terminal_speed_note", r->terminal_note));
+    }
+}
+
 /* Brake-design answers: peak, stop, end effect, temperature, disc. */
 static void add_design(cJSON *root, const app_report *r)
 {
     const mesh_case *c = r->c;
+    add_damping(root, r);
     if (r->has_peak) {
         cJSON *pk = J(cJSON_AddObjectToObject(root, "peak"));
         add_num(pk, "drag_force", r->peak_drag);
@@ -168,24 +240,46 @@ static void add_design(cJSON *root, const app_report *r)
         add_num(s, "kinetic_energy", st->kinetic_energy);
         add_num(s, "energy_in_conductor", st->brake_energy);
         add_num(s, "extra_force_work", st->extra_work);
+        if (c->vehicle.gravity)
+            add_num(s, "gravity_work", st->driving_work);
         add_num(s, "conductor_temperature_rise", r->stop_temperature_rise);
         add_num(s, "distance_change_on_half_the_points", r->stop_table_change);
         J(cJSON_AddBoolToObject(s, "enough_points",
                               app_design_stop_enough_points(r->stop_table_change)));
         J(cJSON_AddStringToObject(
             s, "note",
-            c->geometry == MESH_AXISYMMETRIC ?
-            "m dv/dt = -(drag x repeat + extra_force), drag of the whole ring interpolated by a "
-            "monotone cubic (Fritsch and Carlson 1980) in log speed and log drag, linear below "
-            "the lowest speed. An eddy-current damper alone never brings a load to rest: its "
-            "drag falls to zero with speed. Engineering estimate; dampers in systems that carry "
-            "or protect people must be designed and verified to the applicable codes by "
-            "qualified engineers." :
-            "m dv/dt = -(drag x depth x repeat + extra_force), drag interpolated by a monotone "
-            "cubic (Fritsch and Carlson 1980) in log speed and log drag, linear below the "
-            "lowest speed. An eddy-current brake alone never brings a load to rest: its drag "
-            "falls to zero with speed. Engineering estimate; brakes that carry or stop people "
-            "must be designed and verified to the applicable codes by qualified engineers."));
+            c->geometry == MESH_AXISYMMETRIC && c->vehicle.gravity
+                ? "m dv/dt = m g - (drag x repeat + extra_force) (the load falls along the "
+                  "motion), drag of the whole ring interpolated by a monotone cubic (Fritsch and "
+                  "Carlson 1980) in log speed and log drag, linear below the lowest speed; energy "
+                  "in the conductor + extra_force_work = kinetic_energy + gravity_work. A falling "
+                  "load only slows towards its terminal speed. Engineering estimate; dampers in "
+                  "systems that carry or protect people must be designed and verified to the "
+                  "applicable codes by qualified engineers."
+            : c->geometry == MESH_AXISYMMETRIC
+                ? "m dv/dt = -(drag x repeat + extra_force), drag of the whole ring interpolated "
+                  "by a monotone cubic (Fritsch and Carlson 1980) in log speed and log drag, "
+                  "linear below the lowest speed. An eddy-current damper alone never brings a "
+                  "load to rest: its drag falls to zero with speed. Engineering estimate; dampers "
+                  "in systems that carry or protect people must be designed and verified to the "
+                  "applicable codes by qualified engineers."
+            : c->vehicle.gravity
+                ? "m dv/dt = m g - (drag x depth x repeat + extra_force) (the load falls along "
+                  "the motion), drag interpolated by a monotone cubic (Fritsch and Carlson 1980) "
+                  "in log speed and log drag, linear below the lowest speed; energy in the "
+                  "conductor + extra_force_work = kinetic_energy + gravity_work. A falling load "
+                  "only slows towards its terminal speed. Engineering estimate; brakes that "
+                  "carry or stop people must be designed and verified to the applicable codes "
+                  "by qualified engineers."
+                : "m dv/dt = -(drag x depth x repeat + extra_force), drag interpolated by a "
+                  "monotone cubic (Fritsch and Carlson 1980) in log speed and log drag, linear "
+                  "below the lowest speed. An eddy-current brake alone never brings a load to "
+                  "rest: its drag falls to zero with speed. Engineering estimate; brakes that "
+                  "carry or stop people must be designed and verified to the applicable codes "
+                  "by qualified engineers."));
+    } else if (c->vehicle.present) {
+        J(cJSON_AddNullToObject(root, "stopping"));
+        J(cJSON_AddStringToObject(root, "stopping_note", r->stop_note));
     }
 }
 
@@ -214,6 +308,8 @@ static cJSON *build_json(const app_report *r)
         J(cJSON_AddStringToObject(units, "loss", "W/m"));
     }
     J(cJSON_AddStringToObject(units, "current_density", "A/m^2"));
+    J(cJSON_AddStringToObject(units, "drag_per_speed",
+                              rz ? "N s/m (N per m/s, the whole ring)" : "N s/m^2 (N/m per m/s)"));
     J(cJSON_AddStringToObject(root, "method", r->method != NULL ? r->method : ""));
     if (g != NULL)
         add_mesh(root, r);
@@ -240,6 +336,7 @@ static cJSON *build_json(const app_report *r)
         add_num(p, "force_y_stress", f->nodal_ok ? f->nodal_y : f->stress_y);
         add_num(p, "loss", f->loss);
         add_num(p, "low_speed_drag", f->low_speed_drag);
+        add_num(p, "drag_per_speed", f->drag_per_speed);
         add_num(p, "magnetic_reynolds", f->magnetic_reynolds);
         if (g != NULL)
             add_num(p, "magnetic_reynolds_wavelength", f->magnetic_reynolds_wave);
@@ -330,7 +427,12 @@ static void add_mesh(cJSON *root, const app_report *r)
     add_num(mesh, "skin_cell_size", g->h_skin);
     add_num(mesh, "dominant_wavenumber", g->k_dominant);
     J(cJSON_AddStringToObject(mesh, g->geometry == MESH_AXISYMMETRIC ? "z_boundary" : "x_boundary",
-                              g->x_periodic ? "periodic" : "zero"));
+                              g->x_periodic ? "periodic" : (g->ex != NULL ? "open" : "zero")));
+    if (g->ex != NULL || g->ey != NULL) {
+        J(cJSON_AddStringToObject(mesh, "y_boundary", g->ey != NULL ? "open" : "zero"));
+        add_num(mesh, "mapped_cells_per_open_side",
+                g->ex != NULL ? (double)g->ix0 : (double)g->iy0);
+    }
     cJSON *solver = J(cJSON_AddObjectToObject(root, "solver"));
     J(cJSON_AddStringToObject(solver, "scheme",
                             "box integration, exponentially fitted convection (Scharfetter-Gummel)"));
@@ -353,7 +455,8 @@ static void csv_num(eddy_text *b, double v)
 }
 
 /* forces.csv: the columns every case has, then what the case asked for: a
- * disc's rpm, torque and power, the end-corrected drag, the reference. */
+ * disc's rpm, torque and power, the end-corrected drag, the reference; then
+ * drag / speed and the deviation from the linear law c v. */
 static eddy_status write_csv(const char *dir, const app_report *r, eddy_error *err)
 {
     const mesh_case *c = r->c;
@@ -373,7 +476,10 @@ static eddy_status write_csv(const char *dir, const app_report *r, eddy_error *e
         eddy_text_str(&b, ",drag_force_end_corrected_N_per_m");
     if (ref)
         eddy_text_str(&b, ",reference_drag_N_per_m,reference_force_y_N_per_m");
-    eddy_text_str(&b, "\n");
+    /* last, so that the columns before keep their places */
+    eddy_text_str(&b, c->geometry == MESH_AXISYMMETRIC
+                          ? ",drag_per_speed_N_s_per_m,deviation_from_linear\n"
+                          : ",drag_per_speed_N_s_per_m2,deviation_from_linear\n");
     for (int k = 0; k < r->npoint; k++) {
         const post_forces *f = &r->f[k];
         eddy_text_printf(&b, "%.10g", f->speed == 0.0 ? 0.0 : f->speed);
@@ -395,6 +501,8 @@ static eddy_status write_csv(const char *dir, const app_report *r, eddy_error *e
             csv_num(&b, r->ref_drag[k]);
             csv_num(&b, r->ref_force_y[k]);
         }
+        csv_num(&b, f->drag_per_speed);
+        csv_num(&b, f->low_speed_drag > 0 ? f->drag / f->low_speed_drag - 1.0 : NAN);
         eddy_text_str(&b, "\n");
     }
     if (b.oom) {

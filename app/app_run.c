@@ -89,6 +89,7 @@ static eddy_status add_reference(app_report *r, int fill_forces, eddy_error *err
             return s;
         }
         slope = -q.force_x / v_small;
+        r->damping = slope;
     }
     for (int k = 0; k < r->npoint; k++) {
         double v = r->c->speeds[k], sgn = v > 0 ? 1.0 : (v < 0 ? -1.0 : 0.0);
@@ -123,6 +124,7 @@ static eddy_status add_reference(app_report *r, int fill_forces, eddy_error *err
             f->drag_stress = f->drag;
             f->loss = q.loss;
             f->low_speed_drag = slope * fabs(v);
+            f->drag_per_speed = v != 0.0 ? f->drag / fabs(v) : NAN;
             f->magnetic_reynolds = EDDY_MU0 * st * fabs(v);
             f->magnetic_reynolds_wave = NAN;
             f->j_peak = NAN;
@@ -160,7 +162,7 @@ static eddy_status unit_mu_magnets_offset(app_report *r, sol_system *sys, double
         if (g->brx[k] != 0.0 || g->bry[k] != 0.0)
             g->nu[k] = nu0;
     eddy_status s = sol_solve(sys, 0.0, a, NULL, err);
-    double slope1 = s == EDDY_OK ? post_lowspeed_slope(g, a) : NAN;
+    double slope1 = s == EDDY_OK ? post_damping_coefficient(g, a, NULL) : NAN;
     memcpy(g->nu, nu, nc * sizeof *nu);
     free(nu);
     if (s == EDDY_OK)
@@ -186,6 +188,7 @@ static eddy_status prepare(const char *case_path, const app_run_opts **o,
     if (r == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
     r->ref_mu1_offset = NAN;
+    r->damping = r->linear_speed = r->terminal_speed = r->terminal_linear = NAN;
     eddy_status s = mesh_case_load(case_path, &r->c, err);
     if (s != EDDY_OK) {
         free(r);
@@ -416,16 +419,18 @@ eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_repo
             s = sol_solve_newton(sys, w0, 0.0, a, 0, NULL, o->max_newton, NULL, &info, err);
         sol_work_free(w0);
         if (s == EDDY_OK) {
-            sw.slope = post_lowspeed_slope(r->g, a);
+            sw.slope = post_damping_coefficient(r->g, a, NULL);
             sw.a_static = a;
         }
     } else if (s == EDDY_OK) { /* the static field, for the low-speed limit */
         s = sol_solve(sys, 0.0, a, &info, err);
         if (s == EDDY_OK)
-            sw.slope = post_lowspeed_slope(r->g, a);
+            sw.slope = post_damping_coefficient(r->g, a, NULL);
         if (s == EDDY_OK && o->reference)
             s = unit_mu_magnets_offset(r, sys, a, sw.slope, err);
     }
+    if (s == EDDY_OK)
+        r->damping = sw.slope; /* the damping coefficient, N s/m^2 */
     if (s == EDDY_OK)
         s = run_sweep(&sw, 0, nn, err);
     /* adaptive sweep: add speeds where the curve is not yet resolved */

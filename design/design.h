@@ -30,6 +30,8 @@
  *   5. Finite plate width: the end-effect factor.
  *   6. Disc brakes: rpm, torque, power.
  *   7. The drag peak of a sampled curve: the project's one peak rule.
+ *   8. Damping: the linear range of a drag curve and the terminal speed of
+ *      a falling load.
  */
 
 /* Standard acceleration of gravity, m/s^2 (3rd CGPM 1901; ISO 80000-3). */
@@ -153,6 +155,11 @@ typedef struct {
     double extra_force; /* N, >= 0: constant retarding force added to the
                            brake (friction, a slope's weight component);
                            its work is not dissipated in the conductor       */
+    double driving_force; /* N, >= 0: constant force along the motion (the
+                           weight m g of a falling load): the net retarding
+                           force is F(v) + extra_force - driving_force, and it
+                           must stay > 0 over [to_speed, from_speed], else the
+                           load never slows to to_speed (EDDY_ERR_NOT_APPLICABLE) */
     double from_speed;  /* m/s, v0: 0 < v0 <= highest tabulated speed         */
     double to_speed;    /* m/s, v1: 0 < v1 < v0; v1 = 0 only if extra_force > 0 */
     double rel_tol;     /* relative accuracy of the quadrature; 0: 1e-9;
@@ -169,7 +176,7 @@ typedef struct {
     double peak_speed, peak_force;
 } design_stop_input;
 
-/* Fill *in with: mass 1 kg, extra_force 0, from_speed and to_speed 0 (the
+/* Fill *in with: mass 1 kg, extra_force 0, driving_force 0, from_speed and to_speed 0 (the
  * caller must set them), rel_tol 0 (1e-9), interp DESIGN_INTERP_LIN, n_samples 0. */
 void design_stop_defaults(design_stop_input *in);
 
@@ -185,6 +192,9 @@ typedef struct {
     double brake_energy;    /* J, dissipated in the conductor: integral F dx,
                                computed as integral m v F / F_tot dv            */
     double extra_work;      /* J, extra_force * distance                          */
+    double driving_work;    /* J, driving_force * distance (work put in, e.g. by
+                               gravity): brake_energy + extra_work =
+                               kinetic_energy + driving_work                      */
     int n_samples;          /* length of the arrays below (0: none)               */
     double *s_speed;        /* m/s, v0 down to v1, equal steps in speed           */
     double *s_distance;     /* m, travelled since v0                              */
@@ -193,7 +203,8 @@ typedef struct {
 } design_stop_result;
 
 /*
- * Stop a mass m from v0 to v1 under m dv/dt = -(F(v) + F_extra), with F the
+ * Stop a mass m from v0 to v1 under m dv/dt = -(F(v) + F_extra - F_drive)
+ * (F_drive = in->driving_force, 0 unless a weight pulls along the motion), with F the
  * force curve of the table (section 2: monotone cubic as in->interp says,
  * linear below the lowest tabulated speed).  With dx = v dt:
  *   x = integral m v dv / F_tot,  t = integral m dv / F_tot,
@@ -223,9 +234,17 @@ typedef struct {
  *   n, speed[n], force[n]  the table (N, m/s; see design_force_curve_build).
  *   in                     the stop (see design_stop_input).
  *   res                    output; on error it holds no allocation.
- * Returns EDDY_OK, EDDY_ERR_INPUT (message names the problem), EDDY_ERR_NOMEM
- * or EDDY_ERR_NUMERIC (non-finite result, or the quadrature did not reach
- * rel_tol within 60 bisections).
+ * With a driving force the net force F_tot = F + F_extra - F_drive must be
+ * > 0 at v1, at v0 and at every table speed between them (the interpolant
+ * is monotone on each interval, so that is > 0 on all of [v1, v0]); else
+ * the load approaches a terminal speed at or above v1 and never reaches v1
+ * (or speeds up from v0), and the stop is undefined: EDDY_ERR_NOT_APPLICABLE
+ * with the speed where the net force fails.  v1 = 0 then needs F_extra >
+ * F_drive.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (message names the problem),
+ * EDDY_ERR_NOT_APPLICABLE (see above), EDDY_ERR_NOMEM or EDDY_ERR_NUMERIC
+ * (non-finite result, or the quadrature did not reach rel_tol within 60
+ * bisections).
  */
 eddy_status design_stop_compute(int n, const double *speed, const double *force,
                               const design_stop_input *in, design_stop_result *res,
@@ -433,5 +452,78 @@ double design_brake_power(double force, double speed);
  */
 eddy_status design_peak(int n, const double *speed, const double *drag, int log_speed,
                         double *v_peak, double *f_peak, int *refined, eddy_error *err);
+
+/* ------------------------------------------------------------------------ */
+/* 8. Damping: linear range and terminal speed (design_damp.c)               */
+/* ------------------------------------------------------------------------ */
+
+/* The deviation from the linear law F = c v that still counts as linear
+ * (5 %, the figure of the result's "linear_up_to_speed"). */
+#define DESIGN_LINEAR_TOL 0.05
+
+/* Where a sampled drag curve leaves the linear law. */
+typedef enum {
+    DESIGN_LINEAR_CROSSED = 0,  /* *v_lin is the interpolated first crossing       */
+    DESIGN_LINEAR_NEVER_LEAVES, /* every sample lies within tol: linear at least up
+                                 * to the highest speed (*v_lin NAN)               */
+    DESIGN_LINEAR_STARTS_ABOVE  /* the lowest sample already deviates by more than
+                                 * tol: the crossing lies below the sweep (NAN)    */
+} design_linear_state;
+
+/*
+ * The speed up to which a drag curve stays within tol of the linear law
+ * drag = c v (c the damping coefficient from the static field).
+ * With e_k = drag_k / (c v_k) - 1 at the samples, k the first sample with
+ * |e_k| > tol: the crossing |e| = tol lies between v_{k-1} and v_k and is
+ * interpolated there, with ln |e| linear in ln v when e_{k-1} and e_k have
+ * one sign and e_{k-1} != 0 (exact for the leading low-speed deviation, a
+ * power of v: -(v/w)^2 for the thin-sheet drag of Reitz 1970), otherwise
+ * with e linear in ln v.  Later samples are not looked at: the answer is
+ * the first crossing.
+ *   n          number of samples, >= 1.
+ *   speed[n]   m/s, finite, > 0, strictly increasing.
+ *   drag[n]    finite, the unit of c times m/s (N/m from the solver).
+ *   c          damping coefficient, finite and > 0 (N s/m^2 from the solver).
+ *   tol        relative deviation, 0 < tol < 1 (DESIGN_LINEAR_TOL).
+ * Outputs: *v_lin (m/s; NAN unless DESIGN_LINEAR_CROSSED), *state.
+ * Returns EDDY_OK or EDDY_ERR_INPUT (a bad argument; outputs unchanged).
+ */
+eddy_status design_linear_range(int n, const double *speed, const double *drag, double c,
+                                double tol, double *v_lin, design_linear_state *state,
+                                eddy_error *err);
+
+/* Where a load that falls under a constant weight settles. */
+typedef enum {
+    DESIGN_TERMINAL_FOUND = 0,  /* *v_t: the crossing, interpolated             */
+    DESIGN_TERMINAL_BELOW_SWEEP, /* the drag at the lowest speed already exceeds
+                                  * the weight: the crossing lies below it       */
+    DESIGN_TERMINAL_ABOVE_SWEEP, /* every drag is below the weight and the drag
+                                  * is largest at the highest speed: the crossing
+                                  * may lie above the sweep                      */
+    DESIGN_TERMINAL_NONE         /* the drag peaks inside the sweep below the
+                                  * weight: there is no terminal speed, the load
+                                  * keeps speeding up                            */
+} design_terminal_state;
+
+/*
+ * Terminal speed of a load pulled along the motion by a constant force W
+ * (its weight m g less any constant retarding force): the lowest speed at
+ * which the braking force F(v) of the table reaches W, where m dv/dt =
+ * W - F(v) has its stable rest point (below it F < W and the load speeds
+ * up, just above it F > W and it slows down).  k is the first sample with
+ * force[k] >= W; the root of F(v) = W on [v_{k-1}, v_k] is found by
+ * bisection on the force curve of the table (section 2, interpolation
+ * interp, the one the stop uses), which is monotone on the interval, so
+ * the root is unique.
+ *   n, speed[n], force[n]  the table, as design_force_curve_build (N, m/s;
+ *                          forces > 0 for DESIGN_INTERP_LOGLOG).
+ *   weight                 W, N, finite and > 0.
+ * Outputs: *v_t (m/s; NAN unless DESIGN_TERMINAL_FOUND), *state.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (bad table or weight; outputs unchanged),
+ * EDDY_ERR_NOMEM.
+ */
+eddy_status design_terminal_speed(int n, const double *speed, const double *force, double weight,
+                                  design_interp interp, double *v_t, design_terminal_state *state,
+                                  eddy_error *err);
 
 #endif

@@ -2,7 +2,8 @@
  * design_stop.c - stopping a load with a braking-force curve
  * (design/design.h, section 3).
  *
- * Stopping.  m dv/dt = -F_tot(v), F_tot = F(v) + F_extra > 0.  With
+ * Stopping.  m dv/dt = -F_tot(v), F_tot = F(v) + F_extra - F_drive > 0
+ * (F_drive: a weight along the motion; 0 for a level track).  With
  * dx = v dt: dt = -m dv / F_tot and dx = -m v dv / F_tot, so from v0 down to
  * v1 the time and distance are integrals over v of m / F_tot and m v / F_tot.
  * The work done on the conductor is integral F dx = integral m v F / F_tot dv,
@@ -87,7 +88,7 @@ static void gauss_rule_init(gauss_rule *g)
 
 typedef struct {
     const design_force_curve *curve;
-    double mass, extra, rel_tol;
+    double mass, extra, rel_tol; /* extra: F_extra - F_drive, N (may be < 0) */
     gauss_rule g;
     int evaluations;
 } stop_ctx;
@@ -200,12 +201,20 @@ static eddy_status check_stop_input(int n, const double *speed, const double *fo
     if (!(in->to_speed < in->from_speed))
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "stop: to_speed = %g m/s must be below from_speed = %g m/s",
                           in->to_speed, in->from_speed);
+    if (!isfinite(in->driving_force) || in->driving_force < 0.0)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "stop: driving_force = %g N must be finite and >= 0",
+                          in->driving_force);
+    if (in->to_speed == 0.0 && in->driving_force > 0.0 && !(in->extra_force > in->driving_force))
+        return EDDY_RAISE(err, EDDY_ERR_NOT_APPLICABLE,
+                          "stop: to_speed = 0 needs extra_force > driving_force (%g N): the drag "
+                          "falls to zero with speed, so the load never comes to rest",
+                          in->driving_force);
     if (in->to_speed == 0.0 && in->extra_force == 0.0)
         return EDDY_RAISE(err, EDDY_ERR_INPUT,
                           "stop: to_speed = 0 needs extra_force > 0: an eddy-current brake alone never "
                           "brings a load to rest, because its drag falls to zero with speed (the time "
                           "to reach speed v grows like ln(1/v)); give a small positive to_speed");
-    if (in->extra_force == 0.0) {
+    if (in->extra_force == 0.0 && in->driving_force == 0.0) {
         for (int i = 0; i < n; i++)
             if (!(force[i] > 0.0))
                 return EDDY_RAISE(err, EDDY_ERR_INPUT,
@@ -242,7 +251,31 @@ eddy_status design_stop_compute(int n, const double *speed, const double *force,
     memset(&s, 0, sizeof s);
     s.curve = curve;
     s.mass = in->mass;
-    s.extra = in->extra_force;
+    s.extra = in->extra_force - in->driving_force;
+    if (in->driving_force > 0.0) {
+        /* the net force at v1, v0 and the table speeds between them (the
+         * interpolant is monotone in between, so these are its minima) */
+        double vbad = NAN, fbad = 0.0;
+        for (int i = -1; i <= n && isnan(vbad); i++) {
+            double v = i < 0 ? in->to_speed : (i == n ? in->from_speed : speed[i]);
+            if (v < in->to_speed || v > in->from_speed)
+                continue;
+            double ft = design_force_curve_eval(curve, v) + s.extra;
+            if (!(ft > 0.0)) {
+                vbad = v;
+                fbad = ft;
+            }
+        }
+        if (!isnan(vbad)) {
+            design_force_curve_free(curve);
+            return EDDY_RAISE(err, EDDY_ERR_NOT_APPLICABLE,
+                              "stop: at %g m/s the retarding force falls short of the driving "
+                              "force %g N by %g N, so the load does not slow from %g to %g m/s "
+                              "(it tends to a terminal speed at or above %g m/s, or speeds up)",
+                              vbad, in->driving_force, -fbad, in->from_speed, in->to_speed,
+                              in->to_speed);
+        }
+    }
     s.rel_tol = in->rel_tol != 0.0 ? in->rel_tol : DEFAULT_REL_TOL;
     gauss_rule_init(&s.g);
 
@@ -321,7 +354,8 @@ eddy_status design_stop_compute(int n, const double *speed, const double *force,
     res->peak_decel_g = res->peak_decel / DESIGN_STANDARD_GRAVITY;
     res->speed_at_peak = v_peak;
     res->kinetic_energy = 0.5 * s.mass * (v0 - v1) * (v0 + v1);
-    res->extra_work = s.extra * res->distance;
+    res->extra_work = in->extra_force * res->distance;
+    res->driving_work = in->driving_force * res->distance;
     design_force_curve_free(curve);
 
     if (!isfinite(res->distance) || !isfinite(res->time) || !isfinite(res->brake_energy) ||

@@ -129,9 +129,14 @@ typedef struct {
     double depth;            /* m of magnet/plate overlap out of the plane (axisymmetric:
                               * 1, the forces are of the whole ring already) */
     double repeat;           /* periods or magnet units engaged */
-    double from_speed, to_speed; /* m/s */
-    double extra_force;      /* N, constant (e.g. friction, gravity component) */
+    double from_speed, to_speed; /* m/s; from_speed 0 when not given (gravity only) */
+    int has_from_speed;      /* 1 if from_speed was given (always without gravity) */
+    double extra_force;      /* N, constant retarding force (e.g. friction) */
     double conductor_mass;   /* kg heated by the stop (0: not given) */
+    int gravity;             /* 1: the load falls along the motion under its weight
+                              * m g (DESIGN_STANDARD_GRAVITY): m dv/dt = m g -
+                              * extra_force - F(v); the run reports its terminal
+                              * speed, and from_speed becomes optional */
 } mesh_vehicle;
 
 /* Finite plate width correction (Russell-Norsworthy factor). */
@@ -156,7 +161,11 @@ typedef struct {
     double length_scale;     /* metres per case-file length unit */
     mesh_geometry geometry;  /* planar (default) or axisymmetric */
     double x0, x1, y0, y1;   /* domain, m (axisymmetric: z0, z1, 0, R) */
-    int x_periodic;          /* 1: periodic on the x sides, 0: A = 0 */
+    int x_periodic;          /* 1: periodic on the x sides, 0: A = 0 or open */
+    int x_open, y_open;      /* 1: the field outside the domain on those sides is the
+                              * free field (the sides are mapped to infinity, see
+                              * mesh_grid); 0: A = 0 (or periodic x); always 0 in an
+                              * axisymmetric case */
     int nmat;
     mesh_material *materials;
     int nreg;
@@ -224,6 +233,25 @@ typedef struct {
     short *region;           /* region index owning the cell, -1 for air */
     int x_periodic;          /* copied from the case */
     mesh_geometry geometry;  /* copied from the case; axisymmetric: x is z, y is r */
+    /* Open sides (mesh_case x_open, y_open): beyond the domain each open side
+     * has a layer of cells mapped to infinity, x = X + L s / (1 - s) with s
+     * uniform in [0, 1] (the outermost node, at s = 1, is the point at
+     * infinity where A = 0; its stored coordinate is a finite stand-in, one
+     * effective edge length beyond the last finite node).  Cell columns
+     * ix0 <= i < ix1 and rows iy0 <= j < iy1 cover the domain itself (0, ncx
+     * and 0, ncy without open sides).  In a mapped cell the box integration
+     * uses the metric of the mapping, not the node distances:
+     *   ex[i]:  effective edge length of column i, h_s * dx/ds at the cell
+     *           middle, m (the edge length of the x-fluxes and the Peclet
+     *           number);
+     *   wxl[i], wxr[i]: the parts of the column's width that belong to its
+     *           left and right nodes' dual cells, x(s_mid) - x(s_i) and
+     *           x(s_i+1) - x(s_mid), m (0 towards the point at infinity).
+     * and the same along y (ey, wyl, wyr).  These arrays are NULL when that
+     * axis has no open side; use the mesh_edge_* and mesh_half_* helpers. */
+    int ix0, ix1, iy0, iy1;
+    double *ex, *wxl, *wxr;  /* ncx each, or NULL */
+    double *ey, *wyl, *wyr;  /* ncy each, or NULL */
     /* The moving band: rows jm0 <= j < jm1 hold every moving cell (0, 0 if
      * the case has no moving region). */
     int jm0, jm1;
@@ -239,6 +267,31 @@ typedef struct {
     mesh_bh_curve *bh;
     short *bh_cell;
 } mesh_grid;
+
+/* Edge length of cell column i of g for differences along x, m: the node
+ * distance, or the mapped effective length on an open side. */
+static inline double mesh_edge_x(const mesh_grid *g, int i)
+{
+    return g->ex != NULL ? g->ex[i] : g->x[i + 1] - g->x[i];
+}
+/* The same for cell row j along y. */
+static inline double mesh_edge_y(const mesh_grid *g, int j)
+{
+    return g->ey != NULL ? g->ey[j] : g->y[j + 1] - g->y[j];
+}
+/* Width of the dual cell of a node between cell columns il (left) and ir
+ * (right) along x, m: half of each, or the mapped parts. */
+static inline double mesh_dual_x(const mesh_grid *g, int il, int ir)
+{
+    return g->ex != NULL ? g->wxr[il] + g->wxl[ir]
+                         : 0.5 * ((g->x[il + 1] - g->x[il]) + (g->x[ir + 1] - g->x[ir]));
+}
+/* The same along y between cell rows jb (below) and ja (above). */
+static inline double mesh_dual_y(const mesh_grid *g, int jb, int ja)
+{
+    return g->ey != NULL ? g->wyr[jb] + g->wyl[ja]
+                         : 0.5 * ((g->y[jb + 1] - g->y[jb]) + (g->y[ja + 1] - g->y[ja]));
+}
 
 /* Size of the problem before anything large is allocated. */
 typedef struct {

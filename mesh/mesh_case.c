@@ -49,16 +49,24 @@ static eddy_status read_domain(mesh_reader *r, const cJSON *root)
     const char *xb = NULL, *yb = NULL;
     MESH_TRY(mesh_json_string(r, dom, "x_boundary", "domain", 0, &xb));
     MESH_TRY(mesh_json_string(r, dom, "y_boundary", "domain", 0, &yb));
+    c->x_periodic = c->x_open = c->y_open = 0;
     if (xb == NULL || strcmp(xb, "zero") == 0)
         c->x_periodic = 0;
     else if (strcmp(xb, "periodic") == 0)
         c->x_periodic = 1;
+    else if (strcmp(xb, "open") == 0)
+        c->x_open = 1;
     else
         return mesh_json_bad(r, "domain.x_boundary",
-                             "unknown boundary \"%s\" (use \"zero\" or \"periodic\")", xb);
-    if (yb != NULL && strcmp(yb, "zero") != 0)
+                             "unknown boundary \"%s\" (use \"zero\", \"periodic\" or \"open\")",
+                             xb);
+    if (yb == NULL || strcmp(yb, "zero") == 0)
+        c->y_open = 0;
+    else if (strcmp(yb, "open") == 0)
+        c->y_open = 1;
+    else
         return mesh_json_bad(r, "domain.y_boundary",
-                             "unknown boundary \"%s\" (only \"zero\" is supported)", yb);
+                             "unknown boundary \"%s\" (use \"zero\" or \"open\")", yb);
     return EDDY_OK;
 }
 

@@ -102,8 +102,9 @@ eddy_status mesh_case_read_speeds(mesh_reader *r, const cJSON *root)
 
 eddy_status mesh_case_read_vehicle(mesh_reader *r, const cJSON *root)
 {
-    static const char *const keys[] = {"mass",       "depth",       "repeat",         "from_speed",
-                                       "to_speed",   "extra_force", "conductor_mass", NULL};
+    static const char *const keys[] = {"mass",           "depth",       "repeat",
+                                       "from_speed",     "to_speed",    "extra_force",
+                                       "conductor_mass", "gravity",     NULL};
     mesh_case *c = r->c;
     const cJSON *v = cJSON_GetObjectItemCaseSensitive(root, "vehicle");
     if (v == NULL)
@@ -112,13 +113,21 @@ eddy_status mesh_case_read_vehicle(mesh_reader *r, const cJSON *root)
     mesh_vehicle *h = &c->vehicle;
     h->present = 1;
     h->repeat = 1.0;
+    const cJSON *gr = cJSON_GetObjectItemCaseSensitive(v, "gravity");
+    if (gr != NULL && !cJSON_IsBool(gr))
+        return mesh_json_bad(r, "vehicle.gravity", "must be true or false");
+    h->gravity = gr != NULL && cJSON_IsTrue(gr);
     MESH_TRY(mesh_json_positive(r, v, "mass", "vehicle", 1.0, &h->mass));
     if (c->geometry == MESH_AXISYMMETRIC)
         h->depth = 1.0; /* the forces are of the whole ring already */
     else
         MESH_TRY(mesh_json_positive(r, v, "depth", "vehicle", c->length_scale, &h->depth));
-    MESH_TRY(mesh_json_positive(r, v, "from_speed", "vehicle", 1.0, &h->from_speed));
-    MESH_TRY(mesh_json_number(r, v, "to_speed", "vehicle", 1, &h->to_speed, NULL));
+    /* a falling load needs no stop: its terminal speed is the answer */
+    h->has_from_speed = !h->gravity || cJSON_GetObjectItemCaseSensitive(v, "from_speed") != NULL;
+    if (h->has_from_speed)
+        MESH_TRY(mesh_json_positive(r, v, "from_speed", "vehicle", 1.0, &h->from_speed));
+    MESH_TRY(mesh_json_number(r, v, "to_speed", "vehicle", h->has_from_speed, &h->to_speed,
+                              NULL));
     MESH_TRY(mesh_json_number(r, v, "repeat", "vehicle", 0, &h->repeat, NULL));
     MESH_TRY(mesh_json_number(r, v, "extra_force", "vehicle", 0, &h->extra_force, NULL));
     MESH_TRY(mesh_json_number(r, v, "conductor_mass", "vehicle", 0, &h->conductor_mass, NULL));
@@ -128,9 +137,16 @@ eddy_status mesh_case_read_vehicle(mesh_reader *r, const cJSON *root)
         return mesh_json_bad(r,
                              h->extra_force < 0 ? "vehicle.extra_force" : "vehicle.conductor_mass",
                              "must not be negative");
+    if (!h->has_from_speed) {
+        if (cJSON_GetObjectItemCaseSensitive(v, "to_speed") != NULL)
+            return mesh_json_bad(r, "vehicle.to_speed", "needs a from_speed");
+        return EDDY_OK;
+    }
     if (!(h->to_speed >= 0 && h->to_speed < h->from_speed))
         return mesh_json_bad(r, "vehicle.to_speed", "must lie in [0, from_speed)");
-    if (h->to_speed == 0 && h->extra_force == 0)
+    /* with gravity a stop that cannot happen is reported as such (result.json
+     * "stopping": null with the reason), not refused */
+    if (h->to_speed == 0 && h->extra_force == 0 && !h->gravity)
         return mesh_json_bad(r, "vehicle.to_speed",
                              "must be above 0: an eddy-current brake alone never brings a load "
                              "to rest (its drag falls to zero with speed); give a final speed, "
@@ -260,7 +276,7 @@ eddy_status mesh_case_apply_temperature(mesh_reader *r, const cJSON *root)
 eddy_status mesh_case_check_vehicle_speed(mesh_reader *r)
 {
     const mesh_case *c = r->c;
-    if (!c->vehicle.present)
+    if (!c->vehicle.present || !c->vehicle.has_from_speed)
         return EDDY_OK;
     double vmax = 0.0;
     for (int k = 0; k < c->nspeed; k++)

@@ -320,6 +320,27 @@ static eddy_status check_moving_region(mesh_reader *r, const char *p, const mesh
     return EDDY_OK;
 }
 
+/* A region that touches an open side continues to infinity beyond it
+ * (mesh_grid); a source would then be infinite, so magnets and coils must
+ * stay off the open sides. */
+static eddy_status check_open_sides(mesh_reader *r, const char *p, const mesh_material *mat,
+                                    double tol, const mesh_region *g)
+{
+    const mesh_case *c = r->c;
+    int src = g->jz != 0.0 || (mat != NULL && mat->br > 0.0);
+    int on_x = c->x_open && (g->box[0] <= c->x0 + tol || g->box[2] >= c->x1 - tol);
+    int on_y = c->y_open && (g->box[1] <= c->y0 + tol || g->box[3] >= c->y1 - tol);
+    if (src && (on_x || on_y)) {
+        char q[128];
+        snprintf(q, sizeof q, "%s.box", p);
+        return mesh_json_bad(r, q, "a magnet or coil touches an open %s side of the domain: a "
+                                   "region on an open side continues to infinity beyond it; "
+                                   "keep sources inside the domain",
+                             on_x ? "x" : "y");
+    }
+    return EDDY_OK;
+}
+
 /* Region k (the JSON value e) into g; tol: the tolerance of the domain
  * edges (m). */
 static eddy_status read_region(mesh_reader *r, const cJSON *e, int k, double tol,
@@ -346,6 +367,7 @@ static eddy_status read_region(mesh_reader *r, const cJSON *e, int k, double tol
     MESH_TRY(read_region_current(r, e, p, g, &current_given));
     if (g->moving)
         MESH_TRY(check_moving_region(r, p, mat, current_given, tol, g));
+    MESH_TRY(check_open_sides(r, p, mat, tol, g));
     return EDDY_OK;
 }
 

@@ -82,6 +82,10 @@ eddy_status mesh_case_read_domain_rz(mesh_reader *r, const cJSON *root)
         c->x_periodic = 0;
     else if (strcmp(zb, "periodic") == 0)
         c->x_periodic = 1;
+    else if (strcmp(zb, "open") == 0)
+        return mesh_json_bad(r, "domain.z_boundary",
+                             "\"open\" is not supported in an axisymmetric case (use \"zero\" "
+                             "with a domain 20-40 times the magnets' size, or \"periodic\")");
     else
         return mesh_json_bad(r, "domain.z_boundary",
                              "unknown boundary \"%s\" (use \"zero\" or \"periodic\")", zb);

@@ -59,7 +59,11 @@ typedef struct {
                                 * stress on the discrete field (post_forces.c); NAN if
                                 * !nodal_ok */
     double loss;               /* W/m, integral of J^2 / sigma */
-    double low_speed_drag;     /* N/m, sigma |v| * integral of B0_y^2 (static field) */
+    double low_speed_drag;     /* N/m, sigma |v| * integral of B0_y^2 (static field):
+                                * |v| times the damping coefficient */
+    double drag_per_speed;     /* N s/m^2, drag / |speed| (NAN at rest): the secant
+                                * slope, which tends to the damping coefficient as
+                                * v -> 0 */
     double magnetic_reynolds;  /* mu0 sigma |v| t of the moving band (t its thickness) */
     double magnetic_reynolds_wave; /* mu0 sigma |v| / k on the dominant wavenumber k of the
                                 * sources (mesh_grid.k_dominant), sigma the band's mean
@@ -79,16 +83,33 @@ typedef struct {
 } post_forces;
 
 /*
- * Integral over the moving cells of sigma * B_y^2 for the static field
- * a_static (nx*ny node values, Wb/m): the low-speed drag per unit speed,
- * low_speed_drag = |v| * post_lowspeed_slope(g, a_static).
- * Units: N s/m^2 (N per metre of depth, per m/s).
+ * The damping coefficient c = dF/dv at v = 0 from the static field: the
+ * integral over the moving conductors of sigma * B_y^2 (B_y = -dA/dx, the
+ * flux density across the motion; the first-order induced current is
+ * J_z = sigma v B_y, and -integral J_z B_y is the force along +x), so that
+ * low_speed_drag = |v| * c.  It is the scheme's own low-speed drag per unit
+ * speed (post_forces_compute's J x B sum with the convective face values
+ * at Peclet 0), so the drag / |v| of a solve tends to it as v -> 0 (to
+ * rounding, not only to the discretisation error).
+ *   g:          the grid (its sigma and moving flags; nu is not used).
+ *   a_static:   the field at v = 0, nx*ny node values of the potential
+ *               (Wb/m), not modified.
+ *   row_weight: the geometry's weight of node row j (ny entries), the only
+ *               part that depends on the geometry: NULL for the planar
+ *               model (weight 1: c per metre of depth, N s/m^2, per period
+ *               and metre for a periodic domain); for an axisymmetric grid
+ *               whose x is the axis z and whose y is the radius r, with the
+ *               potential A_phi, 2 pi r_j (then c is N s/m of the whole ring:
+ *               sigma integral B_r^2 dV); with the flux function psi = r A_phi
+ *               as the field, 2 pi / r_j (conductors off the axis).
+ * Returns c (>= 0 up to rounding); NAN-free for finite input.
  */
-double post_lowspeed_slope(const mesh_grid *g, const double *a_static);
+double post_damping_coefficient(const mesh_grid *g, const double *a_static,
+                                const double *row_weight);
 
 /*
  * Forces, loss and checks at speed v for the solution a (nx*ny, Wb/m).
- *   lowspeed_slope: from post_lowspeed_slope of the static field (N s/m^2).
+ *   lowspeed_slope: post_damping_coefficient of the static field (N s/m^2).
  *   f:   output.
  * The Lorentz force and the loss use the induced current of each node's dual
  * cell taken from the solver's fitted convective fluxes.  The stress-tensor

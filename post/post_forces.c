@@ -270,15 +270,15 @@ static int total_current_force(const mesh_grid *g, const double *a, double *fx, 
         sol_row_metric mb, ma; /* the rows below and above the node row */
         sol_row_metric_of(g, jn - 1, &mb);
         sol_row_metric_of(g, jn, &ma);
-        double hb = mb.ey, ha = ma.ey; /* planar: the row heights */
-        double wy = mb.wx[1] + ma.wx[0];
+        double hb = mb.ey, ha = ma.ey; /* planar: mesh_edge_y, the row heights */
+        double wy = mb.wx[1] + ma.wx[0]; /* planar: mesh_dual_y */
         for (int i = i0; i < i1; i++) {
             int il = i > 0 ? i - 1 : ncx - 1, ir = i + 1; /* node ncx is node 0 when periodic */
-            double hl = g->x[il + 1] - g->x[il], hr = g->x[i + 1] - g->x[i];
+            double hl = mesh_edge_x(g, il), hr = mesh_edge_x(g, i);
             size_t row = nx * (size_t)jn;
             double ai = a[(size_t)i + row], aw = a[(size_t)il + row], ae = a[(size_t)ir + row];
             double as = a[(size_t)i + row - nx], an = a[(size_t)i + row + nx];
-            double wx = 0.5 * (hl + hr);
+            double wx = mesh_dual_x(g, il, i);
             double cur = nu0 * (wy * ((ai - aw) / hl + (ai - ae) / hr) +
                                 wx * ((ai - as) / hb + (ai - an) / ha));
             double dadx = (ae - aw) / (hl + hr);
@@ -314,7 +314,8 @@ typedef struct {
  * fluxes (fitted = 1) or from central face values (fitted = 0, the v -> 0
  * limit used for the low-speed slope). */
 static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitted,
-                         nodal_sums *out, double *node_current, double *node_area)
+                         const double *row_weight, nodal_sums *out, double *node_current,
+                         double *node_area)
 {
     size_t nx = (size_t)g->nx;
     int ncx = g->ncx, i_end = g->x_periodic ? ncx : ncx + 1;
@@ -336,13 +337,13 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
                 if (!g->moving[kr] || g->sigma[kr] == 0.0)
                     continue;
                 double sigma = g->sigma[kr], c = sigma * v, nu = g->nu[kr];
-                double hl = g->x[il + 1] - g->x[il], hr = g->x[ir + 1] - g->x[ir];
+                double hl = mesh_edge_x(g, il), hr = mesh_edge_x(g, ir);
                 size_t row = nx * (size_t)jn;
                 double ai = a[(size_t)i + row];
                 double aw = a[(size_t)il + row], ae = a[(size_t)ir + 1 + row];
                 double pr = fitted ? c * hr / nu : 0.0, pl = fitted ? c * hl / nu : 0.0;
                 double afr = face_value(ai, ae, pr), afl = face_value(aw, ai, pl);
-                double dual = 0.5 * (hl + hr), area = 0.5 * hy * dual; /* plain area */
+                double dual = mesh_dual_x(g, il, ir), area = 0.5 * hy * dual; /* plain */
                 /* A per metre of depth; axisymmetric: the ring current through
                  * this part of the dual cell, A (J_phi = -(sigma v / r) dpsi/dz
                  * integrated over dr dz) */
@@ -358,12 +359,15 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
                     node_current[(size_t)i + row] += cur;
                     node_area[(size_t)i + row] += area;
                 }
-                fx += ring * cur * dadx;
-                fy += cur * dady;
+                /* row_weight: an extra weight of the caller (NULL: 1); the
+                 * geometry's own weights are in the metric (w, ring) */
+                double wt = row_weight != NULL ? row_weight[jn] : 1.0;
+                fx += wt * ring * cur * dadx;
+                fy += wt * cur * dady;
                 /* planar: w dual = area; axisymmetric: J_phi^2 r = sigma^2 v^2
                  * (dpsi/dz)^2 / r integrates to cur^2 / (sigma w dual) per
                  * radian */
-                loss += ring * cur * cur / (sigma * (w * dual));
+                loss += wt * ring * cur * cur / (sigma * (w * dual));
                 if (fabs(cur) / area > jpk)
                     jpk = fabs(cur) / area;
                 if (cur * cur / (sigma * area * area) > qpk)
@@ -378,10 +382,21 @@ static void nodal_forces(const mesh_grid *g, const double *a, double v, int fitt
     out->q_peak = qpk;
 }
 
-double post_lowspeed_slope(const mesh_grid *g, const double *a_static)
+/* The damping coefficient.  A conductor moving at +v along x in the static
+ * field B0 carries, to first order in v, J_z = sigma (v x B0)_z =
+ * sigma v B0_y = -sigma v dA0/dx (PHYSICS.md), and feels
+ * F_x = integral (J x B0)_x = -integral J_z B0_y = -sigma v integral B0_y^2,
+ * a drag c v with c = sigma integral B0_y^2 = sigma integral (dA0/dx)^2 >= 0.
+ * It is evaluated as the v -> 0 limit of the drag of the scheme itself:
+ * the nodal current with central face values (the Peclet -> 0 limit of the
+ * fitted fluxes) at v = 1 m/s, times dA/dx at the node, so that c v is the
+ * solver's own drag at low speed and not another discretisation of the same
+ * integral.  row_weight multiplies each node row (the geometry). */
+double post_damping_coefficient(const mesh_grid *g, const double *a_static,
+                                const double *row_weight)
 {
     nodal_sums n;
-    nodal_forces(g, a_static, 1.0, 0, &n, NULL, NULL);
+    nodal_forces(g, a_static, 1.0, 0, row_weight, &n, NULL, NULL);
     return -n.fx;
 }
 
@@ -389,7 +404,7 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
                                 double lowspeed_slope, post_forces *f, eddy_error *err)
 {
     nodal_sums n;
-    nodal_forces(g, a, v, 1, &n, NULL, NULL);
+    nodal_forces(g, a, v, 1, NULL, &n, NULL, NULL);
     double sig_t = 0.0; /* integral of sigma over the band thickness, column 0 */
     double area = 0.0;  /* of the moving conductors, m^2 */
     for (int j = g->jm0; j < g->jm1; j++) {
@@ -401,7 +416,7 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
             sig_t += g->sigma[k0] * hy;
         /* planar: the cross-section (m^2); axisymmetric: the ring volume
          * 2 pi integral r dr dz (m^3) */
-        for (int i = 0; i < g->ncx; i++)
+        for (int i = g->ix0; i < g->ix1; i++) /* within the domain */
             if (g->moving[k0 + (size_t)i] && g->sigma[k0 + (size_t)i] > 0.0)
                 area += m.ring * m.ey * (g->x[i + 1] - g->x[i]);
     }
@@ -416,6 +431,7 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
     f->loss_density_mean = area > 0 ? n.loss / area : 0.0;
     f->conductor_area = area;
     f->low_speed_drag = fabs(v) * lowspeed_slope;
+    f->drag_per_speed = v != 0.0 ? f->drag / fabs(v) : NAN;
     f->magnetic_reynolds = EDDY_MU0 * sig_t * fabs(v);
     /* on the dominant wavelength of the sources: mu0 sigma |v| / k, with the
      * band's mean conductivity (sigma t / t) */
@@ -483,7 +499,7 @@ eddy_status post_current_density(const mesh_grid *g, const double *a, double v, 
     for (size_t k = 0; k < nn; k++)
         jz[k] = 0.0;
     nodal_sums n;
-    nodal_forces(g, a, v, 1, &n, jz, area);
+    nodal_forces(g, a, v, 1, NULL, &n, jz, area);
     for (int j = 0; j < g->ny; j++) {
         size_t row = (size_t)g->nx * (size_t)j;
         if (g->x_periodic) { /* the copy node i = nx-1 is node 0 */

@@ -187,8 +187,10 @@ void post_plot_opts_defaults(post_plot_opts *o);
 /* Plot drag and normal force per unit length against speed and write a PNG.
  *   speed[n]   m/s (n >= 1); drag[n], normal[n] N/m (normal may be NULL).
  *              Computed points are marked and joined in speed order.
- *   low_speed_slope  drag/speed at low speed (N/m per m/s), drawn as the
- *              dashed line drag = slope * v; NAN: not drawn.
+ *   low_speed_slope  the damping coefficient c (N s/m^2: drag per unit
+ *              speed at low speed, post_damping_coefficient), drawn as the
+ *              dashed asymptote drag = c v, clipped to the plot, and keyed
+ *              "F = c v, c = ... N s/m^2"; NAN: not drawn.
  *   ref_n, ref_speed, ref_drag, ref_normal  reference curve(s) drawn as thin
  *              lines without markers; ref_n may be 0 (arrays then unused);
  *              with ref_n > 0 ref_speed is required and either of ref_drag /

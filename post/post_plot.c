@@ -226,8 +226,8 @@ static void forces_legend_entries(forces_plot *F)
     if (isfinite(F->slope)) {
         char num[48];
         post_fmt_sig3(num, sizeof num, F->slope);
-        snprintf(F->slope_label, sizeof F->slope_label, "low-speed slope %s %s per m/s", num,
-                 F->o->whole_ring ? "N" : "N/m");
+        snprintf(F->slope_label, sizeof F->slope_label, "F = c v, c = %s %s", num,
+                 F->o->whole_ring ? "N s/m" : "N s/m^2");
         F->leg[F->nleg++] = (post_legend_entry){F->slope_label, col_slope, 0, 1.5 * s, 1.0, 1, 4};
     }
 }

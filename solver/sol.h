@@ -192,7 +192,8 @@ double sol_bernoulli(double z);
  * The metric of cell row j (0 <= j < ncy) of a grid: what the geometry
  * changes in the box integration, the force and the loss integrals.  A
  * planar row (height hy) has wx = {hy/2, hy/2}, ey = hy, ring = 1, i.e. the
- * plain widths of the half faces.  An axisymmetric row, r_j <= r <= r_j+1
+ * plain widths of the half faces (a row mapped to infinity beyond an open y
+ * side: the mapping's wyl, wyr and ey of mesh_grid).  An axisymmetric row, r_j <= r <= r_j+1
  * (grid y is r, the unknown psi = r A_phi; see sol_metric.c):
  *   wx[0], wx[1]: integral of dr / r over the lower and the upper half of the
  *                 row, ln(r_m / r_j) and ln(r_j+1 / r_m), r_m the middle

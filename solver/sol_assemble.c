@@ -32,7 +32,16 @@
  *
  * Boundaries: A = 0 on the y sides and, unless periodic, on the x sides
  * (those nodes are not unknowns); periodic x sides identify node nx-1 with
- * node 0 (sol_pattern.c).
+ * node 0 (sol_pattern.c).  An open side is a layer of cells mapped to
+ * infinity (mesh_grid), its outermost node the point at infinity (A = 0,
+ * the free field's limit for sources of zero net current; a net current's
+ * logarithm only shifts A by a constant near the device): the box
+ * integration of the mapped equation uses the mapping's metric (edge
+ * lengths h_s dx/ds at the cell middle, the exact widths of the half
+ * cells), which is the infinite-domain problem discretised, not a large box
+ * (the mapped-coordinate treatment of unbounded domains, after O. C.
+ * Zienkiewicz, C. Emson and P. Bettess, "A novel boundary infinite element",
+ * Int. J. Numer. Meth. Eng. 19 (1983) 393-404, cited from memory).
  *
  * The stencil of one cell (sol_assemble_cell) takes the face conductances
  * and the corners' sources from its caller; the geometry enters only
@@ -125,11 +134,36 @@ static void metric_cell(const mesh_grid *g, size_t k, double hx, double hy,
                     .f = {q + my - mx, q - my - mx, q + my + mx, q - my + mx}};
 }
 
+/* The stencil of cell k = (i, j) on a grid with open sides (mesh_grid ex,
+ * wxl, ...): the same fluxes with the metric of the mapping, i.e. the half
+ * faces' widths and the edge lengths of the mapped coordinate. */
+static void mapped_cell(const mesh_grid *g, int i, int j, size_t k, double nu, double v,
+                        sol_cell *c)
+{
+    double ex = mesh_edge_x(g, i), ey = mesh_edge_y(g, j);
+    double xl = g->ex != NULL ? g->wxl[i] : 0.5 * ex, xr = g->ex != NULL ? g->wxr[i] : 0.5 * ex;
+    double yl = g->ey != NULL ? g->wyl[j] : 0.5 * ey, yr = g->ey != NULL ? g->wyr[j] : 0.5 * ey;
+    double bm = 1.0, bp = 1.0;
+    if (g->moving[k] && g->sigma[k] > 0.0 && v != 0.0) {
+        double pe = g->sigma[k] * v * ex / nu;
+        bp = sol_bernoulli(pe);
+        bm = bp + pe;
+    }
+    double jz = g->jz[k], mx = nu * g->brx[k], my = nu * g->bry[k];
+    *c = (sol_cell){.gx = {yl * nu / ex, yr * nu / ex},
+                    .bm = {bm, bm},
+                    .bp = {bp, bp},
+                    .gy = {xl * nu / ey, xr * nu / ey},
+                    .f = {xl * yl * jz + yl * my - xl * mx, xr * yl * jz - yl * my - xr * mx,
+                          xl * yr * jz + yr * my + xl * mx, xr * yr * jz - yr * my + xr * mx}};
+}
+
 void sol_assemble(const sol_system *s, sol_work *w, double v, const double *nuc)
 {
     const mesh_grid *g = s->g;
     memset(w->Ax, 0, (size_t)s->Ap[s->n] * sizeof *w->Ax);
     memset(w->rhs, 0, (size_t)s->n * sizeof *w->rhs);
+    int mapped = g->ex != NULL || g->ey != NULL;
     for (int j = 0; j < g->ncy; j++) {
         double hy = g->y[j + 1] - g->y[j];
         sol_row_metric m;
@@ -137,7 +171,10 @@ void sol_assemble(const sol_system *s, sol_work *w, double v, const double *nuc)
         for (int i = 0; i < g->ncx; i++) {
             size_t k = (size_t)i + (size_t)g->ncx * j;
             sol_cell c;
-            metric_cell(g, k, g->x[i + 1] - g->x[i], hy, &m, nuc[k], v, &c);
+            if (mapped) /* open sides (planar only: r-z rejects them) */
+                mapped_cell(g, i, j, k, nuc[k], v, &c);
+            else
+                metric_cell(g, k, g->x[i + 1] - g->x[i], hy, &m, nuc[k], v, &c);
             sol_assemble_cell(s, w, i, j, &c);
         }
     }

@@ -4,7 +4,9 @@
  *
  * Planar: the half faces have their plain widths (hy/2 for the x half faces,
  * hx/2 for the y half faces) and the differences across a row are over its
- * height hy.
+ * height hy; on a grid with open y sides, the rows mapped to infinity take
+ * the mapping's widths and edge lengths (mesh_grid wyl, wyr, ey; the x
+ * direction's mapping is per column, mesh_edge_x and mesh_dual_x).
  *
  * Axisymmetric (r-z, motion along z; grid x is z, grid y is r).  With
  * psi = r A_phi, B_r = -(1/r) dpsi/dz and B_z = (1/r) dpsi/dr, and Ampere's
@@ -47,8 +49,14 @@ void sol_row_metric_of(const mesh_grid *g, int j, sol_row_metric *m)
 {
     double r0 = g->y[j], r1 = g->y[j + 1], hy = r1 - r0;
     if (g->geometry != MESH_AXISYMMETRIC) {
-        m->wx[0] = m->wx[1] = 0.5 * hy;
-        m->ey = hy;
+        if (g->ey != NULL) { /* open y sides: the mapping's metric (mesh_grid) */
+            m->wx[0] = g->wyl[j];
+            m->wx[1] = g->wyr[j];
+            m->ey = g->ey[j];
+        } else {
+            m->wx[0] = m->wx[1] = 0.5 * hy;
+            m->ey = hy;
+        }
         m->ring = 1.0;
         return;
     }

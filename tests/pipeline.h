@@ -53,7 +53,7 @@ static inline int pipe_open(pipe_run *p, const char *json)
     if (s == EDDY_OK)
         s = sol_solve(p->sys, 0.0, p->a, NULL, &err);
     if (s == EDDY_OK)
-        p->slope = post_lowspeed_slope(p->g, p->a);
+        p->slope = post_damping_coefficient(p->g, p->a, NULL);
     if (s != EDDY_OK) {
         printf("# pipeline error: %s (%s)\n", err.msg, eddy_strerror(s));
         pipe_free(p);

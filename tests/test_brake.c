@@ -47,6 +47,18 @@
  *     reason for the rule); the result must not depend on the order of the
  *     samples, and negated drags must give the negated peak.
  *   - Standard gravity 9.80665 m/s^2: 3rd CGPM (1901).
+ *   - A falling load, m dv/dt = W - b v (linear drag, weight W; separation
+ *     of variables, derived here): terminal speed v_t = W / b and, from v0
+ *     down to v1 > v_t, t = (m/b) ln((v0 - v_t)/(v1 - v_t)),
+ *     x = (m/b) [(v0 - v1) + v_t ln((v0 - v_t)/(v1 - v_t))]; energy:
+ *     E_brake = m (v0^2 - v1^2)/2 + W x.
+ *   - Linear range and terminal speed on the thin-sheet drag of Reitz (1970,
+ *     above), F = F0 v w/(v^2 + w^2), whose low-speed slope is c = F0 / w:
+ *     F/(c v) - 1 = -x^2/(1 + x^2), x = v/w, reaches -5 % at
+ *     x = sqrt(0.05/0.95) = 0.229416; F = W at the lower root
+ *     v = w (F0 - sqrt(F0^2 - 4 W^2)) / (2 W) for W < F0/2, and never for
+ *     W > F0/2 (the peak F0/2 at v = w).  A rising curve F = c v (1 + x^2)
+ *     reaches +5 % at x = sqrt(0.05).  (Algebra, derived here.)
  */
 #include "app/app.h"
 #include "tests/check.h"
@@ -75,6 +87,10 @@
 #define CHANGE_LIMIT 0.005    /* accepted change between a table and its halves */
 #define PEAK_V_TOL 0.02       /* decades: drag peak from 4 samples per decade */
 #define PEAK_F_TOL 0.01       /* relative: its value */
+#define LINEAR_TOL 0.01       /* 5 % crossing from 4 samples per decade (log-log
+                                 interpolation of the deviation) */
+#define TERMINAL_TOL 0.002    /* terminal speed from 8 samples per decade, log-log
+                                 monotone cubic */
 
 /* ------------------------------------------------------------------------ */
 /* Monotone interpolation                                                    */
@@ -831,6 +847,146 @@ static void test_peak(void)
     check(st == EDDY_ERR_INPUT, "peak_log_needs_positive_speed", "status %d", st);
 }
 
+/* ------------------------------------------------------------------------ */
+/* Damping: linear range, terminal speed, a stop with a weight               */
+/* ------------------------------------------------------------------------ */
+
+static void test_linear_range(void)
+{
+    const double w = 5.0, f0 = 2000.0, c = f0 / w;
+    const double x_fall = sqrt(0.05 / 0.95), x_rise = sqrt(0.05);
+    double v_lin = 0.0;
+    design_linear_state st = DESIGN_LINEAR_NEVER_LEAVES;
+    int n = 17; /* 1e-3 w .. 10 w, 4 per decade */
+    table_log(n, 1e-3 * w, 10.0 * w);
+    for (int i = 0; i < n; i++)
+        tf[i] = ts_force(tv[i]);
+    eddy_status s = design_linear_range(n, tv, tf, c, DESIGN_LINEAR_TOL, &v_lin, &st, NULL);
+    check(s == EDDY_OK && st == DESIGN_LINEAR_CROSSED, "linear range: thin-sheet drag crosses",
+          "status %d state %d", (int)s, (int)st);
+    check_close("linear range: thin-sheet -5 % at v = 0.229416 w (4 samples a decade)",
+                v_lin / w, x_fall, LINEAR_TOL, 0.0);
+    for (int i = 0; i < n; i++) { /* a curve that rises above c v */
+        double x = tv[i] / w;
+        tf[i] = c * tv[i] * (1.0 + x * x);
+    }
+    s = design_linear_range(n, tv, tf, c, DESIGN_LINEAR_TOL, &v_lin, &st, NULL);
+    check(s == EDDY_OK && st == DESIGN_LINEAR_CROSSED && fabs(v_lin / w / x_rise - 1.0) < LINEAR_TOL,
+          "linear range: c v (1 + x^2) crosses +5 % at x = sqrt(0.05)",
+          "got x = %.6g want %.6g", v_lin / w, x_rise);
+    /* the power law (v/w)^2 of the deviation is interpolated exactly */
+    for (int i = 0; i < n; i++) {
+        double x = tv[i] / w;
+        tf[i] = c * tv[i] * (1.0 - x * x);
+    }
+    s = design_linear_range(n, tv, tf, c, DESIGN_LINEAR_TOL, &v_lin, &st, NULL);
+    check_close("linear range: deviation -(v/w)^2 crosses at sqrt(0.05) w, exact", v_lin / w,
+                x_rise, 1e-12, 0.0);
+    table_log(9, 1e-3 * w, 0.1 * w); /* a sweep that stays linear */
+    for (int i = 0; i < 9; i++)
+        tf[i] = ts_force(tv[i]);
+    s = design_linear_range(9, tv, tf, c, DESIGN_LINEAR_TOL, &v_lin, &st, NULL);
+    check(s == EDDY_OK && st == DESIGN_LINEAR_NEVER_LEAVES && isnan(v_lin),
+          "linear range: a sweep up to 0.1 w never leaves 5 %", "state %d", (int)st);
+    table_log(9, 0.5 * w, 10.0 * w); /* a sweep that starts beyond it */
+    for (int i = 0; i < 9; i++)
+        tf[i] = ts_force(tv[i]);
+    s = design_linear_range(9, tv, tf, c, DESIGN_LINEAR_TOL, &v_lin, &st, NULL);
+    check(s == EDDY_OK && st == DESIGN_LINEAR_STARTS_ABOVE && isnan(v_lin),
+          "linear range: a sweep from 0.5 w starts outside 5 %", "state %d", (int)st);
+    eddy_error e = {0};
+    check(design_linear_range(9, tv, tf, 0.0, DESIGN_LINEAR_TOL, &v_lin, &st, &e) ==
+              EDDY_ERR_INPUT,
+          "linear range: a zero damping coefficient is refused", "%s", e.msg);
+}
+
+static void test_terminal_speed(void)
+{
+    const double w = TS_W, f0 = TS_F0;
+    double v_t = 0.0;
+    design_terminal_state st = DESIGN_TERMINAL_NONE;
+    int n = 25; /* 1e-2 w .. 1e1 w, 8 per decade */
+    table_log(n, 1e-2 * w, 10.0 * w);
+    for (int i = 0; i < n; i++)
+        tf[i] = ts_force(tv[i]);
+    const double weights[] = {0.05 * f0, 0.2 * f0, 0.45 * f0};
+    for (int q = 0; q < 3; q++) {
+        double W = weights[q], want = w * (f0 - sqrt(f0 * f0 - 4.0 * W * W)) / (2.0 * W);
+        eddy_status s = design_terminal_speed(n, tv, tf, W, DESIGN_INTERP_LOGLOG, &v_t, &st, NULL);
+        char name[160];
+        snprintf(name, sizeof name,
+                 "terminal speed: thin-sheet drag = W = %.2g F0 at the lower root (Reitz 1970)",
+                 W / f0);
+        if (s != EDDY_OK || st != DESIGN_TERMINAL_FOUND)
+            check(0, name, "status %d state %d", (int)s, (int)st);
+        else
+            check_close(name, v_t, want, TERMINAL_TOL, 0.0);
+    }
+    design_terminal_speed(n, tv, tf, 0.55 * f0, DESIGN_INTERP_LOGLOG, &v_t, &st, NULL);
+    check(st == DESIGN_TERMINAL_NONE && isnan(v_t),
+          "terminal speed: none when W exceeds the peak drag F0/2 inside the sweep", "state %d",
+          (int)st);
+    design_terminal_speed(n, tv, tf, 1e-3 * f0, DESIGN_INTERP_LOGLOG, &v_t, &st, NULL);
+    check(st == DESIGN_TERMINAL_BELOW_SWEEP && isnan(v_t),
+          "terminal speed: not bracketed when the lowest drag already exceeds W", "state %d",
+          (int)st);
+    table_log(9, 1e-2 * w, 0.1 * w);
+    for (int i = 0; i < 9; i++)
+        tf[i] = ts_force(tv[i]);
+    design_terminal_speed(9, tv, tf, 0.3 * f0, DESIGN_INTERP_LOGLOG, &v_t, &st, NULL);
+    check(st == DESIGN_TERMINAL_ABOVE_SWEEP && isnan(v_t),
+          "terminal speed: not bracketed when the drag is still rising below W", "state %d",
+          (int)st);
+}
+
+static void test_stop_gravity(void)
+{
+    const double m = 80.0, b = 400.0, W = m * 9.80665, vt = W / b, v0 = 6.0, v1 = 2.5;
+    table_log(40, 0.1, 10.0);
+    for (int i = 0; i < 40; i++)
+        tf[i] = b * tv[i];
+    design_stop_input in;
+    design_stop_result r;
+    design_stop_defaults(&in);
+    in.mass = m;
+    in.driving_force = W;
+    in.from_speed = v0;
+    in.to_speed = v1;
+    eddy_status s = design_stop_compute(40, tv, tf, &in, &r, NULL);
+    check(s == EDDY_OK, "falling load, F = b v: slowed from 6 to 2.5 m/s (v_t = 1.96 m/s)",
+          "status %d", (int)s);
+    if (s == EDDY_OK) {
+        double lg = log((v0 - vt) / (v1 - vt));
+        check_close("falling load: time (m/b) ln((v0 - v_t)/(v1 - v_t))", r.time, m / b * lg,
+                    QUAD_TOL, 0.0);
+        check_close("falling load: distance (m/b)[(v0 - v1) + v_t ln(..)]", r.distance,
+                    m / b * ((v0 - v1) + vt * lg), QUAD_TOL, 0.0);
+        check_close("falling load: E_brake = kinetic energy + W x", r.brake_energy,
+                    r.kinetic_energy + r.driving_work, ENERGY_TOL, 0.0);
+        check_close("falling load: peak deceleration (b v0 - W)/m", r.peak_decel,
+                    (b * v0 - W) / m, 1e-12, 0.0);
+    }
+    eddy_error e = {0};
+    in.to_speed = 1.5; /* below the terminal speed: never reached */
+    s = design_stop_compute(40, tv, tf, &in, &r, &e);
+    check(s == EDDY_ERR_NOT_APPLICABLE, "falling load: a to_speed below the terminal speed is "
+                                        "undefined", "status %d: %s", (int)s, e.msg);
+    in.to_speed = 0.0;
+    in.extra_force = 0.5 * W; /* friction below the weight: never at rest */
+    e = (eddy_error){0};
+    s = design_stop_compute(40, tv, tf, &in, &r, &e);
+    check(s == EDDY_ERR_NOT_APPLICABLE && strstr(e.msg, "never comes to rest") != NULL,
+          "falling load: to rest needs extra_force > weight", "status %d: %s", (int)s, e.msg);
+    in.extra_force = 2.0 * W; /* friction above the weight: F = b v + W from the closed form */
+    s = design_stop_compute(40, tv, tf, &in, &r, NULL);
+    double fe = in.extra_force - W;
+    check(s == EDDY_OK && fabs(r.time / (m / b * log((b * v0 + fe) / fe)) - 1.0) < QUAD_TOL,
+          "falling load with friction 2 W: stops, t = (m/b) ln((b v0 + F_e)/F_e), F_e = W",
+          "status %d time %.9g", (int)s, s == EDDY_OK ? r.time : NAN);
+    if (s == EDDY_OK)
+        design_stop_result_free(&r);
+}
+
 int main(void)
 {
     test_pchip_exact();
@@ -849,5 +1005,8 @@ int main(void)
     test_end_effect();
     test_disc();
     test_peak();
+    test_linear_range();
+    test_terminal_speed();
+    test_stop_gravity();
     return check_summary();
 }

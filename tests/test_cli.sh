@@ -32,7 +32,7 @@ bad "zero-area box" "{$DOM,\"regions\":[$PLATE,{\"box\":[3,1,3,2]}],\"speeds\":[
 bad "box outside the domain" "{$DOM,\"regions\":[$PLATE,{\"box\":[3,1,4,99]}],\"speeds\":[1]}" "outside the domain"
 bad "infinite number" "{$DOM,\"regions\":[$PLATE],\"speeds\":[-1e999]}" "finite"
 bad "empty speed list" "{$DOM,\"regions\":[$PLATE],\"speeds\":[]}" "speeds: must not be empty"
-bad "unknown boundary" "{\"domain\":{\"x\":[0,10],\"y\":[-5,5],\"x_boundary\":\"open\"},\"regions\":[$PLATE],\"speeds\":[1]}" "x_boundary"
+bad "unknown boundary" "{\"domain\":{\"x\":[0,10],\"y\":[-5,5],\"x_boundary\":\"mirror\"},\"regions\":[$PLATE],\"speeds\":[1]}" "x_boundary"
 bad "unknown unit" "{\"length_unit\":\"furlong\",$DOM,\"regions\":[$PLATE],\"speeds\":[1]}" "length_unit"
 bad "moving region not spanning x" "{$DOM,\"regions\":[{\"material\":\"copper_annealed\",\"box\":[1,-2,9,0],\"moving\":true}],\"speeds\":[1]}" "span the whole x-extent"
 bad "mesh too large for memory" "{$DOM,\"regions\":[$PLATE],\"speeds\":[1],\"mesh\":{\"max_size\":0.002,\"growth\":1.01}}" "GiB"

@@ -159,7 +159,8 @@ static const bad_case bad_cases[] = {
     {"inverted box", "{" DOM ",\"regions\":[" PLATE ",{\"box\":[3,2,4,1]}],\"speeds\":[1]}", "regions[1].box: y1 must be greater than y0"},
     {"box outside the domain", "{" DOM ",\"regions\":[" PLATE ",{\"box\":[3,1,4,9]}],\"speeds\":[1]}", "regions[1].box: lies (partly) outside the domain"},
     {"box with three numbers", "{" DOM ",\"regions\":[{\"box\":[3,1,4]}],\"speeds\":[1]}", "regions[0].box: must have exactly 4 numbers"},
-    {"unknown boundary", "{\"domain\":{\"x\":[0,10],\"y\":[-5,5],\"x_boundary\":\"open\"},\"regions\":[" PLATE "],\"speeds\":[1]}", "domain.x_boundary: unknown boundary \"open\""},
+    {"unknown boundary", "{\"domain\":{\"x\":[0,10],\"y\":[-5,5],\"x_boundary\":\"mirror\"},\"regions\":[" PLATE "],\"speeds\":[1]}", "domain.x_boundary: unknown boundary \"mirror\""},
+    {"coil touching an open side", "{\"domain\":{\"x\":[0,10],\"y\":[-5,5],\"y_boundary\":\"open\"},\"regions\":[" PLATE ",{\"box\":[3,1,4,5],\"current\":10}],\"speeds\":[1]}", "regions[1].box: a magnet or coil touches an open y side"},
     {"unknown y boundary", "{\"domain\":{\"x\":[0,10],\"y\":[-5,5],\"y_boundary\":\"periodic\"},\"regions\":[" PLATE "],\"speeds\":[1]}", "domain.y_boundary: unknown boundary"},
     {"unknown unit", "{\"length_unit\":\"inch\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "length_unit: unknown unit \"inch\""},
     {"empty domain", "{\"domain\":{\"x\":[1,1],\"y\":[-5,5]},\"regions\":[" PLATE "],\"speeds\":[1]}", "domain.x: x1 must be greater than x0"},
@@ -172,6 +173,9 @@ static const bad_case bad_cases[] = {
     {"growth out of range", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"mesh\":{\"growth\":3}}", "mesh.growth: must lie in (1, 2]"},
     {"unsafe name", "{\"name\":\"../x\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "name: must have 1 to 63 characters, only letters"},
     {"no regions", "{" DOM ",\"regions\":[],\"speeds\":[1]}", "regions: must not be empty"},
+    {"gravity must be boolean", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"vehicle\":{\"mass\":1,\"depth\":1,\"gravity\":1}}", "vehicle.gravity: must be true or false"},
+    {"a falling load's to_speed without from_speed", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"vehicle\":{\"mass\":1,\"depth\":1,\"gravity\":true,\"to_speed\":1}}", "vehicle.to_speed: needs a from_speed"},
+    {"from_speed required without gravity", "{" DOM ",\"regions\":[" PLATE "],\"speeds\":[1],\"vehicle\":{\"mass\":1,\"depth\":1,\"to_speed\":1}}", "vehicle.from_speed: missing"},
     /* the case reader applies the one sigma(T) rule of design/ (its range and
      * its resistivity floor), not limits of its own */
     /* values that would pass a type check but no device has (the reader's
