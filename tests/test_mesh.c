@@ -192,6 +192,7 @@ static const bad_case bad_cases[] = {
     {"unknown geometry", "{\"geometry\":\"spherical\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "geometry: unknown geometry \"spherical\""},
     {"planar domain keys in r-z", "{\"geometry\":\"axisymmetric\"," DOM ",\"regions\":[" PLATE "],\"speeds\":[1]}", "domain.x: has no meaning in an axisymmetric case"},
     {"x_boundary in r-z", "{\"geometry\":\"axisymmetric\"," RZDOM_X ",\"regions\":[" TUBE "],\"speeds\":[1]}", "domain.x_boundary: has no meaning in an axisymmetric case"},
+    {"open side in r-z", "{\"geometry\":\"axisymmetric\",\"domain\":{\"r\":[0,50],\"z\":[-50,50],\"z_boundary\":\"open\"},\"regions\":[" TUBE "],\"speeds\":[1]}", "domain.z_boundary: \"open\" is not supported in an axisymmetric case"},
     {"r-z domain off the axis", "{\"geometry\":\"axisymmetric\",\"domain\":{\"r\":[1,50],\"z\":[-50,50]},\"regions\":[" TUBE "],\"speeds\":[1]}", "domain.r: must start on the axis, r = 0"},
     {"r-z box inside out", "{\"geometry\":\"axisymmetric\"," RZDOM ",\"regions\":[" TUBE ",{\"box\":[5,1,4,2],\"current\":1}],\"speeds\":[1]}", "regions[1].box: r1 must be greater than r0"},
     {"r-z moving region not spanning z", "{\"geometry\":\"axisymmetric\"," RZDOM ",\"regions\":[{\"material\":\"copper_annealed\",\"box\":[10,-40,12,50],\"moving\":true}],\"speeds\":[1]}", "must span the whole z-extent"},

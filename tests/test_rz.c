@@ -296,6 +296,10 @@ static void test_thin_tube(void)
     check_close("thin tube around a small magnet: c = F/v vs 45 mu0^2 m^2 sigma w / (1024 a^4) "
                 "(MacLatchy, Backman and Bogan, Am. J. Phys. 61, 1096, 1993)",
                 f.drag / v, c_ref, TOL_DIPOLE, 0.0);
+    /* the reported damping coefficient (sigma integral B_r^2 dV of the static
+     * field, post_damping_coefficient) against the same closed form */
+    check_close("thin tube: damping coefficient of the static field vs MacLatchy, Backman and "
+                "Bogan (1993)", p.slope, c_ref, TOL_DIPOLE, 0.0);
     pipe_free(&p);
 }
 
