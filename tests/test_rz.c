@@ -6,7 +6,9 @@
  * magnet in a thick tube at low speed against an independent quadrature of
  * current loops, power balance and Maxwell stress against the Lorentz drag
  * over four decades of magnetic Reynolds number, second-order convergence,
- * and the reversal of the drag with the speed.
+ * the reversal of the drag with the speed, Newton-Raphson on a saturable
+ * steel tube (energy conservation), and the reports of an r-z run (units of
+ * the whole ring, the layered reference declined).
  *
  * Lengths in the cases are in mm; every closed form is evaluated in SI.
  */
