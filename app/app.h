@@ -54,6 +54,20 @@ typedef struct {
     const char *method;         /* static text: how the forces were computed */
     long unknowns;              /* 0 for a reference-only run */
     double t_mesh, t_analyse;   /* s */
+    /* error estimate (mesh.error_estimate, on by default): the coarse grid of
+     * the family, solved at every speed after the sweep */
+    int estimated;              /* 1 if every point has its *_error fields */
+    long coarse_unknowns;       /* unknowns of the coarse grid */
+    double t_estimate;          /* s, the coarse passes and the box estimate */
+    double box_truncation;      /* relative change of the damping coefficient when the zero
+                                 * sides are made open (0: none zero), added to every
+                                 * point's estimate times its value */
+    /* mesh.tolerance: the refinement loop */
+    int tol_refine;             /* the refine factor of the final grid (1 without it) */
+    int tol_rounds;             /* grids solved */
+    int tol_met;                /* 1 if every estimate is below the tolerance */
+    double tol_worst_drag, tol_worst_fy; /* the largest estimate / largest magnitude */
+    char tol_note[256];         /* why the tolerance was not met, or "" */
     int npoint;
     post_forces *f;
     app_point_info *info;

@@ -24,7 +24,8 @@ typedef struct {
     double seconds;
     char error[1024];
     int npoint;
-    double *speed, *drag, *force_y, *loss; /* one allocation, 6 * npoint */
+    double *speed, *drag, *force_y, *loss; /* one allocation, 8 * npoint */
+    double *drag_err, *force_y_err;        /* estimated errors, NaN where absent */
     double *rpm, *torque;                  /* NaN where the case is no disc */
     double peak_drag, peak_speed;
     double damping, linear_speed, terminal_speed; /* result.json's, NaN if null/absent */
@@ -42,6 +43,7 @@ typedef struct {
     const char *note;           /* the last line of summary.html */
     const char *csv_columns;    /* summary.csv's force and loss columns */
     const char *damp_csv, *damp_json, *damp_html; /* the damping coefficient's unit */
+    const char *err_csv;        /* summary.csv's error-estimate columns */
 } summary_units;
 
 static void choose_units(const case_result *res, int n, summary_units *u)
@@ -58,7 +60,7 @@ static void choose_units(const case_result *res, int n, summary_units *u)
                              "same numbers are in summary.csv and summary.json.",
                              "drag_force_N,force_y_N,loss_W,peak_drag_N",
                              "damping_coefficient_N_s_per_m", "N s/m of the whole ring",
-                             "N s/m"};
+                             "N s/m", "drag_force_error_N,force_y_error_N"};
     } else if (rz > 0) {
         *u = (summary_units){"N/m or N", "W/m or W", "drag (N/m planar, N axisymmetric)",
                              "Forces per metre of depth for planar cases (per period for a "
@@ -70,7 +72,8 @@ static void choose_units(const case_result *res, int n, summary_units *u)
                              "damping_coefficient_N_s_per_m2_or_N_s_per_m",
                              "N s/m per m of depth (planar cases) or N s/m of the whole ring "
                              "(axisymmetric cases)",
-                             "N s/m<sup>2</sup> or N s/m"};
+                             "N s/m<sup>2</sup> or N s/m",
+                             "drag_force_error_N_per_m_or_N,force_y_error_N_per_m_or_N"};
     } else {
         *u = (summary_units){"N/m", "W/m", "drag per unit length (N/m)",
                              "Forces per metre of depth (per period for a periodic domain); the "
@@ -78,7 +81,7 @@ static void choose_units(const case_result *res, int n, summary_units *u)
                              "drag_force_N_per_m,force_y_N_per_m,loss_W_per_m,peak_drag_N_per_m",
                              "damping_coefficient_N_s_per_m2",
                              "N s/m per m of depth (per period for a periodic domain)",
-                             "N s/m<sup>2</sup>"};
+                             "N s/m<sup>2</sup>", "drag_force_error_N_per_m,force_y_error_N_per_m"};
     }
 }
 
@@ -143,7 +146,7 @@ static eddy_status load_result(const char *outdir, const app_batch_case *c, case
         return EDDY_OK;
     }
     int n = cJSON_GetArraySize(pts);
-    r->speed = n > 0 ? malloc((size_t)n * 6 * sizeof *r->speed) : NULL;
+    r->speed = n > 0 ? malloc((size_t)n * 8 * sizeof *r->speed) : NULL;
     if (n > 0 && r->speed == NULL) {
         cJSON_Delete(root);
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory reading %s", path);
@@ -153,11 +156,15 @@ static eddy_status load_result(const char *outdir, const app_batch_case *c, case
     r->loss = r->speed + 3 * n;
     r->rpm = r->speed + 4 * n;
     r->torque = r->speed + 5 * n;
+    r->drag_err = r->speed + 6 * n;
+    r->force_y_err = r->speed + 7 * n;
     int k = 0;
     for (const cJSON *p = pts->child; p != NULL; p = p->next, k++) {
         r->speed[k] = json_num(p, "speed");
         r->drag[k] = json_num(p, "drag_force");
         r->force_y[k] = json_num(p, "force_y");
+        r->drag_err[k] = json_num(p, "drag_force_error");
+        r->force_y_err[k] = json_num(p, "force_y_error");
         r->loss[k] = json_num(p, "loss");
         r->rpm[k] = json_num(p, "rpm");
         r->torque[k] = json_num(p, "torque");
@@ -266,8 +273,9 @@ static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
         csv_field(&b, p->keys[k]);
     }
     eddy_text_printf(&b, ",speed_m_per_s,%s,peak_drag_speed_m_per_s,%s,"
-                     "linear_up_to_speed_m_per_s,terminal_speed_m_per_s,status,error,seconds\n",
-                     u->csv_columns, u->damp_csv);
+                     "linear_up_to_speed_m_per_s,terminal_speed_m_per_s,%s,status,error,"
+                     "seconds\n",
+                     u->csv_columns, u->damp_csv, u->err_csv);
     for (int c = 0; c < p->ncase; c++) {
         const app_batch_case *pc = &p->cases[c];
         const case_result *r = &res[c];
@@ -291,6 +299,8 @@ static eddy_status write_csv(const char *outdir, const app_batch_plan *p,
             csv_num(&b, r->damping);
             csv_num(&b, r->linear_speed);
             csv_num(&b, r->terminal_speed);
+            csv_num(&b, has ? r->drag_err[k] : NAN);
+            csv_num(&b, has ? r->force_y_err[k] : NAN);
             eddy_text_str(&b, ",");
             csv_field(&b, app_case_state_name(r->state));
             eddy_text_str(&b, ",");
@@ -346,6 +356,9 @@ static eddy_status write_summary_json(const char *outdir, const app_batch_plan *
                  json_add(o, "speed", json_num_or_null(has ? r->speed[k] : NAN)) &&
                  json_add(o, "drag_force", json_num_or_null(has ? r->drag[k] : NAN)) &&
                  json_add(o, "force_y", json_num_or_null(has ? r->force_y[k] : NAN)) &&
+                 json_add(o, "drag_force_error", json_num_or_null(has ? r->drag_err[k] : NAN)) &&
+                 json_add(o, "force_y_error",
+                          json_num_or_null(has ? r->force_y_err[k] : NAN)) &&
                  json_add(o, "loss", json_num_or_null(has ? r->loss[k] : NAN)) &&
                  json_add(o, "peak_drag", json_num_or_null(r->peak_drag)) &&
                  json_add(o, "peak_drag_speed", json_num_or_null(r->peak_speed)) &&
@@ -578,6 +591,7 @@ static void html_cases(eddy_text *b, const app_batch_plan *p, const case_result 
     eddy_text_printf(b, "<th>status</th><th>peak drag (%s)</th><th>at speed (m/s)</th>"
                      "<th>damping coefficient (%s)</th><th>linear up to (m/s)"
                      "</th><th>terminal speed (m/s)</th>"
+                     "<th>largest drag error estimate (%% of the largest drag)</th>"
                      "<th>seconds</th><th>error</th></tr></thead>\n<tbody>\n", u->force,
                      u->damp_html);
     for (int c = 0; c < p->ncase; c++) {
@@ -600,6 +614,13 @@ static void html_cases(eddy_text *b, const app_batch_plan *p, const case_result 
         html_num(b, r->damping, "num");
         html_num(b, r->linear_speed, "num");
         html_num(b, r->terminal_speed, "num");
+        double dmax = 0.0, emax = NAN;
+        for (int k = 0; k < r->npoint; k++) {
+            dmax = fmax(dmax, fabs(r->drag[k]));
+            if (isfinite(r->drag_err[k]))
+                emax = isfinite(emax) ? fmax(emax, r->drag_err[k]) : r->drag_err[k];
+        }
+        html_num(b, dmax > 0 ? 100.0 * emax / dmax : NAN, "num");
         html_num(b, r->seconds, "num");
         eddy_text_str(b, "<td class=\"err\">");
         html_text(b, r->error);

@@ -244,15 +244,17 @@ eddy_status app_out_fields(app_report *r, const mesh_grid *g, const app_run_opts
 eddy_status app_out_force_plot(app_report *r, eddy_error *err)
 {
     int n = r->npoint;
-    double *sp = malloc((size_t)n * 3 * sizeof *sp);
+    double *sp = malloc((size_t)n * 5 * sizeof *sp);
     if (sp == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-    double *dr = sp + n, *fy = sp + 2 * n;
+    double *dr = sp + n, *fy = sp + 2 * n, *dre = sp + 3 * n, *fye = sp + 4 * n;
     double slope = r->damping; /* the dashed asymptote F = c v */
     for (int q = 0; q < n; q++) {
         sp[q] = r->f[q].speed;
         dr[q] = r->f[q].drag;
         fy[q] = r->f[q].force_y;
+        dre[q] = r->f[q].drag_error;
+        fye[q] = r->f[q].force_y_error;
     }
     post_plot_opts po;
     post_plot_opts_defaults(&po);
@@ -264,6 +266,10 @@ eddy_status app_out_force_plot(app_report *r, eddy_error *err)
     po.whole_ring = rz;
     po.case_name = r->c->name;
     po.version = EDDY_VERSION;
+    if (r->estimated) { /* error bars: the estimated discretisation error */
+        po.drag_error = dre;
+        po.normal_error = fye;
+    }
     /* the peak result.json reports (app_design_evaluate), not one of the plot's */
     po.has_peak = r->has_peak;
     po.peak_speed = r->peak_speed;

@@ -69,6 +69,49 @@ static void add_num(cJSON *o, const char *key, double v)
         J(cJSON_AddNullToObject(o, key));
 }
 
+/* result.json "error_estimate" and, with mesh.tolerance, "tolerance". */
+static void add_error_estimate(cJSON *root, const app_report *r)
+{
+    cJSON *e = J(cJSON_AddObjectToObject(root, "error_estimate"));
+    if (!r->estimated) {
+        J(cJSON_AddStringToObject(e, "method", "none (mesh.error_estimate is false)"));
+        return;
+    }
+    J(cJSON_AddStringToObject(e, "method",
+                              "Richardson extrapolation over the grid and its two coarser grids "
+                              "(every other line, twice): the observed order p from 1 to 2 and "
+                              "|F(h) - F(2h)| / (2^p - 1), or a first-order bound where the three "
+                              "are not monotone (README: Error estimate and tolerance)"));
+    J(cJSON_AddStringToObject(e, "covers",
+                              r->c->geometry == MESH_PLANAR
+                                  ? "the discretisation error of the grid, plus the truncation by "
+                                    "zero (A = 0) sides: box_truncation_relative (the change of "
+                                    "the damping coefficient with those sides open) times each "
+                                    "value"
+                                  : "the discretisation error of the grid"));
+    J(cJSON_AddStringToObject(e, "does_not_cover",
+                              r->c->geometry == MESH_PLANAR
+                                  ? "the 2D model itself (end effects, finite width) and the "
+                                    "material data; the box estimate is a low-speed proxy"
+                                  : "the 2D model itself, the material data, and the truncation "
+                                    "by the outer zero sides (draw the box large)"));
+    J(cJSON_AddNumberToObject(e, "coarse_unknowns", (double)r->coarse_unknowns));
+    add_num(e, "box_truncation_relative", r->box_truncation);
+    add_num(e, "seconds", r->t_estimate);
+    if (r->c->mesh.tolerance > 0) {
+        cJSON *t = J(cJSON_AddObjectToObject(root, "tolerance"));
+        add_num(t, "requested", r->c->mesh.tolerance);
+        J(cJSON_AddBoolToObject(t, "met", r->tol_met));
+        J(cJSON_AddNumberToObject(t, "final_refine", r->tol_refine));
+        J(cJSON_AddNumberToObject(t, "fine_grids_solved", r->tol_rounds));
+        add_num(t, "drag_estimate_relative", r->tol_worst_drag);
+        add_num(t, "force_y_estimate_relative", r->tol_worst_fy);
+        J(cJSON_AddStringToObject(t, "relative_to", "the largest |drag| and |force_y| of the sweep"));
+        if (r->tol_note[0] != '\0')
+            J(cJSON_AddStringToObject(t, "note", r->tol_note));
+    }
+}
+
 static void add_mesh(cJSON *root, const app_report *r);
 
 static void add_reference(cJSON *root, const app_report *r)
@@ -311,8 +354,10 @@ static cJSON *build_json(const app_report *r)
     J(cJSON_AddStringToObject(units, "drag_per_speed",
                               rz ? "N s/m (N per m/s, the whole ring)" : "N s/m^2 (N/m per m/s)"));
     J(cJSON_AddStringToObject(root, "method", r->method != NULL ? r->method : ""));
-    if (g != NULL)
+    if (g != NULL) {
         add_mesh(root, r);
+        add_error_estimate(root, r);
+    }
     add_reference(root, r);
     cJSON *pts = J(cJSON_AddArrayToObject(root, "points"));
     for (int k = 0; k < r->npoint; k++) {
@@ -335,6 +380,15 @@ static cJSON *build_json(const app_report *r)
         add_num(p, "drag_force_stress", f->drag_stress);
         add_num(p, "force_y_stress", f->nodal_ok ? f->nodal_y : f->stress_y);
         add_num(p, "loss", f->loss);
+        if (g != NULL) {
+            add_num(p, "drag_force_error", f->drag_error);
+            add_num(p, "force_y_error", f->force_y_error);
+            add_num(p, "loss_error", f->loss_error);
+            if (isfinite(f->force_y_error)) /* a normal force smaller than its estimated
+                                              * error is below what the grid resolves */
+                J(cJSON_AddBoolToObject(p, "force_y_resolved",
+                                        fabs(f->force_y) > f->force_y_error));
+        }
         add_num(p, "low_speed_drag", f->low_speed_drag);
         add_num(p, "drag_per_speed", f->drag_per_speed);
         add_num(p, "magnetic_reynolds", f->magnetic_reynolds);
@@ -478,8 +532,11 @@ static eddy_status write_csv(const char *dir, const app_report *r, eddy_error *e
         eddy_text_str(&b, ",reference_drag_N_per_m,reference_force_y_N_per_m");
     /* last, so that the columns before keep their places */
     eddy_text_str(&b, c->geometry == MESH_AXISYMMETRIC
-                          ? ",drag_per_speed_N_s_per_m,deviation_from_linear\n"
-                          : ",drag_per_speed_N_s_per_m2,deviation_from_linear\n");
+                          ? ",drag_per_speed_N_s_per_m,deviation_from_linear"
+                          : ",drag_per_speed_N_s_per_m2,deviation_from_linear");
+    eddy_text_str(&b, c->geometry == MESH_AXISYMMETRIC
+                          ? ",drag_force_error_N,force_y_error_N,loss_error_W\n"
+                          : ",drag_force_error_N_per_m,force_y_error_N_per_m,loss_error_W_per_m\n");
     for (int k = 0; k < r->npoint; k++) {
         const post_forces *f = &r->f[k];
         eddy_text_printf(&b, "%.10g", f->speed == 0.0 ? 0.0 : f->speed);
@@ -503,6 +560,9 @@ static eddy_status write_csv(const char *dir, const app_report *r, eddy_error *e
         }
         csv_num(&b, f->drag_per_speed);
         csv_num(&b, f->low_speed_drag > 0 ? f->drag / f->low_speed_drag - 1.0 : NAN);
+        csv_num(&b, f->drag_error);
+        csv_num(&b, f->force_y_error);
+        csv_num(&b, f->loss_error);
         eddy_text_str(&b, "\n");
     }
     if (b.oom) {

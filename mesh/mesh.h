@@ -105,6 +105,9 @@ typedef struct {
                           * max(|speeds|, design_speed); 0 = off */
     int refine;          /* split every cell of the generated grid into refine x
                           * refine equal cells (refinement studies); 0 or 1 = off */
+    int no_error_estimate; /* 1: "error_estimate": false, skip the coarse-grid solve */
+    double tolerance;    /* relative accuracy asked of drag and normal force (against the
+                          * largest of their magnitudes over the sweep); 0 = none */
 } mesh_params;
 
 /* A line along which B and J are exported (a Hall-probe scan). */
@@ -330,6 +333,19 @@ double mesh_factor_bytes(double lu_entries, double n);
  */
 eddy_status mesh_grid_build(const mesh_case *c, double memory_limit, mesh_grid **out,
                             mesh_estimate *est, eddy_error *err);
+
+/*
+ * A coarser grid of the same family as mesh_grid_build's: every other grid
+ * line of it (level 1: every interval between region edges has an even
+ * number of cells, so every region edge stays a line), or every other line
+ * of that again where an interval's count is still even (level 2), and 1/2
+ * or 1/4 of the cells in each open side's layer over the same map.
+ * Their results against the grid's give the error estimate of each point
+ * (post_richardson).  Arguments and returns as mesh_grid_build (no estimate);
+ * EDDY_ERR_INPUT for another level.
+ */
+eddy_status mesh_grid_build_coarse(const mesh_case *c, int level, double memory_limit,
+                                   mesh_grid **out, eddy_error *err);
 
 /* Free a grid; accepts NULL. */
 void mesh_grid_free(mesh_grid *g);

@@ -72,8 +72,8 @@ static eddy_status read_domain(mesh_reader *r, const cJSON *root)
 
 static eddy_status read_mesh(mesh_reader *r, const cJSON *root)
 {
-    static const char *const keys[] = {"max_size", "min_size", "growth", "refine", "design_speed",
-                                       NULL};
+    static const char *const keys[] = {"max_size", "min_size",       "growth",    "refine",
+                                       "design_speed", "error_estimate", "tolerance", NULL};
     mesh_case *c = r->c;
     const cJSON *m = cJSON_GetObjectItemCaseSensitive(root, "mesh");
     if (m == NULL)
@@ -105,6 +105,20 @@ static eddy_status read_mesh(mesh_reader *r, const cJSON *root)
     if (f5 && !(ds >= 0))
         return mesh_json_bad(r, "mesh.design_speed", "must not be negative (m/s)");
     c->mesh.design_speed = ds;
+    const cJSON *ee = cJSON_GetObjectItemCaseSensitive(m, "error_estimate");
+    if (ee != NULL && !cJSON_IsBool(ee))
+        return mesh_json_bad(r, "mesh.error_estimate", "must be true or false");
+    c->mesh.no_error_estimate = ee != NULL && cJSON_IsFalse(ee);
+    double tol = 0;
+    int f6 = 0;
+    MESH_TRY(mesh_json_number(r, m, "tolerance", "mesh", 0, &tol, &f6));
+    if (f6 && !(tol >= 1e-5 && tol <= 0.2))
+        return mesh_json_bad(r, "mesh.tolerance",
+                             "must lie from 1e-5 to 0.2 (a fraction, e.g. 0.002; got %g)", tol);
+    if (f6 && c->mesh.no_error_estimate)
+        return mesh_json_bad(r, "mesh.tolerance", "needs the error estimate (mesh.error_estimate "
+                                                  "is false)");
+    c->mesh.tolerance = tol;
     c->mesh.max_size = mx * c->length_scale;
     c->mesh.min_size = mn * c->length_scale;
     c->mesh.growth = gr;

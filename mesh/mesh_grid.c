@@ -171,6 +171,9 @@ static int mesh_axis(axis_spec *a, double lo, double hi, double growth, double h
             nc = 1;
         if (interior && nc < CELLS_ACROSS_GAP)
             nc = CELLS_ACROSS_GAP;
+        if (nc % 2 != 0) /* even: the coarse grid of the family (every other
+                          * line, mesh_grid_build_coarse) keeps every region edge */
+            nc++;
         if (nc > MAX_AXIS_NODES || total + nc > MAX_AXIS_NODES) {
             free(cnt);
             return -2;
@@ -480,8 +483,33 @@ static void map_free(axis_map *m)
     memset(m, 0, sizeof *m);
 }
 
-static eddy_status build_axes(const mesh_case *c, grid_plan *p, double **x, int *nx, double **y,
-                              int *ny, axis_map *mx, axis_map *my, eddy_error *err)
+/* Drop every other node of x[0..n-1] inside each interval between two
+ * breakpoints bp[0..nbp-1] (region edges, kept) that has an even number of
+ * cells; an interval with an odd number keeps its nodes. */
+static void coarsen(double *x, int *n, const double *bp, int nbp)
+{
+    if (x == NULL) { /* counting only: the intervals are even on the first level */
+        *n = (*n - 1) / 2 + 1;
+        return;
+    }
+    double tol = 1e-9 * (x[*n - 1] - x[0]);
+    int m = 1, i0 = 0, k = 1;
+    for (int i = 1; i < *n; i++) {
+        while (k < nbp - 1 && bp[k] < x[i] - tol)
+            k++;
+        int edge = i == *n - 1 || fabs(x[i] - bp[k]) <= tol;
+        if (!edge)
+            continue;
+        int cells = i - i0, step = cells % 2 == 0 ? 2 : 1;
+        for (int q = i0 + step; q <= i; q += step)
+            x[m++] = x[q];
+        i0 = i;
+    }
+    *n = m;
+}
+
+static eddy_status build_axes(const mesh_case *c, int coarse, grid_plan *p, double **x, int *nx,
+                              double **y, int *ny, axis_map *mx, axis_map *my, eddy_error *err)
 {
     memset(mx, 0, sizeof *mx);
     memset(my, 0, sizeof *my);
@@ -499,7 +527,17 @@ static eddy_status build_axes(const mesh_case *c, grid_plan *p, double **x, int 
         if (rx == 0)
             ry = subdivide(y, ny, c->mesh.refine);
     }
-    int mcells = MAP_CELLS * (c->mesh.refine > 1 ? c->mesh.refine : 1);
+    if (rx == 0 && ry == 0 && coarse) {
+        for (int l = 0; l < coarse; l++) {
+            coarsen(x != NULL ? *x : NULL, nx, p->ax.bp, p->ax.nbp);
+            coarsen(y != NULL ? *y : NULL, ny, p->ay.bp, p->ay.nbp);
+        }
+    }
+    /* the coarse grid's layer: half the cells over the same map (L is m times
+     * the last inside cell, which doubles) */
+    int mcells = MAP_CELLS * (c->mesh.refine > 1 ? c->mesh.refine : 1) >> coarse;
+    if (mcells < 6)
+        mcells = 6;
     if (rx == 0 && ry == 0)
         rx = add_open_layers(x, nx, c->x_open, c->x_open, mcells, mx);
     if (rx == 0 && ry == 0)
@@ -523,7 +561,7 @@ eddy_status mesh_grid_estimate(const mesh_case *c, double memory_limit, mesh_est
     grid_plan p;
     int nx = 0, ny = 0;
     axis_map mx, my;
-    eddy_status s = build_axes(c, &p, NULL, &nx, NULL, &ny, &mx, &my, err);
+    eddy_status s = build_axes(c, 0, &p, NULL, &nx, NULL, &ny, &mx, &my, err);
     plan_free(&p);
     if (s != EDDY_OK)
         return s;
@@ -544,9 +582,26 @@ static int lower_index(const double *v, int n, double t, double tol)
     return lo;
 }
 
+static eddy_status grid_build(const mesh_case *c, int coarse, double memory_limit,
+                              mesh_grid **out, mesh_estimate *est, eddy_error *err);
+
 eddy_status mesh_grid_build(const mesh_case *c, double memory_limit, mesh_grid **out,
-                            mesh_estimate *est,
-                            eddy_error *err)
+                            mesh_estimate *est, eddy_error *err)
+{
+    return grid_build(c, 0, memory_limit, out, est, err);
+}
+
+eddy_status mesh_grid_build_coarse(const mesh_case *c, int level, double memory_limit,
+                                   mesh_grid **out, eddy_error *err)
+{
+    if (level < 1 || level > 2)
+        return EDDY_RAISE(err, EDDY_ERR_INPUT, "mesh_grid_build_coarse: level %d (1 or 2)",
+                          level);
+    return grid_build(c, level, memory_limit, out, NULL, err);
+}
+
+static eddy_status grid_build(const mesh_case *c, int coarse, double memory_limit,
+                              mesh_grid **out, mesh_estimate *est, eddy_error *err)
 {
     *out = NULL;
     grid_plan p;
@@ -557,7 +612,7 @@ eddy_status mesh_grid_build(const mesh_case *c, double memory_limit, mesh_grid *
     double *x = NULL, *y = NULL;
     int nx = 0, ny = 0;
     axis_map mx, my;
-    eddy_status s = build_axes(c, &p, &x, &nx, &y, &ny, &mx, &my, err);
+    eddy_status s = build_axes(c, coarse, &p, &x, &nx, &y, &ny, &mx, &my, err);
     double k_dom = p.k_dominant, h_skin = p.h_skin;
     plan_free(&p);
     if (s == EDDY_OK)

@@ -80,7 +80,28 @@ typedef struct {
     double rpm;                /* disc brakes: revolutions per minute; NAN otherwise */
     double torque, power;      /* disc brakes: N m, W of the whole disc; NAN otherwise */
     double drag_end_corrected; /* N/m, drag x the end-effect factor; NAN if not asked */
+    /* Estimated absolute discretisation errors of drag, force_y and loss
+     * (same units), by Richardson extrapolation against the coarse grid of
+     * the family (post_richardson); NAN when not estimated. */
+    double drag_error, force_y_error, loss_error;
 } post_forces;
+
+/*
+ * Error estimate of one point from the same speed solved on the grid (fine,
+ * spacing h) and on the coarser grids of its family (mesh_grid_build_coarse:
+ * coarse 2h, coarser 4h, or NULL), by Richardson extrapolation (L. F.
+ * Richardson, Phil. Trans. R. Soc. A 210, 307, 1911, the "deferred approach
+ * to the limit"; the observed order from three grids as in P. J. Roache,
+ * Verification and Validation in Computational Science and Engineering,
+ * Hermosa 1998, cited from memory).  Per quantity, with d1 = F_h - F_2h and
+ * d2 = F_2h - F_4h: monotone (same signs): the observed order p =
+ * log2(d2/d1) clamped to [1, 2] (the scheme is second order, first order
+ * where the exponential fitting upwinds at high cell Peclet numbers) and the
+ * larger of |d1|/(2^p - 1) and |d2|/(2^p (2^p - 1)); not monotone: the larger
+ * of |d1| and |d2|/2 (first order); two grids only: |d1|/3.  Sets
+ * fine->drag_error, force_y_error and loss_error; nothing else is touched.
+ */
+void post_richardson(post_forces *fine, const post_forces *coarse, const post_forces *coarser);
 
 /*
  * The damping coefficient c = dF/dv at v = 0 from the static field: the

@@ -432,6 +432,7 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
     f->conductor_area = area;
     f->low_speed_drag = fabs(v) * lowspeed_slope;
     f->drag_per_speed = v != 0.0 ? f->drag / fabs(v) : NAN;
+    f->drag_error = f->force_y_error = f->loss_error = NAN;
     f->magnetic_reynolds = EDDY_MU0 * sig_t * fabs(v);
     /* on the dominant wavelength of the sources: mu0 sigma |v| / k, with the
      * band's mean conductivity (sigma t / t) */
@@ -549,4 +550,35 @@ eddy_status post_field_at(const mesh_grid *g, const double *a, double x, double 
     *bx = dady;
     *by = -dadx;
     return EDDY_OK;
+}
+
+/* The estimated error of the finest of three values on grids h, 2h, 4h
+ * (f0, f1, f2; f2 NAN when only two grids exist). */
+static double richardson_one(double f0, double f1, double f2)
+{
+    double d1 = f0 - f1;
+    if (!isfinite(f2))
+        return fabs(d1) / 3.0; /* two grids: the scheme's order 2 */
+    double d2 = f1 - f2;
+    if (d1 == 0.0 && d2 == 0.0)
+        return 0.0;
+    if (d1 * d2 > 0.0) { /* monotone: the observed order, from 1 to 2 */
+        double p = log2(d2 / d1);
+        p = p < 1.0 ? 1.0 : (p > 2.0 ? 2.0 : p);
+        double q = exp2(p) - 1.0;
+        /* what the pair (h, 2h) and the pair (2h, 4h) say of the error at h */
+        return fmax(fabs(d1) / q, fabs(d2) / (q * exp2(p)));
+    }
+    /* not monotone (two error terms of opposite signs): first order from
+     * either pair, the larger */
+    return fmax(fabs(d1), 0.5 * fabs(d2));
+}
+
+void post_richardson(post_forces *fine, const post_forces *coarse, const post_forces *coarser)
+{
+    double nan = NAN;
+    fine->drag_error = richardson_one(fine->drag, coarse->drag, coarser ? coarser->drag : nan);
+    fine->force_y_error =
+        richardson_one(fine->force_y, coarse->force_y, coarser ? coarser->force_y : nan);
+    fine->loss_error = richardson_one(fine->loss, coarse->loss, coarser ? coarser->loss : nan);
 }

@@ -177,6 +177,9 @@ typedef struct {
     int whole_ring;        /* 1: forces of a whole ring (axisymmetric case): the
                               unit is N, not N/m (axis title, legend, peak label,
                               PNG text "eddy2d:unit"); 0: per unit length     */
+    const double *drag_error;   /* n estimated absolute errors of drag[] (N/m),
+                                   drawn as error bars; NULL: none            */
+    const double *normal_error; /* the same for normal[]; NULL: none          */
 } post_plot_opts;
 
 /* Fill *o with the defaults above: strings NULL, sizes 0 (default), no

@@ -302,6 +302,29 @@ static void forces_slope_line(forces_plot *F, cairo_t *cr)
 
 /* Inside the plot rectangle: the slope, the reference curves (thin and
  * pale), the computed points. */
+/* Error bars +-err[k] at the points (x xs[k], value y[k]), capped. */
+static void forces_error_bars(const forces_plot *F, cairo_t *cr, const double *y,
+                              const double *err, const double *rgb)
+{
+    const post_axes *ax = &F->ax;
+    double s = F->ps.s, cap = 3.0 * s;
+    cairo_set_source_rgb(cr, rgb[0], rgb[1], rgb[2]);
+    cairo_set_line_width(cr, 1.2 * s);
+    for (int k = 0; k < F->n; k++) {
+        if (!isfinite(err[k]) || err[k] <= 0.0)
+            continue;
+        double X = post_axes_x(ax, F->xs[k]);
+        double y0 = post_axes_y(ax, y[k] - err[k]), y1 = post_axes_y(ax, y[k] + err[k]);
+        cairo_move_to(cr, X, y0);
+        cairo_line_to(cr, X, y1);
+        cairo_move_to(cr, X - cap, y0);
+        cairo_line_to(cr, X + cap, y0);
+        cairo_move_to(cr, X - cap, y1);
+        cairo_line_to(cr, X + cap, y1);
+    }
+    cairo_stroke(cr);
+}
+
 static void forces_curves(forces_plot *F, cairo_t *cr)
 {
     const post_axes *ax = &F->ax;
@@ -323,6 +346,10 @@ static void forces_curves(forces_plot *F, cairo_t *cr)
                           MARK_NORMAL, 4.0 * s);
     post_chart_series(cr, ax, F->n, F->xs, F->drag, F->order, F->col_drag, 2.0 * s, 1.0,
                       MARK_DRAG, 4.2 * s);
+    if (F->o->normal_error != NULL && F->normal != NULL)
+        forces_error_bars(F, cr, F->normal, F->o->normal_error, F->col_normal);
+    if (F->o->drag_error != NULL)
+        forces_error_bars(F, cr, F->drag, F->o->drag_error, F->col_drag);
     cairo_restore(cr);
 }
 

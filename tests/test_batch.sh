@@ -75,13 +75,13 @@ rows=$(($(wc -l < "$T/b1/summary.csv") - 1))
 [ "$rows" -eq 14 ] && ok "summary.csv: one row per case and speed ($rows)" || ko "summary.csv rows" "$rows"
 # every ok row carries its case's damping coefficient (result.json's), > 0; counted
 # from the end of the row (the variant values before it are quoted and hold commas)
-bad=$(awk -F, 'NR > 1 && $(NF - 2) == "ok" && !($(NF - 5) + 0 > 0)' "$T/b1/summary.csv" | wc -l)
+bad=$(awk -F, 'NR > 1 && $(NF - 2) == "ok" && !($(NF - 7) + 0 > 0)' "$T/b1/summary.csv" | wc -l)
 okrows=$(awk -F, 'NR > 1 && $(NF - 2) == "ok"' "$T/b1/summary.csv" | wc -l)
 [ "$okrows" -gt 0 ] && [ "$bad" -eq 0 ] &&
     ok "summary.csv: the damping coefficient of every ok row ($okrows) is a positive number" ||
     ko "summary.csv damping column" "$bad of $okrows ok rows without it"
-head -n 1 "$T/b1/summary.csv" | grep -q '^case,source,regions.plate.box,regions.n.box.1,speed_m_per_s,drag_force_N_per_m,force_y_N_per_m,loss_W_per_m,peak_drag_N_per_m,peak_drag_speed_m_per_s,damping_coefficient_N_s_per_m2,linear_up_to_speed_m_per_s,terminal_speed_m_per_s,status,error,seconds$' &&
-    ok "summary.csv header: case, variant values, speed, forces, loss, peak, damping, linear range, terminal speed, status, error, seconds" ||
+head -n 1 "$T/b1/summary.csv" | grep -q '^case,source,regions.plate.box,regions.n.box.1,speed_m_per_s,drag_force_N_per_m,force_y_N_per_m,loss_W_per_m,peak_drag_N_per_m,peak_drag_speed_m_per_s,damping_coefficient_N_s_per_m2,linear_up_to_speed_m_per_s,terminal_speed_m_per_s,drag_force_error_N_per_m,force_y_error_N_per_m,status,error,seconds$' &&
+    ok "summary.csv header: case, variant values, speed, forces, loss, peak, damping, linear range, terminal speed, error estimates, status, error, seconds" ||
     ko "summary.csv header" "$(head -n 1 "$T/b1/summary.csv")"
 grep -q "^$G,.*,\"\[0,-5,40,0\]\",3,1," "$T/b1/summary.csv" && ok "summary.csv rows carry the variant values" ||
     ko "variant values in summary.csv" "$(grep "^$G" "$T/b1/summary.csv" | head -1)"

@@ -186,7 +186,8 @@ static void test_temperature(void)
                                 : 0;
         check(strstr(text, ",magnetic_reynolds,rpm,torque_N_m,power_W,"
                            "drag_force_end_corrected_N_per_m,drag_per_speed_N_s_per_m2,"
-                           "deviation_from_linear\n") != NULL &&
+                           "deviation_from_linear,drag_force_error_N_per_m,"
+                           "force_y_error_N_per_m,loss_error_W_per_m\n") != NULL &&
                   nv == 12 && fabs(v[8] - f->rpm) <= 1e-9 * f->rpm &&
                   fabs(v[9] - f->torque) <= 1e-9 * f->torque &&
                   fabs(v[10] - f->power) <= 1e-9 * f->power &&

@@ -95,7 +95,8 @@ static int cell_of(const double *xs, int n, double t)
     return j;
 }
 
-#define COIL_X 0.010 /* coil centre, m: off the box centre so the sides matter */
+#define COIL_X 0.011 /* coil centre, m: off the box centre so the sides matter; every
+                     * interval between lines (1 mm apart) has an even count in both boxes */
 #define COIL_Y 0.006
 #define COIL_I 1000.0
 
