@@ -384,6 +384,26 @@ static sol_ordering pick_ordering(const app_report *r)
                                                                    : SOL_ORDER_GRID_ND;
 }
 
+/* The system of grid g (the run's memory limit and the given ordering), a
+ * field buffer of nx*ny into *a, and its symbolic analysis into *info. */
+static eddy_status grid_system(const mesh_grid *g, double limit, sol_ordering ordering,
+                               sol_system **sys, double **a, sol_info *info, eddy_error *err)
+{
+    *a = NULL;
+    eddy_status s = sol_system_alloc(g, sys, err);
+    if (s == EDDY_OK) {
+        /* memory guard: one factorisation must fit in the run's limit */
+        sol_set_memory_limit(*sys, limit);
+        sol_set_ordering(*sys, ordering);
+        *a = malloc((size_t)g->nx * (size_t)g->ny * sizeof **a);
+        if (*a == NULL)
+            s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the field");
+    }
+    if (s == EDDY_OK)
+        s = sol_analyse(*sys, info, err);
+    return s;
+}
+
 /* The static field of sys on g into a (Newton for saturable materials) and
  * the damping coefficient from it into *slope. */
 static eddy_status static_field(sol_system *sys, const mesh_grid *g, const app_run_opts *o,
@@ -418,21 +438,12 @@ static eddy_status coarse_pass(app_report *r, const app_run_opts *o, double limi
     app_point_info *ic = calloc((size_t)r->npoint, sizeof *ic);
     eddy_status s = ic == NULL ? EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory")
                                : mesh_grid_build_coarse(r->c, level, limit, &gc, err);
-    if (s == EDDY_OK)
-        s = sol_system_alloc(gc, &sc, err);
-    size_t nn = 0;
-    if (s == EDDY_OK) {
-        r->coarse_unknowns += sol_unknowns(sc);
-        sol_set_memory_limit(sc, limit);
-        sol_set_ordering(sc, pick_ordering(r));
-        nn = (size_t)gc->nx * (size_t)gc->ny;
-        ac = malloc(nn * sizeof *ac);
-        if (ac == NULL)
-            s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the coarse field");
-    }
     sol_info info = {0};
     if (s == EDDY_OK)
-        s = sol_analyse(sc, &info, err);
+        s = grid_system(gc, limit, pick_ordering(r), &sc, &ac, &info, err);
+    size_t nn = gc != NULL ? (size_t)gc->nx * (size_t)gc->ny : 0;
+    if (sc != NULL)
+        r->coarse_unknowns += sol_unknowns(sc);
     sweep sw = {.r = r, .o = o, .sys = sc, .g = gc, .f = fc, .info = ic, .outputs = 0,
                 .status = EDDY_OK};
     if (s == EDDY_OK) {
@@ -471,18 +482,9 @@ static eddy_status box_truncation(app_report *r, const app_run_opts *o, double l
     sol_system *sys = NULL;
     double *a = NULL, slope = NAN;
     eddy_status s = mesh_grid_build(&co, limit, &g, NULL, err);
-    if (s == EDDY_OK)
-        s = sol_system_alloc(g, &sys, err);
-    if (s == EDDY_OK) {
-        sol_set_memory_limit(sys, limit);
-        sol_set_ordering(sys, SOL_ORDER_GRID_ND); /* one factorisation */
-        a = malloc((size_t)g->nx * (size_t)g->ny * sizeof *a);
-        if (a == NULL)
-            s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the open-box field");
-    }
     sol_info info = {0};
-    if (s == EDDY_OK)
-        s = sol_analyse(sys, &info, err);
+    if (s == EDDY_OK) /* one factorisation: the grid's own ordering */
+        s = grid_system(g, limit, SOL_ORDER_GRID_ND, &sys, &a, &info, err);
     if (s == EDDY_OK)
         s = static_field(sys, g, o, a, &slope, err);
     if (s == EDDY_OK && slope > 0)
@@ -511,19 +513,10 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
     sol_system *sys = NULL;
     double *a = NULL;
     size_t nn = (size_t)r->g->nx * (size_t)r->g->ny;
-    s = sol_system_alloc(r->g, &sys, err);
-    if (s == EDDY_OK) {
-        r->unknowns = sol_unknowns(sys);
-        /* memory guard: one factorisation must fit in the run's limit */
-        sol_set_memory_limit(sys, limit);
-        sol_set_ordering(sys, pick_ordering(r));
-        a = malloc(nn * sizeof *a);
-        if (a == NULL)
-            s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the field");
-    }
     sol_info info = {0};
-    if (s == EDDY_OK)
-        s = sol_analyse(sys, &info, err);
+    s = grid_system(r->g, limit, pick_ordering(r), &sys, &a, &info, err);
+    if (sys != NULL)
+        r->unknowns = sol_unknowns(sys);
     r->t_analyse += info.t_analyse;
     r->ordering = info.ordering;
     r->factor_bytes = sol_factor_bytes(sys);

@@ -14,6 +14,7 @@
 #include "mesh/mesh.h"
 #include "app/app.h"
 #include "solver/sol.h"
+#include "solver/sol_ref.h"
 
 typedef struct {
     mesh_case *c;
@@ -60,6 +61,25 @@ static inline int pipe_open(pipe_run *p, const char *json)
         return -1;
     }
     return 0;
+}
+
+/* The layered reference (solver/sol_ref.h) of the run's case at speed v
+ * into *q.  Returns 0; -1 (with a line saying why) when the case does not
+ * fit it, fits only approximately and allow_approx is 0, or it fails. */
+static inline int pipe_reference(const pipe_run *p, double v, int allow_approx,
+                                 sol_ref_result *q)
+{
+    sol_ref_problem prob;
+    sol_ref_source *src = NULL;
+    int nsrc = 0, approx = 0;
+    char why[256];
+    if (sol_ref_from_case(p->c, &prob, &src, &nsrc, &approx, why, sizeof why, NULL) != EDDY_OK) {
+        printf("# the case does not fit the reference: %s\n", why);
+        return -1;
+    }
+    eddy_status s = sol_ref_solve(&prob, src, nsrc, v, q, NULL);
+    free(src);
+    return s == EDDY_OK && (allow_approx || !approx) ? 0 : -1;
 }
 
 /* Solve at speed v and compute forces.  Returns 0 on success. */

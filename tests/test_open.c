@@ -21,8 +21,8 @@
 #include <stdio.h>
 
 #include "post/post.h"
-#include "solver/sol_ref.h"
 #include "tests/check.h"
+#include "tests/quad.h"
 #include "tests/pipeline.h"
 
 #define PI 3.14159265358979323846
@@ -33,36 +33,13 @@
 #define TOL_MAG 0.01      /* [LAY] magnet over a plate, open box 4x the magnet */
 #define TOL_REITZ 0.01    /* [R70] thin-sheet drag in an open box 8 h across */
 
-/* 24-point Gauss-Legendre nodes and weights on [-1, 1] by Newton on P_24. */
-static void gauss24(double *t, double *wt)
-{
-    const int n = 24;
-    for (int i = 0; i < n; i++) {
-        double x = cos(PI * (i + 0.75) / (n + 0.5)), dp = 1.0;
-        for (int it = 0; it < 100; it++) {
-            double p0 = 1.0, p1 = x;
-            for (int k = 2; k <= n; k++) {
-                double p2 = ((2.0 * k - 1.0) * x * p1 - (k - 1.0) * p0) / k;
-                p0 = p1;
-                p1 = p2;
-            }
-            dp = n * (x * p1 - p0) / (x * x - 1.0);
-            double dx = p1 / dp;
-            x -= dx;
-            if (fabs(dx) < 1e-15)
-                break;
-        }
-        t[i] = x;
-        wt[i] = 2.0 / ((1.0 - x * x) * dp * dp);
-    }
-}
 
 /* [BS] B of a uniform current I over [x0, x1] x [y0, y1] (m) at (x, y). */
 static void coil_field(double I, double x0, double y0, double x1, double y1, double x, double y,
                        double *bx, double *by)
 {
     double t[24], wt[24], sx = 0.0, sy = 0.0;
-    gauss24(t, wt);
+    quad_gauss_legendre(24, t, wt);
     double hx = 0.5 * (x1 - x0), hy = 0.5 * (y1 - y0), J = I / (4.0 * hx * hy);
     for (int p = 0; p < 24; p++)
         for (int q = 0; q < 24; q++) {
@@ -205,20 +182,6 @@ static int magnet_case(pipe_run *p, const char *bnd, double half_x, double half_
     return pipe_open(p, json);
 }
 
-static int magnet_reference(const pipe_run *p, double v, sol_ref_result *q)
-{
-    sol_ref_problem prob;
-    sol_ref_source *src = NULL;
-    int nsrc = 0, approx = 0;
-    char why[256];
-    if (sol_ref_from_case(p->c, &prob, &src, &nsrc, &approx, why, sizeof why, NULL) != EDDY_OK) {
-        printf("# the case does not fit the reference: %s\n", why);
-        return -1;
-    }
-    eddy_status s = sol_ref_solve(&prob, src, nsrc, v, q, NULL);
-    free(src);
-    return s == EDDY_OK ? 0 : -1;
-}
 
 /* Worst relative drag error and worst normal-force error (relative to the
  * largest |F_y|) against [LAY] at Rm = 0.1, 1, 10 (with the plate's
@@ -242,7 +205,7 @@ static int magnet_errors(const char *bnd, double half_x, double half_y, double *
         double v = rm[k] / (MU0 * sigma * t);
         post_forces f;
         sol_ref_result q;
-        if (pipe_speed(&p, v, &f) != 0 || magnet_reference(&p, v, &q) != 0) {
+        if (pipe_speed(&p, v, &f) != 0 || pipe_reference(&p, v, 1, &q) != 0) {
             rc = -1;
             break;
         }

@@ -63,20 +63,6 @@ static int open_case(pipe_run *p, const char *material, double sigma_t, int refi
     return pipe_open(p, json);
 }
 
-static int reference(const pipe_run *p, double v, sol_ref_result *q)
-{
-    sol_ref_problem prob;
-    sol_ref_source *src = NULL;
-    int nsrc = 0, approx = 0;
-    char why[256];
-    if (sol_ref_from_case(p->c, &prob, &src, &nsrc, &approx, why, sizeof why, NULL) != EDDY_OK) {
-        printf("# the case does not fit the reference: %s\n", why);
-        return -1;
-    }
-    eddy_status s = sol_ref_solve(&prob, src, nsrc, v, q, NULL);
-    free(src);
-    return s == EDDY_OK && !approx ? 0 : -1;
-}
 
 /* Copper plate: nodal normal force = 0 at rest, = Lorentz and = [LAY] at
  * Rm 0.001..100 (the line form of the stress carries a bias of ~18 N/m here). */
@@ -94,7 +80,7 @@ static void test_nonmagnetic(void)
     for (int k = 0; ok && k < NRM; k++) {
         double v = rm_list[k] / (MU0 * sigma_t);
         sol_ref_result q;
-        if (pipe_speed(&p, v, &f) != 0 || reference(&p, v, &q) != 0 || !f.nodal_ok) {
+        if (pipe_speed(&p, v, &f) != 0 || pipe_reference(&p, v, 0, &q) != 0 || !f.nodal_ok) {
             ok = 0;
             break;
         }
@@ -143,7 +129,7 @@ static void test_magnetic(void)
         double v = k == 0 ? 0.0 : rm_list[k - 1] / (MU0 * sigma_t);
         post_forces f;
         sol_ref_result q;
-        if (pipe_speed(&p, v, &f) != 0 || reference(&p, v, &q) != 0 ||
+        if (pipe_speed(&p, v, &f) != 0 || pipe_reference(&p, v, 0, &q) != 0 ||
             strcmp(f.force_method, "stress_tensor") != 0 || f.force_y != f.nodal_y) {
             ok = 0;
             break;
@@ -180,7 +166,7 @@ static void test_magnetic(void)
         sol_ref_result q;
         if (open_case(&p, "steel", sigma_t, r) != 0)
             break;
-        if (pipe_speed(&p, 0.0, &f) == 0 && reference(&p, 0.0, &q) == 0)
+        if (pipe_speed(&p, 0.0, &f) == 0 && pipe_reference(&p, 0.0, 0, &q) == 0)
             err[r - 1] = fabs(f.force_y - q.force_y);
         printf("# steel at rest, refine %d: nodal %.8g line %.8g reference %.8g N/m\n", r,
                f.nodal_y, f.stress_y, q.force_y);

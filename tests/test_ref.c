@@ -39,6 +39,7 @@
  */
 #include "solver/sol_ref.h"
 #include "tests/check.h"
+#include "tests/quad.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -70,28 +71,6 @@ static sol_ref_result solve(const sol_ref_problem *p, const sol_ref_source *s, i
     return r;
 }
 
-/* ---- Gauss-Legendre nodes (Newton on P_n), for the independent B0 integral */
-static void gauss_legendre(int n, double *x, double *w)
-{
-    for (int i = 0; i < n; i++) {
-        double z = cos(PI * (i + 0.75) / (n + 0.5)), dp = 1.0;
-        for (int it = 0; it < 100; it++) {
-            double p0 = 1.0, p1 = z;
-            for (int j = 2; j <= n; j++) {
-                double p2 = ((2.0 * j - 1.0) * z * p1 - (j - 1.0) * p0) / j;
-                p0 = p1;
-                p1 = p2;
-            }
-            dp = n * (z * p1 - p0) / (z * z - 1.0);
-            double dz = p1 / dp;
-            z -= dz;
-            if (fabs(dz) < 1e-16)
-                break;
-        }
-        x[i] = z;
-        w[i] = 2.0 / ((1.0 - z * z) * dp * dp);
-    }
-}
 
 /* B_y at (x, y) of a current sheet K (A/m, +z) at x = xs over a <= y' <= b,
  * for y < a (below the sheet): mu0 K/(2 pi) [atan((b-y)/X) - atan((a-y)/X)]. */
@@ -119,7 +98,7 @@ static double int_by2(const sol_ref_problem *p, const sol_ref_source *m)
 {
     enum { NG = 10, NTH = 400, NY = 40 };
     double gx[NG], gw[NG];
-    gauss_legendre(NG, gx, gw);
+    quad_gauss_legendre(NG, gx, gw); /* the independent B0 integral */
     double xc = 0.5 * (m->x0 + m->x1), a = m->x1 - m->x0;
     double sum = 0.0;
     double dth = PI / NTH, dy = (p->y_top - p->y_bot) / NY;
