@@ -209,6 +209,41 @@ static void print_table(const app_report *r)
     }
 }
 
+/* The error estimate and the tolerance, under the table: the largest
+ * estimates relative to the largest magnitudes of the sweep. */
+static void print_accuracy(const app_report *r)
+{
+    if (!r->estimated)
+        return;
+    double md = 0.0, mf = 0.0, ed = 0.0, ef = 0.0;
+    int unresolved = 0;
+    for (int k = 0; k < r->npoint; k++) {
+        const post_forces *f = &r->f[k];
+        md = fmax(md, fabs(f->drag));
+        mf = fmax(mf, fabs(f->force_y));
+        ed = fmax(ed, f->drag_error);
+        ef = fmax(ef, f->force_y_error);
+        unresolved += r->c->geometry == MESH_PLANAR && !(fabs(f->force_y) > f->force_y_error);
+    }
+    int balanced = mf < 1e-3 * md; /* a two-sided brake: no net normal force */
+    printf("accuracy (grid%s estimate): drag within %.2g %%", r->box_truncation > 1e-6 ? " and box" : "",
+           md > 0 ? 100.0 * ed / md : 0.0);
+    if (r->c->geometry == MESH_PLANAR && !balanced)
+        printf(", normal force within %.2g %%", mf > 0 ? 100.0 * ef / mf : 0.0);
+    printf(" of the largest; per point in result.json and forces.csv\n");
+    if (r->c->geometry == MESH_PLANAR && balanced)
+        printf("accuracy: the normal force stays below 0.1 %% of the drag at every speed "
+               "(balanced, e.g. by symmetry)\n");
+    else if (unresolved > 0)
+        printf("accuracy: %d normal force%s below what the grid resolves (force_y_resolved "
+               "false); ask for a mesh.tolerance\n",
+               unresolved, unresolved > 1 ? "s" : "");
+    if (r->c->mesh.tolerance > 0)
+        printf("tolerance %g: %s at mesh.refine %d after %d grid%s%s%s\n", r->c->mesh.tolerance,
+               r->tol_met ? "met" : "NOT met", r->tol_refine, r->tol_rounds,
+               r->tol_rounds > 1 ? "s" : "", r->tol_note[0] ? ": " : "", r->tol_note);
+}
+
 /* The damping coefficient, its linear range, a falling load's terminal
  * speed and a stop that cannot happen, under the table. */
 static void print_damping(const app_report *r)
@@ -262,6 +297,7 @@ static int cmd_solve(const char *path, int reference_only, const app_run_opts *o
     }
     if (!quiet) {
         print_table(r);
+        print_accuracy(r);
         print_damping(r);
         if (r->ref_state == APP_REF_NOT_APPLICABLE && !reference_only)
             printf("reference: the layered Fourier reference does not fit this case (%s)\n",

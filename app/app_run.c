@@ -568,6 +568,9 @@ static void worst_estimates(const app_report *r, double *wd, double *wf)
         ed = fmax(ed, r->f[k].drag_error);
         ef = fmax(ef, r->f[k].force_y_error);
     }
+    /* a normal force below 1e-3 of the drag everywhere (a two-sided brake,
+     * balanced by symmetry) is held to that floor, not to its own noise */
+    mf = fmax(mf, 1e-3 * md);
     *wd = md > 0 ? ed / md : 0.0;
     *wf = mf > 0 ? ef / mf : 0.0;
 }

@@ -78,6 +78,16 @@ head -n 1 "$T/res/forces.csv" | grep -q '^speed_m_per_s,drag_force_N_per_m' && [
     ok "forces.csv has a header with units and one row per speed" || ko "forces.csv" "$rows rows"
 echo "$out" | grep -q "licensed engineers" && ok "the report shows the safety notice" ||
     ko "safety notice" "not on stdout"
+echo "$out" | grep -Eq '^accuracy \(grid estimate\): drag within [0-9.e+-]+ %, normal force within [0-9.e+-]+ % of the largest' &&
+    ok "the report states the largest error estimates under the table" ||
+    ko "accuracy line" "$(echo "$out" | grep accuracy)"
+# mesh.tolerance: the report says whether it was met and on which grid
+sed 's/"speeds":\[1,5,25\]/"speeds":[1,5,25],"mesh":{"tolerance":0.005}/; s/cli_ok/cli_tol/' "$T/ok.json" > "$T/tol.json"
+out=$($E solve "$T/tol.json" -o "$T/tolres" 2>&1)
+echo "$out" | grep -Eq '^tolerance 0.005: met at mesh.refine [0-9]+ after [0-9]+ grids?' &&
+    grep -q '"met":	true' "$T/tolres/result.json" &&
+    ok "mesh.tolerance: the report and result.json say it was met" ||
+    ko "mesh.tolerance report" "$(echo "$out" | grep -i tolerance)"
 # check prints the mesh summary and solves nothing
 out=$($E check "$T/ok.json")
 echo "$out" | grep -q "unknowns" && echo "$out" | grep -q "memory" &&
