@@ -76,7 +76,11 @@ static void judge(const char *what, const double *t, const double *e, const doub
 /* Solve a case with magnets (mu_r = 1) and judge drag and normal force
  * against [LAY] at the speeds rm[] (magnetic Reynolds numbers of a plate of
  * sigma_t = sigma * thickness). */
-static void magnet_case(const char *name, const char *fmt, double sigma_t, const double *rm, int n)
+/* Solve the case text fmt (name and speed list as its two %s) at the speeds
+ * of magnetic Reynolds numbers rm[0..n-1] of a plate of sigma_t = sigma x
+ * thickness, without pictures; *s and *err as pipe_solve_text. */
+static app_report *solve_rm(const char *name, const char *fmt, double sigma_t, const double *rm,
+                            int n, eddy_status *s, eddy_error *err)
 {
     char sp[2048] = "[", json[4096];
     for (int k = 0; k < n; k++)
@@ -87,9 +91,14 @@ static void magnet_case(const char *name, const char *fmt, double sigma_t, const
     app_run_opts o;
     app_run_opts_defaults(&o);
     o.images = 0;
+    return pipe_solve_text(DIR, name, json, &o, s, err);
+}
+
+static void magnet_case(const char *name, const char *fmt, double sigma_t, const double *rm, int n)
+{
     eddy_status s;
     eddy_error err = {0};
-    app_report *r = pipe_solve_text(DIR, name, json, &o, &s, &err);
+    app_report *r = solve_rm(name, fmt, sigma_t, rm, n, &s, &err);
     int ok = s == EDDY_OK && r != NULL && r->estimated && r->ref_drag != NULL && r->npoint == n;
     char what[256];
     snprintf(what, sizeof what, "%s: the case solves with estimates and a reference", name);
@@ -123,18 +132,9 @@ static const double rm_list[] = {0.01, 0.1, 1.0, 3.16, 10.0, 31.6, 100.0};
 static void tolerance_case(const char *name, const char *fmt, double sigma_t)
 {
     static const double rm[] = {0.01, 0.1, 1.0, 10.0, 100.0};
-    char sp[512] = "[", json[4096];
-    for (int k = 0; k < 5; k++)
-        snprintf(sp + strlen(sp), sizeof sp - strlen(sp), "%s%.10g", k ? "," : "",
-                 rm[k] / (MU0 * sigma_t));
-    strcat(sp, "]");
-    snprintf(json, sizeof json, fmt, name, sp);
-    app_run_opts o;
-    app_run_opts_defaults(&o);
-    o.images = 0;
     eddy_status s;
     eddy_error err = {0};
-    app_report *r = pipe_solve_text(DIR, name, json, &o, &s, &err);
+    app_report *r = solve_rm(name, fmt, sigma_t, rm, 5, &s, &err);
     int ok = s == EDDY_OK && r != NULL && r->ref_drag != NULL;
     double ed = 0, ef = 0;
     int resolved = 1;
