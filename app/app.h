@@ -66,7 +66,10 @@ typedef struct {
     int tol_refine;             /* the refine factor of the final grid (1 without it) */
     int tol_rounds;             /* grids solved */
     int tol_met;                /* 1 if every estimate is below the tolerance */
-    double tol_worst_drag, tol_worst_fy; /* the largest estimate / largest magnitude */
+    double est_worst_drag, est_worst_fy; /* the largest estimate / the largest magnitude of
+                                 * the sweep (box included; the normal force's at least
+                                 * 1e-3 of the largest drag) */
+    int fy_balanced;            /* 1: the normal force stays below 1e-3 of the largest drag */
     char tol_note[256];         /* why the tolerance was not met, or "" */
     int npoint;
     post_forces *f;

@@ -215,23 +215,15 @@ static void print_accuracy(const app_report *r)
 {
     if (!r->estimated)
         return;
-    double md = 0.0, mf = 0.0, ed = 0.0, ef = 0.0;
-    int unresolved = 0;
-    for (int k = 0; k < r->npoint; k++) {
-        const post_forces *f = &r->f[k];
-        md = fmax(md, fabs(f->drag));
-        mf = fmax(mf, fabs(f->force_y));
-        ed = fmax(ed, f->drag_error);
-        ef = fmax(ef, f->force_y_error);
-        unresolved += r->c->geometry == MESH_PLANAR && !(fabs(f->force_y) > f->force_y_error);
-    }
-    int balanced = mf < 1e-3 * md; /* a two-sided brake: no net normal force */
-    printf("accuracy (grid%s estimate): drag within %.2g %%", r->box_truncation > 1e-6 ? " and box" : "",
-           md > 0 ? 100.0 * ed / md : 0.0);
-    if (r->c->geometry == MESH_PLANAR && !balanced)
-        printf(", normal force within %.2g %%", mf > 0 ? 100.0 * ef / mf : 0.0);
+    int planar = r->c->geometry == MESH_PLANAR, unresolved = 0;
+    for (int k = 0; k < r->npoint; k++)
+        unresolved += planar && !(fabs(r->f[k].force_y) > r->f[k].force_y_error);
+    printf("accuracy (grid%s estimate): drag within %.2g %%",
+           r->box_truncation > 1e-6 ? " and box" : "", 100.0 * r->est_worst_drag);
+    if (planar && !r->fy_balanced)
+        printf(", normal force within %.2g %%", 100.0 * r->est_worst_fy);
     printf(" of the largest; per point in result.json and forces.csv\n");
-    if (r->c->geometry == MESH_PLANAR && balanced)
+    if (planar && r->fy_balanced)
         printf("accuracy: the normal force stays below 0.1 %% of the drag at every speed "
                "(balanced, e.g. by symmetry)\n");
     else if (unresolved > 0)

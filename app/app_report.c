@@ -104,8 +104,8 @@ static void add_error_estimate(cJSON *root, const app_report *r)
         J(cJSON_AddBoolToObject(t, "met", r->tol_met));
         J(cJSON_AddNumberToObject(t, "final_refine", r->tol_refine));
         J(cJSON_AddNumberToObject(t, "fine_grids_solved", r->tol_rounds));
-        add_num(t, "drag_estimate_relative", r->tol_worst_drag);
-        add_num(t, "force_y_estimate_relative", r->tol_worst_fy);
+        add_num(t, "drag_estimate_relative", r->est_worst_drag);
+        add_num(t, "force_y_estimate_relative", r->est_worst_fy);
         J(cJSON_AddStringToObject(t, "relative_to", "the largest |drag| and |force_y| of the sweep"));
         if (r->tol_note[0] != '\0')
             J(cJSON_AddStringToObject(t, "note", r->tol_note));

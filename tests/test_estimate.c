@@ -149,7 +149,7 @@ static void tolerance_case(const char *name, const char *fmt, double sigma_t)
           "refine %d after %d fine grids, %ld unknowns; estimates %.3g %% (drag), %.3g %% (normal "
           "force) of the largest",
           ok ? r->tol_refine : 0, ok ? r->tol_rounds : 0, ok ? r->unknowns : 0L,
-          ok ? 100 * r->tol_worst_drag : NAN, ok ? 100 * r->tol_worst_fy : NAN);
+          ok ? 100 * r->est_worst_drag : NAN, ok ? 100 * r->est_worst_fy : NAN);
     snprintf(what, sizeof what,
              "%s, mesh.tolerance 0.002: drag and normal force within 0.3 %% of [LAY] at every "
              "speed, Rm 0.01..100 (each against its own value)",
