@@ -301,4 +301,73 @@ eddy_status sol_solve_newton(const sol_system *s, sol_work *w, double v, double 
                              double *nu_cells, int max_iter, sol_newton_info *nli,
                              sol_info *info, eddy_error *err);
 
+/* ------------------------------------------------------------------------ */
+/* Implicit time steps in the conductors' own frame (sol_step.c)             */
+/* ------------------------------------------------------------------------ */
+
+/*
+ * A time integration of
+ *
+ *     sigma dA/dt - div(nu grad A) = J_source + d/dx(nu Br_y) - d/dy(nu Br_x)
+ *
+ * (the conductors at rest in the frame of the grid, no convection term),
+ * discretised in space by the box integration of the steady problem at
+ * v = 0 (the same stencil, sources and boundaries) plus the lumped
+ * conductivity mass of each node's dual cell, and in time by backward Euler
+ * (the first step, or every step with order 1) and the variable-step BDF2
+ * (second order; both A-stable and L-stable).  Each step assembles
+ * (c0 / dt) M + K into the system's fixed pattern, factorises it numerically
+ * with the system's symbolic analysis, and solves with the history terms on
+ * the right-hand side.  Linear materials only (the initial permeability of
+ * the grid's nu).  Used through sol_stepper_alloc / _start / _advance.
+ */
+typedef struct sol_stepper sol_stepper;
+
+/*
+ * A time integrator for system s (its own workspace, history and mass).
+ *   s:   the system, analysed (sol_analyse) before the first step; borrowed,
+ *        must outlive the stepper.  The grid's sources are read at every
+ *        step, so a caller may change g->jz, g->brx, g->bry between steps
+ *        (they act at the end of the step: implicit).
+ *   out: receives the stepper, owned by the caller (sol_stepper_free); NULL
+ *        on error.  Its state is A = 0 at t = 0 without history.
+ * Returns EDDY_OK, EDDY_ERR_NOMEM, EDDY_ERR_INPUT (a grid with saturable
+ * cells: not supported by the time steps yet).
+ */
+eddy_status sol_stepper_alloc(const sol_system *s, sol_stepper **out, eddy_error *err);
+
+/* Free a stepper; accepts NULL. */
+void sol_stepper_free(sol_stepper *t);
+
+/*
+ * Restart the integration at time t0 (s) from the node values a0 (nx*ny,
+ * Wb/m, as sol_solve's output; NULL: A = 0 everywhere), forgetting the
+ * history: the next step is a backward Euler step.
+ */
+void sol_stepper_start(sol_stepper *t, double t0, const double *a0);
+
+/*
+ * One implicit step of length dt (s, finite, > 0) from the current state.
+ *   order:       1: backward Euler; 2: BDF2 with the variable-step
+ *                coefficients (ratio dt / previous dt), backward Euler when
+ *                there is no previous step yet.
+ *   sigma_cells: conductivity of each cell during the step, S/m (ncx*ncy);
+ *                NULL: the grid's sigma.
+ *   a:           output, nx*ny node values of A at the end of the step
+ *                (Wb/m; layout as sol_solve).  Caller-owned.
+ *   info:        optional statistics of the step (NULL).
+ * The state (time, the last two solutions) advances only on success.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (dt not finite and positive, order not 1
+ * or 2), EDDY_ERR_INTERNAL (s not analysed), EDDY_ERR_SINGULAR,
+ * EDDY_ERR_SOLVER, EDDY_ERR_NOMEM, EDDY_ERR_NUMERIC (non-finite values).
+ */
+eddy_status sol_stepper_advance(sol_stepper *t, double dt, int order, const double *sigma_cells,
+                                double *a, sol_info *info, eddy_error *err);
+
+/* Time of the current state, s (t0 plus the steps taken); 0 for NULL. */
+double sol_stepper_time(const sol_stepper *t);
+
+/* Steps taken since the last start; 0 for NULL. */
+long sol_stepper_steps(const sol_stepper *t);
+
 #endif

@@ -11,6 +11,8 @@
  *   sol_umf.c       UMFPACK: analysis, numeric factorisation and solve,
  *                   Matrix Market export, BLAS threads, status translation
  *   sol_newton.c    Newton-Raphson for saturable cells, with its Jacobian
+ *   sol_step.c      implicit time steps (backward Euler, BDF2) in the
+ *                   conductor's frame
  *   sol_bh.c        B-H curve interpolation
  */
 #ifndef EDDY_SOL_INT_H
@@ -96,6 +98,13 @@ void sol_assemble_cell(const sol_system *s, sol_work *w, int i, int j, const sol
  * otherwise. */
 void sol_assemble(const sol_system *s, sol_work *w, double v, const double *nuc);
 
+/* The lumped conductivity mass of every unknown into mass[s->n] (S, planar
+ * per metre of depth: sigma times the dual cell's area; S/m times the
+ * metric's measure in r-z), with the conductivity sigma_cells[k] (S/m,
+ * ncx*ncy) in cell k: the box integral of sigma dA/dt is mass[u] dA_u/dt
+ * (sol_assemble.c, derivation there). */
+void sol_mass(const sol_system *s, const double *sigma_cells, double *mass);
+
 /* ------------------------------------------------------------------------ */
 /* Pattern (sol_pattern.c) and UMFPACK (sol_umf.c)                           */
 /* ------------------------------------------------------------------------ */
@@ -125,6 +134,11 @@ eddy_status sol_umf_status(long st, const char *what, eddy_error *err);
 eddy_status sol_umf_factor_solve(const sol_system *s, sol_work *w, const double *b, double *x,
                                  const char *what_factor, const char *what_solve,
                                  sol_info *info, double *t_factor, double *t_solve,
+                                 eddy_error *err);
+
+/* The node values a (nx*ny) from the unknowns x (s->n): 0 on the fixed
+ * nodes.  Returns EDDY_OK, or EDDY_ERR_NUMERIC for a non-finite value. */
+eddy_status sol_scatter_solution(const sol_system *s, const double *x, double *a,
                                  eddy_error *err);
 
 #endif

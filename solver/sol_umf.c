@@ -231,8 +231,8 @@ eddy_status sol_umf_factor_solve(const sol_system *s, sol_work *w, const double 
 }
 
 /* The node values a (nx*ny) from the unknowns x: 0 on the fixed nodes. */
-static eddy_status scatter_solution(const sol_system *s, const double *x, double *a,
-                                    eddy_error *err)
+eddy_status sol_scatter_solution(const sol_system *s, const double *x, double *a,
+                                 eddy_error *err)
 {
     const mesh_grid *g = s->g;
     size_t nn = (size_t)g->nx * (size_t)g->ny;
@@ -269,7 +269,7 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
     }
     if (st != EDDY_OK)
         return st;
-    return scatter_solution(s, w->sol, a, err);
+    return sol_scatter_solution(s, w->sol, a, err);
 }
 
 eddy_status sol_solve(sol_system *s, double v, double *a, sol_info *info, eddy_error *err)
