@@ -136,6 +136,11 @@ eddy_status sol_umf_factor_solve(const sol_system *s, sol_work *w, const double 
                                  sol_info *info, double *t_factor, double *t_solve,
                                  eddy_error *err);
 
+/* The statistics of one numeric factorisation and solve of s into info
+ * (may be NULL): sizes, the analysis time of s, the given assembly, factor
+ * and solve times (s), the memory estimate and the ordering's name. */
+void sol_fill_info(const sol_system *s, sol_info *info, double t_asm, double t_fac, double t_sol);
+
 /* The node values a (nx*ny) from the unknowns x (s->n): 0 on the fixed
  * nodes.  Returns EDDY_OK, or EDDY_ERR_NUMERIC for a non-finite value. */
 eddy_status sol_scatter_solution(const sol_system *s, const double *x, double *a,

@@ -138,16 +138,7 @@ eddy_status sol_stepper_advance(sol_stepper *t, double dt, int order, const doub
     double t_asm = eddy_now() - t0, t_fac = 0.0, t_sol = 0.0;
     eddy_status st = sol_umf_factor_solve(s, w, t->b, w->sol, "numeric factorisation of a time step",
                                           "solve of a time step", info, &t_fac, &t_sol, err);
-    if (info != NULL) {
-        info->n = s->n;
-        info->nnz = s->Ap[s->n];
-        info->t_analyse = s->t_analyse;
-        info->t_assemble = t_asm;
-        info->t_factor = t_fac;
-        info->t_solve = t_sol;
-        info->est_peak_bytes = s->est_peak_bytes;
-        info->ordering = sol_ordering_name(s->ordering);
-    }
+    sol_fill_info(s, info, t_asm, t_fac, t_sol);
     if (st == EDDY_OK)
         st = sol_scatter_solution(s, w->sol, a, err);
     if (st != EDDY_OK)

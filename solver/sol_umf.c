@@ -245,6 +245,20 @@ eddy_status sol_scatter_solution(const sol_system *s, const double *x, double *a
     return EDDY_OK;
 }
 
+void sol_fill_info(const sol_system *s, sol_info *info, double t_asm, double t_fac, double t_sol)
+{
+    if (info == NULL)
+        return;
+    info->n = s->n;
+    info->nnz = s->Ap[s->n];
+    info->t_analyse = s->t_analyse;
+    info->t_assemble = t_asm;
+    info->t_factor = t_fac;
+    info->t_solve = t_sol;
+    info->est_peak_bytes = s->est_peak_bytes;
+    info->ordering = sol_ordering_name(s->ordering);
+}
+
 eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a,
                            sol_info *info, eddy_error *err)
 {
@@ -257,16 +271,7 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
     double t_asm = eddy_now() - t0, t_fac = 0.0, t_sol = 0.0;
     eddy_status st = sol_umf_factor_solve(s, w, w->rhs, w->sol, "numeric factorisation", "solve",
                                           info, &t_fac, &t_sol, err);
-    if (info != NULL) {
-        info->n = s->n;
-        info->nnz = s->Ap[s->n];
-        info->t_analyse = s->t_analyse;
-        info->t_assemble = t_asm;
-        info->t_factor = t_fac;
-        info->t_solve = t_sol;
-        info->est_peak_bytes = s->est_peak_bytes;
-        info->ordering = sol_ordering_name(s->ordering);
-    }
+    sol_fill_info(s, info, t_asm, t_fac, t_sol);
     if (st != EDDY_OK)
         return st;
     return sol_scatter_solution(s, w->sol, a, err);
