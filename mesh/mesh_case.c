@@ -30,14 +30,8 @@ static eddy_status read_domain(mesh_reader *r, const cJSON *root)
                              "missing (an object with x, y and boundaries is required)");
     MESH_TRY(mesh_json_object(r, dom, "domain", keys));
     double xs[2], ys[2];
-    const cJSON *it = cJSON_GetObjectItemCaseSensitive(dom, "x");
-    if (it == NULL)
-        return mesh_json_bad(r, "domain.x", "missing ([x0, x1] is required)");
-    MESH_TRY(mesh_json_numbers(r, it, "domain.x", 2, xs));
-    it = cJSON_GetObjectItemCaseSensitive(dom, "y");
-    if (it == NULL)
-        return mesh_json_bad(r, "domain.y", "missing ([y0, y1] is required)");
-    MESH_TRY(mesh_json_numbers(r, it, "domain.y", 2, ys));
+    MESH_TRY(mesh_json_numbers_at(r, dom, "x", "domain.x", "[x0, x1]", 2, xs));
+    MESH_TRY(mesh_json_numbers_at(r, dom, "y", "domain.y", "[y0, y1]", 2, ys));
     if (!(xs[1] > xs[0]))
         return mesh_json_bad(r, "domain.x", "x1 must be greater than x0");
     if (!(ys[1] > ys[0]))

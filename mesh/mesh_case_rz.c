@@ -58,14 +58,8 @@ eddy_status mesh_case_read_domain_rz(mesh_reader *r, const cJSON *root)
                             "give \"r\": [0, R], \"z\": [z0, z1] and \"z_boundary\""));
     MESH_TRY(mesh_json_object(r, dom, "domain", keys));
     double rs[2], zs[2];
-    const cJSON *it = cJSON_GetObjectItemCaseSensitive(dom, "r");
-    if (it == NULL)
-        return mesh_json_bad(r, "domain.r", "missing ([0, R] is required)");
-    MESH_TRY(mesh_json_numbers(r, it, "domain.r", 2, rs));
-    it = cJSON_GetObjectItemCaseSensitive(dom, "z");
-    if (it == NULL)
-        return mesh_json_bad(r, "domain.z", "missing ([z0, z1] is required)");
-    MESH_TRY(mesh_json_numbers(r, it, "domain.z", 2, zs));
+    MESH_TRY(mesh_json_numbers_at(r, dom, "r", "domain.r", "[0, R]", 2, rs));
+    MESH_TRY(mesh_json_numbers_at(r, dom, "z", "domain.z", "[z0, z1]", 2, zs));
     if (rs[0] != 0.0)
         return mesh_json_bad(r, "domain.r", "must start on the axis, r = 0 (got %g)", rs[0]);
     if (!(rs[1] > 0.0))

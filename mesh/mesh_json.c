@@ -155,6 +155,15 @@ eddy_status mesh_json_numbers(mesh_reader *r, const cJSON *item, const char *p, 
     return EDDY_OK;
 }
 
+eddy_status mesh_json_numbers_at(mesh_reader *r, const cJSON *obj, const char *key,
+                                 const char *p, const char *shape, int n, double *vals)
+{
+    const cJSON *it = cJSON_GetObjectItemCaseSensitive(obj, key);
+    if (it == NULL)
+        return mesh_json_bad(r, p, "missing (%s is required)", shape);
+    return mesh_json_numbers(r, it, p, n, vals);
+}
+
 eddy_status mesh_json_string(mesh_reader *r, const cJSON *obj, const char *key,
                              const char *path, int required, const char **out)
 {

@@ -80,6 +80,12 @@ eddy_status mesh_json_number(mesh_reader *r, const cJSON *obj, const char *key,
 eddy_status mesh_json_numbers(mesh_reader *r, const cJSON *item, const char *p, int n,
                               double *vals);
 
+/* The required array obj[key] (at path p) of exactly n finite numbers into
+ * vals[n]; when it is absent the message is "missing (<shape> is
+ * required)", shape e.g. "[x0, x1]".  Returns EDDY_OK or EDDY_ERR_INPUT. */
+eddy_status mesh_json_numbers_at(mesh_reader *r, const cJSON *obj, const char *key,
+                                 const char *p, const char *shape, int n, double *vals);
+
 /* A string at obj[key]: *out points into the cJSON tree, or is NULL if the
  * key is absent (an error if required).  Returns EDDY_OK or EDDY_ERR_INPUT. */
 eddy_status mesh_json_string(mesh_reader *r, const cJSON *obj, const char *key,
