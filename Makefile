@@ -23,7 +23,7 @@ LIB_SRC    = $(wildcard mesh/*.c) $(wildcard solver/*.c) $(wildcard post/*.c) \
 LIB_OBJ    = $(LIB_SRC:%.c=$(B)/%.o)
 CLI_OBJ    = $(CLI_SRC:%.c=$(B)/%.o)
 
-TESTS = test_mesh test_solver test_ref test_validation test_damping test_post_forces test_open test_estimate test_post_img test_post_fields test_outputs test_sweep test_design test_brake test_nonlinear test_batch test_batch_alloc test_fuzz_corpus test_rz test_pass
+TESTS = test_mesh test_solver test_ref test_validation test_damping test_post_forces test_open test_estimate test_post_img test_post_fields test_outputs test_sweep test_design test_brake test_nonlinear test_batch test_batch_alloc test_fuzz_corpus test_rz test_pass test_pass_motion
 TEST_BIN = $(TESTS:%=$(B)/tests/%)
 
 .PHONY: all test demo deps clean asan sanitize fuzz valgrind valgrind-case slurm-test browser-test convergence bench same-outputs

@@ -179,6 +179,8 @@ typedef struct {
                               * 0: from the static field (conductors at rest) */
     int order;               /* 1: backward Euler; 2: BDF2 (default; the first step
                               * is backward Euler) */
+    double band_cell;        /* m, the band's cell width asked for; 0: the finest x
+                              * size the mesher uses in the band, at most the step */
 } mesh_pass;
 
 typedef struct {

@@ -14,7 +14,7 @@
 eddy_status mesh_case_read_pass(mesh_reader *r, const cJSON *root)
 {
     static const char *const keys[] = {"speed", "distance", "step", "coupled", "pictures_every",
-                                       "start", "order", NULL};
+                                       "start", "order", "band_cell", NULL};
     mesh_case *c = r->c;
     const cJSON *p = cJSON_GetObjectItemCaseSensitive(root, "pass");
     if (p == NULL)
@@ -54,6 +54,11 @@ eddy_status mesh_case_read_pass(mesh_reader *r, const cJSON *root)
     if (order != 1 && order != 2)
         return mesh_json_bad(r, "pass.order", "must be 1 (backward Euler) or 2 (BDF2)");
     h->order = (int)order;
+    found = 0;
+    MESH_TRY(mesh_json_number(r, p, "band_cell", "pass", 0, &h->band_cell, &found));
+    if (found && !(h->band_cell > 0 && h->band_cell <= h->step / c->length_scale * (1 + 1e-12)))
+        return mesh_json_bad(r, "pass.band_cell", "must be positive and at most pass.step");
+    h->band_cell *= c->length_scale;
     return EDDY_OK;
 }
 

@@ -549,6 +549,8 @@ static int plan_pass_band(const mesh_case *c, axis_spec *a, double growth, doubl
     }
     if (c->mesh.min_size > 0 && h0 < c->mesh.min_size)
         h0 = c->mesh.min_size;
+    if (c->pass.band_cell > 0) /* asked for: the refine factor still divides it */
+        h0 = c->pass.band_cell;
     double half = ceil(len / (2.0 * h0) - 1e-9);
     if (half < 1)
         half = 1;
