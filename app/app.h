@@ -84,7 +84,9 @@ typedef struct {
                                  * not computed */
     const char *ordering;       /* fill-reducing ordering used (static text) */
     double factor_bytes;        /* UMFPACK's estimated peak memory of one factorisation */
-    int threads;                /* speeds solved at once */
+    int threads;                /* speeds solved at once (the most of any sweep) */
+    int blas_threads;           /* BLAS threads per factorisation (the most used) */
+    char blas[256];             /* the BLAS as detected (sol_blas_name) */
     /* brake design (app_design.c) */
     int has_peak;
     double peak_drag, peak_speed; /* N/m, m/s (interpolated when peak_refined) */

@@ -494,7 +494,9 @@ static void add_mesh(cJSON *root, const app_report *r)
     add_num(solver, "mesh_seconds", r->t_mesh);
     add_num(solver, "analyse_seconds", r->t_analyse);
     J(cJSON_AddStringToObject(solver, "ordering", r->ordering != NULL ? r->ordering : ""));
-    J(cJSON_AddNumberToObject(solver, "threads", r->threads));
+    J(cJSON_AddNumberToObject(solver, "speed_workers", r->threads));
+    J(cJSON_AddStringToObject(solver, "blas", r->blas));
+    J(cJSON_AddNumberToObject(solver, "blas_threads", r->blas_threads));
     add_num(solver, "factor_memory_estimate_bytes", r->factor_bytes);
 }
 

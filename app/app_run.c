@@ -188,6 +188,7 @@ static eddy_status prepare(const char *case_path, const app_run_opts **o,
     if (r == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
     r->ref_mu1_offset = NAN;
+    sol_blas_name(r->blas, sizeof r->blas);
     r->damping = r->linear_speed = r->terminal_speed = r->terminal_linear = NAN;
     eddy_status s = mesh_case_load(case_path, &r->c, err);
     if (s != EDDY_OK) {
@@ -296,14 +297,21 @@ static void *sweep_worker(void *arg)
     return NULL;
 }
 
-/* How many speeds to solve at once: the request (0: the cores), at most the
- * number of speeds, and only as many numeric factorisations as fit in the
- * run's memory limit by the solver's estimate. */
+/* The cores this run may use: the request (a batch case's share, or
+ * --threads), else the machine's. */
+static int core_budget(const app_run_opts *o)
+{
+    long cores = sysconf(_SC_NPROCESSORS_ONLN);
+    return o->threads > 0 ? o->threads : (int)(cores > 0 ? cores : 1);
+}
+
+/* How many speeds to solve at once: the cores, at most the number of
+ * speeds, and only as many numeric factorisations as fit in the run's
+ * memory limit by the solver's estimate. */
 static int sweep_threads(const app_run_opts *o, int npoint, double factor_bytes,
                          double field_bytes)
 {
-    long cores = sysconf(_SC_NPROCESSORS_ONLN);
-    int n = o->threads > 0 ? o->threads : (int)(cores > 0 ? cores : 1);
+    int n = core_budget(o);
     if (!sol_concurrency_safe())
         return 1; /* a BLAS that is not safe for concurrent factorisations */
     if (n > npoint)
@@ -313,6 +321,32 @@ static int sweep_threads(const app_run_opts *o, int npoint, double factor_bytes,
     if (per > 0 && n > 1 && n * per > avail)
         n = (int)(avail / per);
     return n < 1 ? 1 : n;
+}
+
+/* A numeric factorisation of this many unknowns or more runs faster on all the cores inside a threaded BLAS
+ * when it is the only one running (measured with OpenBLAS 0.3.21 pthread on
+ * 2 cores, make bench: 42.6 Gflop at 1.06M unknowns 6.66 s on one thread,
+ * 4.98 s on two; 14.4 Gflop at 0.51M unknowns 1.71 s on one, 2.26 s on two;
+ * 3.9 Gflop at 0.23M unknowns 0.83 s on one, 0.92 s on two; medians of 3).
+ * Two or more factorisations at once always run one BLAS thread each: two
+ * speeds at once took 3.6 s per speed at 1.06M unknowns, against 4.98 s one
+ * at a time on two BLAS threads.  (UMFPACK's flop estimate is no guide:
+ * 6.0e9 against 8.9e7 counted for cases/sled_fin.json.) */
+#define APP_BLAS_THREADED_UNKNOWNS 800000
+
+/* Set the BLAS threads of each of `workers` concurrent factorisations of
+ * sys (the cores left over, or one when small) and note them in r. */
+static void set_blas_threads(app_report *r, const app_run_opts *o, const sol_system *sys,
+                             int workers)
+{
+    int bt = 1; /* any other BLAS: one thread of its own */
+    if (sol_blas_threaded()) {
+        if (workers <= 1 && sol_unknowns(sys) >= APP_BLAS_THREADED_UNKNOWNS)
+            bt = core_budget(o);
+        sol_blas_threads(bt);
+    }
+    if (bt > r->blas_threads)
+        r->blas_threads = bt;
 }
 
 /* Solve the speeds from index k0 to the report's npoint, on as many threads
@@ -327,8 +361,7 @@ static eddy_status run_sweep(sweep *sw, int k0, size_t nn, eddy_error *err)
     sw->next = k0;
     sw->done = k0;
     pthread_mutex_init(&sw->lock, NULL);
-    if (nt > 1)
-        sol_blas_threads(1);
+    set_blas_threads(r, sw->o, sw->sys, nt);
     int started = 0;
     for (int t = 1; t < nt; t++)
         if (pthread_create(&tid[started], NULL, sweep_worker, sw) == 0)
@@ -406,11 +439,12 @@ static eddy_status grid_system(const mesh_grid *g, double limit, sol_ordering or
 
 /* The static field of sys on g into a (Newton for saturable materials) and
  * the damping coefficient from it into *slope. */
-static eddy_status static_field(sol_system *sys, const mesh_grid *g, const app_run_opts *o,
-                                double *a, double *slope, eddy_error *err)
+static eddy_status static_field(app_report *r, sol_system *sys, const mesh_grid *g,
+                                const app_run_opts *o, double *a, double *slope, eddy_error *err)
 {
     sol_info info = {0};
     eddy_status s;
+    set_blas_threads(r, o, sys, 1);
     if (sol_is_nonlinear(sys)) {
         sol_work *w0 = NULL;
         s = sol_work_alloc(sys, &w0, err);
@@ -448,7 +482,7 @@ static eddy_status coarse_pass(app_report *r, const app_run_opts *o, double limi
                 .status = EDDY_OK};
     if (s == EDDY_OK) {
         sw.factor_bytes = sol_factor_bytes(sc);
-        s = static_field(sc, gc, o, ac, &sw.slope, err);
+        s = static_field(r, sc, gc, o, ac, &sw.slope, err);
         sw.a_static = sol_is_nonlinear(sc) ? ac : NULL;
     }
     if (s == EDDY_OK)
@@ -486,7 +520,7 @@ static eddy_status box_truncation(app_report *r, const app_run_opts *o, double l
     if (s == EDDY_OK) /* one factorisation: the grid's own ordering */
         s = grid_system(g, limit, SOL_ORDER_GRID_ND, &sys, &a, &info, err);
     if (s == EDDY_OK)
-        s = static_field(sys, g, o, a, &slope, err);
+        s = static_field(r, sys, g, o, a, &slope, err);
     if (s == EDDY_OK && slope > 0)
         r->box_truncation = fabs(r->damping / slope - 1.0);
     free(a);
@@ -525,7 +559,7 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
     sweep sw = {.r = r, .o = o, .sys = sys, .g = r->g, .f = r->f, .info = r->info,
                 .outputs = 1, .factor_bytes = r->factor_bytes, .status = EDDY_OK};
     if (s == EDDY_OK) {
-        s = static_field(sys, r->g, o, a, &sw.slope, err);
+        s = static_field(r, sys, r->g, o, a, &sw.slope, err);
         if (sol_is_nonlinear(sys))
             sw.a_static = a; /* the sweep's starting point */
         else if (s == EDDY_OK && o->reference)

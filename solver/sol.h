@@ -133,15 +133,36 @@ eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err);
  * AMD Cholesky analysis of A + A' instead.  0 for s = NULL. */
 double sol_factor_bytes(const sol_system *s);
 
+/* The BLAS under UMFPACK is the library that defines dgemm_ in
+ * this process (on Debian the libblas.so.3 alternative), found at run time
+ * (dladdr) and asked through its own exported symbols; nothing links to a
+ * particular BLAS.  The functions below are thread-safe. */
+
 /* 1 if several numeric factorisations may run at once in this process: the
- * BLAS under UMFPACK is reentrant (not a sequential OpenBLAS build, which is
- * detected at run time); else 0. */
+ * BLAS is reentrant (not a sequential OpenBLAS build, which gave wrong
+ * numbers for concurrent callers); else 0. */
 int sol_concurrency_safe(void);
 
-/* Ask a threaded OpenBLAS for n >= 1 threads per call (no effect on other
- * BLAS, nor for n < 1); used so that concurrent speeds do not oversubscribe
- * the cores. */
+/* 1 if the BLAS is a threaded OpenBLAS, whose threads per call
+ * sol_blas_threads sets; else 0. */
+int sol_blas_threaded(void);
+
+/* Ask a threaded OpenBLAS for n >= 1 threads per call (process-wide; no
+ * effect on other BLAS, nor for n < 1); the runner sets it so that the
+ * speeds solved at once times the BLAS threads never exceed the cores. */
 void sol_blas_threads(int n);
+
+/* Threads per call the BLAS uses now: openblas_get_num_threads of a
+ * threaded OpenBLAS, else 1. */
+int sol_blas_get_threads(void);
+
+/* The BLAS as detected, for reports: "OpenBLAS <version and build
+ * configuration> (<file>)", "BLIS <version> (<file>)", "ATLAS (<file>)",
+ * "reference BLAS (<file>)" (Debian's netlib build, recognised by its
+ * folder) or "BLAS (<file>)"; <file> is the resolved path of the library of
+ * dgemm_.  Written into buf (size bytes, truncated, NUL-terminated; nothing
+ * for size 0 or buf NULL). */
+void sol_blas_name(char *buf, size_t size);
 
 /*
  * Solve at speed v (m/s; moving regions move at +v along x) with the
