@@ -8,7 +8,7 @@ PKG_CFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null | sed 's/-I/-isyst
 PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null || echo -lcjson -lpng16 -lcairo)
 CPPFLAGS = -D_POSIX_C_SOURCE=200809L -I. -isystem /usr/include/suitesparse $(PKG_CFLAGS)
 CFLAGS  += $(CSTD) $(WARN) $(OPT) $(SAN)
-LDLIBS   = -lumfpack -lamd -lsuitesparseconfig $(PKG_LIBS) -lm -lpthread
+LDLIBS   = -lcholmod -lumfpack -lamd -lsuitesparseconfig $(PKG_LIBS) -lm -lpthread
 LDFLAGS += $(SAN)
 
 B = build

@@ -86,6 +86,7 @@ typedef struct {
     double factor_bytes;        /* UMFPACK's estimated peak memory of one factorisation */
     int threads;                /* speeds solved at once (the most of any sweep) */
     int blas_threads;           /* BLAS threads per factorisation (the most used) */
+    int static_cholesky;        /* 1: the static field by Cholesky (CHOLMOD), 0: LU */
     char blas[256];             /* the BLAS as detected (sol_blas_name) */
     /* brake design (app_design.c) */
     int has_peak;

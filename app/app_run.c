@@ -549,8 +549,10 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
     size_t nn = (size_t)r->g->nx * (size_t)r->g->ny;
     sol_info info = {0};
     s = grid_system(r->g, limit, pick_ordering(r), &sys, &a, &info, err);
-    if (sys != NULL)
+    if (sys != NULL) {
         r->unknowns = sol_unknowns(sys);
+        r->static_cholesky = sol_uses_cholesky(sys);
+    }
     r->t_analyse += info.t_analyse;
     r->ordering = info.ordering;
     r->factor_bytes = sol_factor_bytes(sys);

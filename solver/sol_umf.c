@@ -339,6 +339,7 @@ void sol_fill_info(const sol_system *s, sol_info *info, double t_asm, double t_f
     info->t_solve = t_sol;
     info->est_peak_bytes = s->est_peak_bytes;
     info->ordering = sol_ordering_name(s->ordering);
+    info->cholesky = 0;
 }
 
 eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a,
@@ -346,14 +347,22 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
 {
     if (!isfinite(v))
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "speed must be finite");
-    if (s->symbolic == NULL)
+    int chol = v == 0.0 && sol_uses_cholesky(s) && s->chol_symbolic != NULL;
+    if (s->symbolic == NULL && !chol)
         return EDDY_RAISE(err, EDDY_ERR_INTERNAL, "sol_solve_work before sol_analyse");
     double t0 = eddy_now();
     sol_assemble(s, w, v, s->g->nu);
     double t_asm = eddy_now() - t0, t_fac = 0.0, t_sol = 0.0;
-    eddy_status st = sol_umf_factor_solve(s, w, w->rhs, w->sol, "numeric factorisation", "solve",
-                                          info, &t_fac, &t_sol, err);
+    eddy_status st = chol ? sol_chol_factor_solve(s, w, w->rhs, w->sol, info, &t_fac, &t_sol, err)
+                          : sol_umf_factor_solve(s, w, w->rhs, w->sol, "numeric factorisation",
+                                                 "solve", info, &t_fac, &t_sol, err);
     sol_fill_info(s, info, t_asm, t_fac, t_sol);
+    if (info != NULL && chol) {
+        info->ordering = sol_ordering_name(SOL_ORDER_GRID_ND);
+        info->t_analyse = s->t_chol_analyse;
+        info->est_peak_bytes = s->chol_bytes;
+        info->cholesky = 1;
+    }
     if (st != EDDY_OK)
         return st;
     return sol_scatter_solution(s, w->sol, a, err);
@@ -361,7 +370,8 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
 
 eddy_status sol_solve(sol_system *s, double v, double *a, sol_info *info, eddy_error *err)
 {
-    eddy_status st = sol_analyse(s, info, err);
+    eddy_status st = v == 0.0 && sol_uses_cholesky(s) ? sol_analyse_static(s, info, err)
+                                                       : sol_analyse(s, info, err);
     if (st != EDDY_OK)
         return st;
     return sol_solve_work(s, s->work, v, a, info, err);
