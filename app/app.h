@@ -54,6 +54,8 @@ typedef struct {
     const char *method;         /* static text: how the forces were computed */
     long unknowns;              /* 0 for a reference-only run */
     double t_mesh, t_analyse;   /* s */
+    double t_static;            /* s, the static field of the fine grid(s) (and the
+                                 * reference's mu_r = 1 offset where it is computed) */
     /* error estimate (mesh.error_estimate, on by default): the coarse grid of
      * the family, solved at every speed after the sweep */
     int estimated;              /* 1 if every point has its *_error fields */
