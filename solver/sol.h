@@ -36,7 +36,9 @@ typedef struct sol_work sol_work;
 typedef enum {
     SOL_ORDER_AMD = 0,   /* UMFPACK's AMD on A + A' */
     SOL_ORDER_METIS,     /* METIS nested dissection (through UMFPACK) */
-    SOL_ORDER_GRID_ND    /* geometric nested dissection of the tensor grid (sol_pattern.c) */
+    SOL_ORDER_GRID_ND,   /* geometric nested dissection of the tensor grid (sol_pattern.c) */
+    SOL_ORDER_COLAMD     /* COLAMD on A'A with UMFPACK's unsymmetric strategy (for
+                          * comparison: make bench measured it slowest) */
 } sol_ordering;
 
 /* The default of a new system (cheapest analysis); the runner (app_run.c)
@@ -109,7 +111,7 @@ void sol_work_free(sol_work *w);
  * discards an earlier symbolic factorisation). */
 void sol_set_ordering(sol_system *s, sol_ordering o);
 
-/* Name of an ordering ("amd", "metis", "grid-nd"; "unknown" for another
+/* Name of an ordering ("amd", "metis", "grid-nd", "colamd"; "unknown" for another
  * value); static storage, not to be freed. */
 const char *sol_ordering_name(sol_ordering o);
 

@@ -172,6 +172,7 @@ const char *sol_ordering_name(sol_ordering o)
     case SOL_ORDER_AMD: return "amd";
     case SOL_ORDER_METIS: return "metis";
     case SOL_ORDER_GRID_ND: return "grid-nd";
+    case SOL_ORDER_COLAMD: return "colamd";
     }
     return "unknown";
 }
@@ -190,6 +191,9 @@ void sol_set_memory_limit(sol_system *s, double bytes) { s->memory_limit = bytes
  * given ordering cannot be allocated (no factorisation then). */
 static eddy_status symbolic(sol_system *s, double *uinfo, long *st, eddy_error *err)
 {
+    /* COLAMD is UMFPACK's ordering of the unsymmetric strategy */
+    s->control[UMFPACK_STRATEGY] = s->ordering == SOL_ORDER_COLAMD ? UMFPACK_STRATEGY_UNSYMMETRIC
+                                                                   : UMFPACK_STRATEGY_SYMMETRIC;
     if (s->ordering == SOL_ORDER_GRID_ND) {
         long *perm = malloc((size_t)s->n * sizeof *perm);
         if (perm == NULL)
