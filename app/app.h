@@ -116,7 +116,104 @@ typedef struct {
     char terminal_note[512];    /* how terminal_speed was found, or why it is NAN */
     int adapt_rounds;           /* adaptive sweep: refinement rounds done */
     char outdir[4096];          /* where the outputs went */
+    /* A pass case (mesh_case.pass): c above is its steady counterpart (the
+     * moving regions stretched over the domain, mesh_case_steady_of_pass),
+     * solved at the case's speeds for the comparison; pass_case is the case
+     * as read and pass its time-stepped record.  NULL otherwise. */
+    mesh_case *pass_case;
+    struct app_pass_result_s *pass;
 } app_report;
+
+/* ------------------------------------------------------------------------ */
+/* A time-stepped pass (app_pass.c)                                          */
+/* ------------------------------------------------------------------------ */
+
+/* The record of a pass (mesh_case.pass). */
+typedef struct app_pass_result_s {
+    long n;                     /* samples: the starting state (index 0) and one per step */
+    double *position;           /* n, m travelled by the moving regions */
+    double *time;               /* n, s */
+    double *speed;              /* n, m/s during the step ending at the sample (index 0:
+                                 * the starting speed) */
+    double *drag, *force_y;     /* n, N/m on the moving regions (force_method) */
+    double *drag_stress;        /* n, N/m, the Maxwell-stress drag (line form) as a check;
+                                 * NAN where it has no air contour */
+    double *loss;               /* n, W/m, Joule power of the step in every conductor */
+    double *energy;             /* n, J/m, discrete magnetic energy (sol_stepper_energy;
+                                 * a constant apart) */
+    const char *force_method;   /* post_forces.force_method of the steps */
+    double work;                /* J/m, integral of drag dx over the pass */
+    double heat;                /* J/m, integral of loss dt */
+    double energy_change;       /* J/m, energy[n-1] - energy[0] */
+    double step;                /* m, the step actually taken (whole band cells) */
+    double band_h;              /* m, the band's cell width */
+    int cells_per_step;
+    double exit_speed;          /* m/s, speed at the end (coupled: from the vehicle) */
+    int stopped;                /* coupled: 1 if the load stopped within the distance */
+    double steady_speed;        /* m/s, the speed of the steady comparison (pass.speed) */
+    double steady_drag, steady_force_y; /* N/m, steady solver on the steady counterpart
+                                 * (infinite conductor) at steady_speed; NAN if none */
+    double steady_exit_speed;   /* coupled: m/s at the end of the same distance from the
+                                 * steady force curve (app_pass_steady_model); NAN else */
+    long nx, ny, unknowns;
+    long factorisations;        /* numeric factorisations of the steps */
+    long reused;                /* steps that reused the previous factors */
+    double t_total;             /* s, the whole pass */
+    int npicture;               /* picture pairs written */
+} app_pass_result;
+
+/* Options of a pass. */
+typedef struct {
+    const char *outdir;         /* folder for the pictures (must exist); NULL: none */
+    int images;                 /* 1: J_z and |B| pictures every pass.pictures_every */
+    int full_domain;            /* pictures of the whole domain */
+    double memory_limit;        /* bytes (eddy_memory_limit); <= 0: the default */
+} app_pass_opts;
+
+/*
+ * Run the pass of case c: mesh it (with the uniform band), solve the static
+ * field (or the steady moving one with pass.start "steady"), then step the
+ * moving regions through the fixed ones with sol_stepper_advance_frame, one
+ * symbolic analysis for all steps, recording the forces (post_forces_pass),
+ * the Joule power and the magnetic energy of every step.  With pass.coupled
+ * the speed follows the vehicle: m v dv/dx = m g [gravity] - extra_force -
+ * F depth repeat, integrated exactly over each step for the step's force
+ * (the kinetic energy changes by the work of the step), and dt = step / v.
+ * The run ends after pass.distance, or when a coupled load stops.
+ *   c:   a validated case with a pass; borrowed.
+ *   o:   options, or NULL (no pictures).
+ *   out: receives the record (app_pass_result_free); NULL on error.
+ * The steady_* fields are NAN here; app_run_solve fills them.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (no pass, saturable materials),
+ * EDDY_ERR_TOO_LARGE, EDDY_ERR_NOMEM, EDDY_ERR_IO, or a solver status.
+ */
+eddy_status app_pass_run(const mesh_case *c, const app_pass_opts *o, app_pass_result **out,
+                         eddy_error *err);
+
+/* Free a pass record; accepts NULL. */
+void app_pass_result_free(app_pass_result *r);
+
+/*
+ * The coupled pass's steady model: the vehicle of c integrated over the
+ * pass's distance, m v dv/dx = m g [gravity] - extra_force - F(v) depth
+ * repeat, from pass.speed with the steady drag F (N/m) interpolated linearly
+ * in speed between the n points (speed[k], drag[k]) (and F = 0 at v = 0;
+ * held at the last value above the highest speed).  Returns the speed at the
+ * end of the distance, m/s, 0 if the load stops, NAN without a vehicle.
+ */
+double app_pass_steady_model(const mesh_case *c, int n, const double *speed,
+                             const double *drag);
+
+/* Write DIR/pass.csv (one row per sample, header with units) and, with
+ * images, DIR/pass.png (drag, normal force and loss / speed against the
+ * position, the steady drag at the same speed dashed where known).
+ * Returns EDDY_OK, EDDY_ERR_IO, EDDY_ERR_NOMEM. */
+eddy_status app_pass_write(const char *dir, const mesh_case *c, const app_pass_result *p,
+                           int images, eddy_error *err);
+
+/* The "pass" object of result.json for p (cJSON owned by the caller), or
+ * NULL when out of memory. */
+struct cJSON *app_pass_json(const mesh_case *c, const app_pass_result *p);
 
 /* Free a report and everything it owns; accepts NULL. */
 void app_report_free(app_report *r);

@@ -209,6 +209,31 @@ static void print_table(const app_report *r)
     }
 }
 
+/* A pass: its steps, the forces at the end, the energy balance, the exit
+ * speed of a coupled load. */
+static void print_pass(const app_report *r)
+{
+    const app_pass_result *p = r->pass;
+    const mesh_case *c = r->pass_case;
+    if (p == NULL || c == NULL)
+        return;
+    long k = p->n - 1;
+    printf("pass: %ld steps of %.4g %s (%d band cell%s), %.4g %s in %.4g ms; at the end drag "
+           "%.5g N/m, normal force %.5g N/m",
+           k, p->step / c->length_scale, c->length_unit, p->cells_per_step,
+           p->cells_per_step == 1 ? "" : "s", p->position[k] / c->length_scale, c->length_unit,
+           1e3 * p->time[k], p->drag[k], p->force_y[k]);
+    if (isfinite(p->steady_drag))
+        printf(" (steady, infinite conductor: drag %.5g N/m)", p->steady_drag);
+    printf("\n");
+    double bal = p->work != 0 ? (p->work - p->heat - p->energy_change) / fabs(p->work) : 0.0;
+    printf("pass energy: work %.5g J/m = heat %.5g J/m + magnetic energy change %.5g J/m "
+           "(%+.2g %%)\n", p->work, p->heat, p->energy_change, 100.0 * bal);
+    if (c->pass.coupled)
+        printf("pass: exit speed %.5g m/s%s (the steady force curve gives %.5g m/s)\n",
+               p->exit_speed, p->stopped ? ", stopped" : "", p->steady_exit_speed);
+}
+
 /* The error estimate and the tolerance, under the table: the largest
  * estimates relative to the largest magnitudes of the sweep. */
 static void print_accuracy(const app_report *r)
@@ -291,6 +316,7 @@ static int cmd_solve(const char *path, int reference_only, const app_run_opts *o
         print_table(r);
         print_accuracy(r);
         print_damping(r);
+        print_pass(r);
         if (r->ref_state == APP_REF_NOT_APPLICABLE && !reference_only)
             printf("reference: the layered Fourier reference does not fit this case (%s)\n",
                    r->ref_note);

@@ -20,7 +20,8 @@ int app_run_is_output(const char *f)
 {
     size_t n = strlen(f);
     static const char *const fixed[] = {"result.json", "forces.csv", "stopping.csv",
-                                        "forces.png",  "stopping.png", NULL};
+                                        "forces.png",  "stopping.png", "pass.csv",
+                                        "pass.png",    NULL};
     for (int k = 0; fixed[k] != NULL; k++)
         if (strcmp(f, fixed[k]) == 0)
             return 1;

@@ -435,6 +435,11 @@ static cJSON *build_json(const app_report *r)
         }
     }
     add_design(root, r);
+    if (r->pass != NULL && r->pass_case != NULL) {
+        cJSON *ps = J(app_pass_json(r->pass_case, r->pass));
+        if (ps != NULL)
+            cJSON_AddItemToObject(root, "pass", ps);
+    }
     cJSON *w = J(cJSON_AddArrayToObject(root, "warnings"));
     for (int k = 0; k < c->nwarn; k++) {
         json_push(w, J(cJSON_CreateString(c->warnings[k])));

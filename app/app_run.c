@@ -30,6 +30,8 @@ void app_report_free(app_report *r)
     if (r == NULL)
         return;
     mesh_case_free(r->c);
+    mesh_case_free(r->pass_case);
+    app_pass_result_free(r->pass);
     mesh_grid_free(r->g);
     design_stop_result_free(&r->stop);
     free(r->f);
@@ -209,6 +211,18 @@ static eddy_status prepare(const char *case_path, const app_run_opts **o,
         return s;
     }
     *out = r;
+    if (r->c->pass.present) { /* the steady sweep runs on the steady counterpart */
+        r->pass_case = r->c;
+        r->c = NULL;
+        s = mesh_case_steady_of_pass(r->pass_case, &r->c, err);
+        if (s != EDDY_OK) {
+            r->c = r->pass_case;
+            r->pass_case = NULL;
+            return s;
+        }
+        if (r->c->vehicle.present && !r->c->vehicle.has_from_speed && !r->c->vehicle.gravity)
+            r->c->vehicle.present = 0; /* a coupled pass's load has no stop of its own */
+    }
     r->npoint = r->c->nspeed;
     r->f = calloc((size_t)r->npoint, sizeof *r->f);
     r->info = calloc((size_t)r->npoint, sizeof *r->info);
@@ -635,6 +649,45 @@ static void worst_estimates(const app_report *r, double *wd, double *wf, int *ba
     *wf = mf > 0 ? ef / mf : 0.0;
 }
 
+/* The pass of a pass case after the steady sweep of its counterpart: the
+ * steady drag at the pass's speed (linear between the swept speeds), the
+ * coupled pass's steady model, pass.csv, pass.png and the pictures. */
+static eddy_status run_pass(app_report *r, const app_run_opts *o, double limit, eddy_error *err)
+{
+    const mesh_case *pc = r->pass_case;
+    app_pass_opts po = {r->outdir, o->images, o->full_domain, limit};
+    app_pass_result *p = NULL;
+    eddy_status s = app_pass_run(pc, &po, &p, err);
+    if (s != EDDY_OK)
+        return s;
+    r->pass = p;
+    int n = r->npoint;
+    double *sp = malloc((size_t)(n > 0 ? n : 1) * 2 * sizeof *sp);
+    if (sp == NULL)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    double *dr = sp + n;
+    for (int k = 0; k < n; k++) { /* the report is sorted by speed */
+        sp[k] = r->f[k].speed;
+        dr[k] = r->f[k].drag;
+    }
+    double v = pc->pass.speed;
+    p->steady_speed = v;
+    for (int k = 0; k < n; k++) {
+        if (fabs(sp[k] - v) <= 1e-12 * v) {
+            p->steady_drag = dr[k];
+            p->steady_force_y = r->f[k].force_y;
+        } else if (k + 1 < n && sp[k] < v && v < sp[k + 1] && !isfinite(p->steady_drag)) {
+            double t = (v - sp[k]) / (sp[k + 1] - sp[k]);
+            p->steady_drag = dr[k] + t * (dr[k + 1] - dr[k]);
+            p->steady_force_y = r->f[k].force_y + t * (r->f[k + 1].force_y - r->f[k].force_y);
+        }
+    }
+    if (pc->pass.coupled)
+        p->steady_exit_speed = app_pass_steady_model(pc, n, sp, dr);
+    free(sp);
+    return app_pass_write(r->outdir, pc, p, o->images, err);
+}
+
 eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_report **out,
                            eddy_error *err)
 {
@@ -735,6 +788,8 @@ eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_repo
         s = app_out_force_plot(r, err);
     if (s == EDDY_OK && r->has_stop)
         s = app_out_stop(r, o, err);
+    if (s == EDDY_OK && r->pass_case != NULL)
+        s = run_pass(r, o, limit, err);
     if (s == EDDY_OK)
         s = app_write_results(r->outdir, r, err);
     eddy_unlock_dir(lock);

@@ -90,7 +90,8 @@ typedef struct {
     char name[64];
     int material;        /* index into mesh_case.materials, or -1 for air */
     double box[4];       /* x0, y0, x1, y1 in m (axisymmetric: z0, r0, z1, r1) */
-    int moving;          /* 1: moves at +v along x (must span the domain in x) */
+    int moving;          /* 1: moves at +v along x (must span the domain in x,
+                          * except in a pass: mesh_pass) */
     double mag_angle;    /* magnetisation direction, radians from +x towards +y
                           * (magnets; axisymmetric: from +z towards +r) */
     double jz;           /* source current density along +z, A/m^2 (axisymmetric:
@@ -157,6 +158,29 @@ typedef struct {
     double *rpm;             /* the speeds as revolutions per minute (nspeed), or NULL */
 } mesh_disc;
 
+/*
+ * A time-stepped pass ("pass"): the moving regions start where the case puts
+ * them and travel `distance` along +x, `step` per time step (dt = step /
+ * speed), through the fixed regions.  Moving regions need not span the
+ * domain.  The mesher gives the x-range they cover during the pass a uniform
+ * spacing (the band, mesh_grid.pb0..pb1) so that a step is a whole number of
+ * cells; the region ends of moving regions fall on the band's lines at or
+ * above them.  Planar geometry only.
+ */
+typedef struct {
+    int present;
+    double speed;            /* m/s, > 0; with coupled: the speed at the start */
+    double distance;         /* m, > 0 */
+    double step;             /* m, > 0; rounded to a whole number of band cells */
+    int coupled;             /* 1: the vehicle's equation of motion sets the speed
+                              * (needs a "vehicle"); 0: constant speed */
+    double pictures_every;   /* m of travel between J_z and |B| pictures; 0: none */
+    int start_steady;        /* 1: start from the steady moving solution at speed;
+                              * 0: from the static field (conductors at rest) */
+    int order;               /* 1: backward Euler; 2: BDF2 (default; the first step
+                              * is backward Euler) */
+} mesh_pass;
+
 typedef struct {
     char name[64];           /* safe for a directory name: [A-Za-z0-9._-] */
     char description[512];
@@ -183,6 +207,7 @@ typedef struct {
     mesh_vehicle vehicle;
     mesh_end_effect end_effect;
     mesh_disc disc;
+    mesh_pass pass;
     mesh_params mesh;
     int nprofile;
     mesh_profile *profiles;
@@ -210,6 +235,25 @@ eddy_status mesh_case_parse(const char *text, const char *fname, mesh_case **out
 
 /* Free a case; accepts NULL. */
 void mesh_case_free(mesh_case *c);
+
+/*
+ * A deep copy of case c (every array duplicated).
+ *   out: receives the copy, owned by the caller (mesh_case_free); NULL on error.
+ * Returns EDDY_OK or EDDY_ERR_NOMEM.
+ */
+eddy_status mesh_case_clone(const mesh_case *c, mesh_case **out, eddy_error *err);
+
+/*
+ * The steady counterpart of a pass case: a copy of c without the pass, its
+ * moving regions stretched over the whole x-extent of the domain (an
+ * infinitely long conductor at the same cross-section), for the comparison
+ * with the steady solver.
+ *   out: receives the new case (mesh_case_free); NULL on error.
+ * Returns EDDY_OK, EDDY_ERR_INPUT (c has no pass, or a stretched moving
+ * region would overlap a fixed region: the message names both),
+ * EDDY_ERR_NOMEM.
+ */
+eddy_status mesh_case_steady_of_pass(const mesh_case *c, mesh_case **out, eddy_error *err);
 
 /* 1 if s can name a case (and its result folder) or a profile file: 1 to 63
  * characters from [A-Za-z0-9._-], not starting with '.'; else 0. */
@@ -269,6 +313,13 @@ typedef struct {
     int nbh;
     mesh_bh_curve *bh;
     short *bh_cell;
+    /* A pass (mesh_case.pass): cell columns pb0 <= i < pb1 are the band of
+     * uniform width pass_h (m) over which the moving regions travel, and a
+     * time step moves them pass_cells columns.  The cell arrays above hold
+     * the moving regions at their starting place (mesh_grid_pass_cells gives
+     * them after a displacement).  All 0 without a pass. */
+    int pb0, pb1, pass_cells;
+    double pass_h;
 } mesh_grid;
 
 /* Edge length of cell column i of g for differences along x, m: the node
@@ -349,6 +400,22 @@ eddy_status mesh_grid_build_coarse(const mesh_case *c, int level, double memory_
 
 /* Free a grid; accepts NULL. */
 void mesh_grid_free(mesh_grid *g);
+
+/*
+ * The cells of a pass grid with its moving regions displaced by `shift` cell
+ * columns along +x from their starting place (g's own arrays): a moving cell
+ * (i, j) of g appears at (i + shift, j); the cells it leaves become air
+ * (moving regions overlap no fixed region).  On periodic x sides the
+ * columns wrap around; otherwise a column entering across the left side
+ * repeats the side's first column (a conductor that spans the domain keeps
+ * coming in) and one crossing the right side leaves the grid.
+ *   g:      a grid; shift >= 0 (0 copies g's arrays).
+ *   sigma, nu: outputs, ncx*ncy each (S/m, m/H), caller-owned.
+ *   moving: output, ncx*ncy (1 in displaced moving cells), caller-owned.
+ *   region: output, ncx*ncy region indices, or NULL.
+ */
+void mesh_grid_pass_cells(const mesh_grid *g, long shift, double *sigma, double *nu,
+                          unsigned char *moving, short *region);
 
 /* Build only the grid axes (cheap) and report the size estimate; no cell data.
  * Arguments and returns as mesh_grid_build. */

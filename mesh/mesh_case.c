@@ -243,7 +243,7 @@ static eddy_status parse_root(mesh_reader *r, const cJSON *root)
     static const char *const keys[] = {"name",    "description", "length_unit", "domain",
                                        "materials", "regions",   "speeds",      "mesh",
                                        "profiles", "variants", "temperature", "vehicle",
-                                       "end_effect", "disc", "geometry", NULL};
+                                       "end_effect", "disc", "geometry", "pass", NULL};
     if (!cJSON_IsObject(root))
         return mesh_json_bad(r, "(top level)", "must be a JSON object");
     MESH_TRY(mesh_json_check_keys(r, root, "(top level)", keys));
@@ -251,6 +251,7 @@ static eddy_status parse_root(mesh_reader *r, const cJSON *root)
     MESH_TRY(mesh_case_read_geometry(r, root));
     MESH_TRY(mesh_case_check_rz_keys(r, root));
     MESH_TRY(read_domain(r, root));
+    MESH_TRY(mesh_case_read_pass(r, root));
     MESH_TRY(mesh_case_read_materials(r, root));
     MESH_TRY(mesh_case_read_regions(r, root));
     MESH_TRY(mesh_case_read_disc(r, root));
@@ -261,6 +262,7 @@ static eddy_status parse_root(mesh_reader *r, const cJSON *root)
     MESH_TRY(mesh_case_read_end_effect(r, root));
     MESH_TRY(mesh_case_apply_temperature(r, root));
     MESH_TRY(mesh_case_check_vehicle_speed(r));
+    MESH_TRY(mesh_case_check_pass(r));
     MESH_TRY(mesh_case_check_plausible(r, root));
     if (cJSON_GetObjectItemCaseSensitive(root, "variants") != NULL)
         MESH_TRY(mesh_json_warn(r, "%s: variants: ignored here; `eddy2d batch` expands them into "

@@ -68,6 +68,14 @@ eddy_status mesh_case_read_speeds(mesh_reader *r, const cJSON *root)
     const cJSON *sp = cJSON_GetObjectItemCaseSensitive(root, "speeds");
     if (sp == NULL && c->disc.present && c->disc.rpm != NULL)
         return EDDY_OK; /* the disc's rpm list gave them */
+    if (sp == NULL && c->pass.present) { /* the steady comparison at the pass's speed */
+        c->speeds = malloc(sizeof *c->speeds);
+        if (c->speeds == NULL)
+            return EDDY_RAISE(r->err, EDDY_ERR_NOMEM, "out of memory");
+        c->speeds[0] = c->pass.speed;
+        c->nspeed = 1;
+        return EDDY_OK;
+    }
     if (sp == NULL)
         return mesh_json_bad(r, "speeds", "missing (a list of speeds in m/s is required)");
     if (c->disc.present && c->disc.rpm != NULL)
@@ -123,7 +131,9 @@ eddy_status mesh_case_read_vehicle(mesh_reader *r, const cJSON *root)
     else
         MESH_TRY(mesh_json_positive(r, v, "depth", "vehicle", c->length_scale, &h->depth));
     /* a falling load needs no stop: its terminal speed is the answer */
-    h->has_from_speed = !h->gravity || cJSON_GetObjectItemCaseSensitive(v, "from_speed") != NULL;
+    /* nor does a coupled pass (it starts at pass.speed) */
+    h->has_from_speed = (!h->gravity && !(c->pass.present && c->pass.coupled)) ||
+                        cJSON_GetObjectItemCaseSensitive(v, "from_speed") != NULL;
     if (h->has_from_speed)
         MESH_TRY(mesh_json_positive(r, v, "from_speed", "vehicle", 1.0, &h->from_speed));
     MESH_TRY(mesh_json_number(r, v, "to_speed", "vehicle", h->has_from_speed, &h->to_speed,
@@ -276,8 +286,8 @@ eddy_status mesh_case_apply_temperature(mesh_reader *r, const cJSON *root)
 eddy_status mesh_case_check_vehicle_speed(mesh_reader *r)
 {
     const mesh_case *c = r->c;
-    if (!c->vehicle.present || !c->vehicle.has_from_speed)
-        return EDDY_OK;
+    if (!c->vehicle.present || !c->vehicle.has_from_speed || c->pass.present)
+        return EDDY_OK; /* a pass runs its own speeds */
     double vmax = 0.0;
     for (int k = 0; k < c->nspeed; k++)
         vmax = fmax(vmax, fabs(c->speeds[k]));

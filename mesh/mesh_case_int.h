@@ -51,6 +51,16 @@ eddy_status mesh_case_apply_temperature(mesh_reader *r, const cJSON *root);
  * speeds and the vehicle. */
 eddy_status mesh_case_check_vehicle_speed(mesh_reader *r);
 
+/* The time-stepped pass (mesh_case_pass.c) */
+
+/* "pass" (optional): after the domain, before the regions (moving regions
+ * need not span the domain in a pass). */
+eddy_status mesh_case_read_pass(mesh_reader *r, const cJSON *root);
+
+/* The pass against the rest of the case (a vehicle when coupled, moving
+ * regions that stay inside open sides); after the regions and the vehicle. */
+eddy_status mesh_case_check_pass(mesh_reader *r);
+
 /* The axisymmetric geometry (mesh_case_rz.c) */
 
 /* "geometry": "planar" (default) or "axisymmetric" into r->c->geometry;

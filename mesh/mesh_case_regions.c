@@ -306,12 +306,12 @@ static eddy_status check_moving_region(mesh_reader *r, const char *p, const mesh
     if (mat != NULL && mat->br > 0.0)
         return mesh_json_bad(r, p, "a moving region cannot be a magnet (the field must be "
                                    "steady in the magnet frame)");
-    if (fabs(g->box[0] - c->x0) > tol || fabs(g->box[2] - c->x1) > tol) {
+    if (!c->pass.present && (fabs(g->box[0] - c->x0) > tol || fabs(g->box[2] - c->x1) > tol)) {
         char q[128];
         snprintf(q, sizeof q, "%s.box", p);
         return mesh_json_bad(r, q, "a moving region must span the whole %s-extent of the "
                                    "domain (%g to %g %s) so that the field is steady in the "
-                                   "magnet frame", c->geometry == MESH_AXISYMMETRIC ? "z" : "x",
+                                   "magnet frame (or give a \"pass\")", c->geometry == MESH_AXISYMMETRIC ? "z" : "x",
                              c->x0 / c->length_scale, c->x1 / c->length_scale, c->length_unit);
     }
     if (mat == NULL || mat->sigma == 0.0)

@@ -370,6 +370,8 @@ static int plan_build(const mesh_case *c, grid_plan *p)
 {
     memset(p, 0, sizeof *p);
     double vmax = c->mesh.design_speed;
+    if (c->pass.present && c->pass.speed > vmax)
+        vmax = c->pass.speed;
     for (int k = 0; k < c->nspeed; k++)
         if (fabs(c->speeds[k]) > vmax)
             vmax = fabs(c->speeds[k]);
@@ -508,6 +510,90 @@ static void coarsen(double *x, int *n, const double *bp, int nbp)
     *n = m;
 }
 
+/* The x-range a pass's moving regions cover, clipped to the domain (the
+ * whole domain on periodic sides), into [*xa, *xb]. */
+static void pass_range(const mesh_case *c, double *xa, double *xb)
+{
+    *xa = c->x1;
+    *xb = c->x0;
+    for (int k = 0; k < c->nreg; k++) {
+        const mesh_region *r = &c->regions[k];
+        if (!r->moving)
+            continue;
+        *xa = fmin(*xa, r->box[0]);
+        *xb = fmax(*xb, r->box[2] + c->pass.distance);
+    }
+    if (c->x_periodic || *xa < c->x0)
+        *xa = c->x0;
+    if (c->x_periodic || *xb > c->x1)
+        *xb = c->x1;
+}
+
+/* Plan the pass band on the x axis: no breakpoint inside [xa, xb], and one
+ * uniform size h there, the finest the size function asks for in the band
+ * (or the step, if finer), so that the band has an even number N of cells
+ * (the interval counts stay even).  Returns N (0 without a pass, -1 on
+ * allocation failure). */
+static int plan_pass_band(const mesh_case *c, axis_spec *a, double growth, double hmax,
+                          double *xa_out, double *xb_out)
+{
+    if (!c->pass.present)
+        return 0;
+    double xa, xb;
+    pass_range(c, &xa, &xb);
+    double len = xb - xa, tol = 1e-9 * (c->x1 - c->x0);
+    double h0 = fmin(c->pass.step, fmin(size_at(a, xa, growth, hmax), size_at(a, xb, growth, hmax)));
+    for (int k = 0; k < a->n; k++) {
+        double s = fmin(fmax(a->f[k].s, xa), xb), e = fmin(fmax(a->f[k].e, xa), xb);
+        h0 = fmin(h0, fmin(size_at(a, s, growth, hmax), size_at(a, e, growth, hmax)));
+    }
+    if (c->mesh.min_size > 0 && h0 < c->mesh.min_size)
+        h0 = c->mesh.min_size;
+    double half = ceil(len / (2.0 * h0) - 1e-9);
+    if (half < 1)
+        half = 1;
+    if (2.0 * half > MAX_AXIS_NODES)
+        return -2;
+    int m = 0;
+    for (int k = 0; k < a->nbp; k++)
+        if (!(a->bp[k] > xa + tol && a->bp[k] < xb - tol))
+            a->bp[m++] = a->bp[k];
+    a->nbp = m;
+    if (push_bp(a, xa) || push_bp(a, xb) || push_feature(a, xa, xb, len / (2.0 * half)))
+        return -1;
+    *xa_out = xa;
+    *xb_out = xb;
+    return (int)(2.0 * half);
+}
+
+/* Make the nodes of x[0..n-1] in [xa, xb] exactly N uniform cells (the
+ * equidistribution gives them to rounding, or a neighbouring size may have
+ * pulled a few). */
+static int impose_band(double **nodes, int *n, double xa, double xb, int N)
+{
+    double *x = *nodes, tol = 1e-9 * (x[*n - 1] - x[0]);
+    int ia = 0, ib = 0;
+    while (ia < *n && x[ia] < xa - tol)
+        ia++;
+    ib = ia;
+    while (ib < *n && x[ib] < xb - tol)
+        ib++;
+    if (ia >= *n || ib >= *n)
+        return -1;
+    int nn = ia + (N + 1) + (*n - ib - 1);
+    double *y = malloc((size_t)nn * sizeof *y);
+    if (y == NULL)
+        return -1;
+    memcpy(y, x, (size_t)ia * sizeof *y);
+    for (int k = 0; k <= N; k++)
+        y[ia + k] = k == N ? xb : xa + (xb - xa) * k / N;
+    memcpy(y + ia + N + 1, x + ib + 1, (size_t)(*n - ib - 1) * sizeof *y);
+    free(x);
+    *nodes = y;
+    *n = nn;
+    return 0;
+}
+
 static eddy_status build_axes(const mesh_case *c, int coarse, grid_plan *p, double **x, int *nx,
                               double **y, int *ny, axis_map *mx, axis_map *my, eddy_error *err)
 {
@@ -519,7 +605,16 @@ static eddy_status build_axes(const mesh_case *c, int coarse, grid_plan *p, doub
     double growth = c->mesh.growth > 0 ? c->mesh.growth : DEFAULT_GROWTH;
     double hmax = c->mesh.max_size > 0 ? c->mesh.max_size
                                        : DEFAULT_MAX_FRACTION * (lx > ly ? lx : ly);
-    int rx = mesh_axis(&p->ax, c->x0, c->x1, growth, hmax, c->mesh.min_size, x, nx);
+    double xa = 0, xb = 0;
+    int nband = plan_pass_band(c, &p->ax, growth, hmax, &xa, &xb);
+    if (nband == -1)
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory planning the mesh");
+    int rx = nband == -2 ? -2 : mesh_axis(&p->ax, c->x0, c->x1, growth, hmax, c->mesh.min_size, x, nx);
+    if (rx == 0 && nband > 0) {
+        if (x != NULL)
+            rx = impose_band(x, nx, xa, xb, nband) != 0 ? -1 : 0;
+        /* counting only: the count of the interval is nband to rounding */
+    }
     int ry = rx == 0 ? mesh_axis(&p->ay, c->y0, c->y1, growth, hmax, c->mesh.min_size, y, ny)
                      : 0;
     if (rx == 0 && ry == 0 && c->mesh.refine > 1) {
@@ -645,6 +740,18 @@ static eddy_status grid_build(const mesh_case *c, int coarse, double memory_limi
     g->geometry = c->geometry;
     g->k_dominant = k_dom;
     g->h_skin = h_skin;
+    if (s == EDDY_OK && c->pass.present) {
+        double xa, xb, tol = 1e-9 * (c->x1 - c->x0);
+        pass_range(c, &xa, &xb);
+        g->pb0 = lower_index(x, nx, xa, tol);
+        g->pb1 = lower_index(x, nx, xb, tol);
+        g->pass_h = (xb - xa) / (g->pb1 - g->pb0);
+        /* the band is uniform to rounding: the node spacing is the band's */
+        double step_cells = c->pass.step / g->pass_h;
+        g->pass_cells = (int)lround(step_cells);
+        if (g->pass_cells < 1)
+            g->pass_cells = 1;
+    }
     size_t nc = (size_t)g->ncx * (size_t)g->ncy;
     g->nu = malloc(nc * sizeof *g->nu);
     g->sigma = calloc(nc, sizeof *g->sigma);
@@ -758,4 +865,41 @@ void mesh_grid_free(mesh_grid *g)
     free(g->wyl);
     free(g->wyr);
     free(g);
+}
+
+void mesh_grid_pass_cells(const mesh_grid *g, long shift, double *sigma, double *nu,
+                          unsigned char *moving, short *region)
+{
+    int ncx = g->ncx;
+    double nu0 = 1.0 / EDDY_MU0;
+    for (int j = 0; j < g->ncy; j++)
+        for (int i = 0; i < ncx; i++) {
+            size_t k = (size_t)i + (size_t)ncx * (size_t)j;
+            /* the column the material now at i came from */
+            long src = (long)i - shift;
+            if (g->x_periodic)
+                src = ((src % ncx) + ncx) % ncx;
+            else if (src < 0)
+                src = 0;
+            size_t ks = (size_t)src + (size_t)ncx * (size_t)j;
+            if (g->moving[ks]) {
+                sigma[k] = g->sigma[ks];
+                nu[k] = g->nu[ks];
+                moving[k] = 1;
+                if (region != NULL)
+                    region[k] = g->region[ks];
+            } else if (g->moving[k]) { /* left behind: air */
+                sigma[k] = 0.0;
+                nu[k] = nu0;
+                moving[k] = 0;
+                if (region != NULL)
+                    region[k] = -1;
+            } else {
+                sigma[k] = g->sigma[k];
+                nu[k] = g->nu[k];
+                moving[k] = 0;
+                if (region != NULL)
+                    region[k] = g->region[k];
+            }
+        }
 }

@@ -155,6 +155,27 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
                                 double lowspeed_slope, post_forces *f, eddy_error *err);
 
 /*
+ * Forces on the moving conductors of one time step of a pass, from a given
+ * induced current (sol_stepper_currents: the current of every node's dual
+ * cell in the moving conductors, A/m, nx*ny):
+ *     F_x = sum I (dA/dx),  F_y = sum I (dA/dy)
+ * at the nodes, with the derivatives of the steady nodal force (dA/dx central
+ * across the node, dA/dy the mean of the two one-sided differences), and the
+ * stress-tensor checks and force_method exactly as post_forces_compute.
+ *   g:    the grid with the cells of the step (a copy of the pass grid whose
+ *         sigma, nu, moving and region arrays are mesh_grid_pass_cells'); its
+ *         moving band rows jm0..jm1 are the pass grid's.
+ *   a:    nx*ny, Wb/m, the field at the end of the step.
+ *   v:    m/s, the speed (sign of the drag).
+ *   loss: W/m, the step's Joule power (sol_stepper_currents), stored in f.
+ *   f:    output; the speed-sweep fields that have no meaning for a step
+ *         (low_speed_drag, magnetic_reynolds, the estimates, ...) are NAN.
+ * Returns EDDY_OK or EDDY_ERR_NUMERIC.
+ */
+eddy_status post_forces_pass(const mesh_grid *g, const double *a, const double *i_node,
+                             double v, double loss, post_forces *f, eddy_error *err);
+
+/*
  * Induced current density J_z at the nodes (A/m^2), consistent with the
  * solver's fitted fluxes (the current used for the forces): the current of
  * the part of each node's dual cell inside moving conductors divided by that

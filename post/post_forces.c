@@ -42,6 +42,7 @@
 #include "post/post.h"
 
 #include <math.h>
+#include <string.h>
 #include <stddef.h>
 #include <stdlib.h>
 
@@ -400,6 +401,56 @@ double post_damping_coefficient(const mesh_grid *g, const double *a_static,
     return -n.fx;
 }
 
+/* The stress-tensor forces of f (nodal and line form) from the field a, and
+ * the choice of force_method: J x B (lorentz_x, lorentz_y, already in f) for
+ * non-magnetic conductors, the stress for magnetised ones. */
+static void stress_and_method(const mesh_grid *g, const double *a, double sgn, post_forces *f)
+{
+    f->nodal_ok = total_current_force(g, a, &f->nodal_x, &f->nodal_y);
+    if (!f->nodal_ok)
+        f->nodal_x = f->nodal_y = NAN;
+    f->stress_ok = stress_force(g, a, &f->stress_x, &f->stress_y);
+    f->drag_stress = f->stress_ok ? -f->stress_x * sgn : NAN;
+    if (!f->stress_ok)
+        f->stress_x = f->stress_y = NAN;
+    /* A magnetised moving region (mu_r != 1, or saturable: g->nu holds the
+     * solution's reluctivities) also feels the force on its magnetisation,
+     * which J x B misses; the stress in the air around the band is the
+     * whole force (e.g. J. D. Jackson, "Classical Electrodynamics", 3rd ed.,
+     * 1999, section 6.7; Maxwell stress in the vacuum surrounding a body),
+     * taken in its nodal (total-current) form, which is free of the line
+     * integral's bias; the line form remains only for a band that lies on
+     * a zero boundary. */
+    f->force_method = "lorentz";
+    int magnetised = 0;
+    for (int j = g->jm0; j < g->jm1 && !magnetised; j++)
+        for (int i = 0; i < g->ncx; i++) {
+            size_t k = (size_t)i + (size_t)g->ncx * (size_t)j;
+            if (g->moving[k] && fabs(g->nu[k] * EDDY_MU0 - 1.0) > 1e-12) {
+                magnetised = 1;
+                break;
+            }
+        }
+    /* axisymmetric: the line form first where it exists.  Measured on a
+     * moving low-carbon steel tube (tests/test_rz.c): line form 0.4 % and
+     * J x B 0.3 % from the Joule loss / v, nodal form 2.2 %; a ring has no
+     * normal force for which the nodal form would be needed */
+    int rz_line = g->geometry == MESH_AXISYMMETRIC && f->stress_ok;
+    if (magnetised && f->nodal_ok && !rz_line) {
+        f->force_x = f->nodal_x;
+        f->force_y = f->nodal_y;
+        f->drag = -f->nodal_x * sgn;
+        f->force_method = "stress_tensor";
+    } else if (magnetised && f->stress_ok) { /* band on a zero boundary */
+        f->force_x = f->stress_x;
+        f->force_y = f->stress_y;
+        f->drag = f->drag_stress;
+        f->force_method = "stress_tensor";
+    } else if (magnetised) {
+        f->force_method = "lorentz_incomplete";
+    }
+}
+
 eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
                                 double lowspeed_slope, post_forces *f, eddy_error *err)
 {
@@ -440,51 +491,9 @@ eddy_status post_forces_compute(const mesh_grid *g, const double *a, double v,
     f->magnetic_reynolds_wave = t_band > 0 && g->k_dominant > 0
                                     ? EDDY_MU0 * (sig_t / t_band) * fabs(v) / g->k_dominant
                                     : NAN;
-    f->nodal_ok = total_current_force(g, a, &f->nodal_x, &f->nodal_y);
-    if (!f->nodal_ok)
-        f->nodal_x = f->nodal_y = NAN;
-    f->stress_ok = stress_force(g, a, &f->stress_x, &f->stress_y);
-    f->drag_stress = f->stress_ok ? -f->stress_x * sgn : NAN;
-    if (!f->stress_ok)
-        f->stress_x = f->stress_y = NAN;
-    /* A magnetised moving region (mu_r != 1, or saturable: g->nu holds the
-     * solution's reluctivities) also feels the force on its magnetisation,
-     * which J x B misses; the stress in the air around the band is the
-     * whole force (e.g. J. D. Jackson, "Classical Electrodynamics", 3rd ed.,
-     * 1999, section 6.7; Maxwell stress in the vacuum surrounding a body),
-     * taken in its nodal (total-current) form, which is free of the line
-     * integral's bias; the line form remains only for a band that lies on
-     * a zero boundary. */
     f->lorentz_x = n.fx;
     f->lorentz_y = n.fy;
-    f->force_method = "lorentz";
-    int magnetised = 0;
-    for (int j = g->jm0; j < g->jm1 && !magnetised; j++)
-        for (int i = 0; i < g->ncx; i++) {
-            size_t k = (size_t)i + (size_t)g->ncx * (size_t)j;
-            if (g->moving[k] && fabs(g->nu[k] * EDDY_MU0 - 1.0) > 1e-12) {
-                magnetised = 1;
-                break;
-            }
-        }
-    /* axisymmetric: the line form first where it exists.  Measured on a
-     * moving low-carbon steel tube (tests/test_rz.c): line form 0.4 % and
-     * J x B 0.3 % from the Joule loss / v, nodal form 2.2 %; a ring has no
-     * normal force for which the nodal form would be needed */
-    int rz_line = g->geometry == MESH_AXISYMMETRIC && f->stress_ok;
-    if (magnetised && f->nodal_ok && !rz_line) {
-        f->force_x = f->nodal_x;
-        f->force_y = f->nodal_y;
-        f->drag = -f->nodal_x * sgn;
-        f->force_method = "stress_tensor";
-    } else if (magnetised && f->stress_ok) { /* band on a zero boundary */
-        f->force_x = f->stress_x;
-        f->force_y = f->stress_y;
-        f->drag = f->drag_stress;
-        f->force_method = "stress_tensor";
-    } else if (magnetised) {
-        f->force_method = "lorentz_incomplete";
-    }
+    stress_and_method(g, a, sgn, f);
     if (!isfinite(n.fx) || !isfinite(n.fy) || !isfinite(n.loss))
         return EDDY_RAISE(err, EDDY_ERR_NUMERIC, "non-finite force or loss at %g m/s", v);
     return EDDY_OK;
@@ -581,4 +590,45 @@ void post_richardson(post_forces *fine, const post_forces *coarse, const post_fo
     fine->force_y_error =
         richardson_one(fine->force_y, coarse->force_y, coarser ? coarser->force_y : nan);
     fine->loss_error = richardson_one(fine->loss, coarse->loss, coarser ? coarser->loss : nan);
+}
+
+eddy_status post_forces_pass(const mesh_grid *g, const double *a, const double *i_node,
+                             double v, double loss, post_forces *f, eddy_error *err)
+{
+    memset(f, 0, sizeof *f);
+    size_t nx = (size_t)g->nx;
+    int ncx = g->ncx, i_end = g->x_periodic ? ncx : ncx + 1;
+    double fx = 0.0, fy = 0.0;
+    for (int jn = 0; jn < g->ny; jn++)
+        for (int i = 0; i < i_end; i++) {
+            size_t k = (size_t)i + nx * (size_t)jn;
+            if (i_node[k] == 0.0)
+                continue;
+            /* dA/dx central across the node, dA/dy the mean of the one-sided
+             * differences: as for the steady current (nodal_forces) */
+            int il = i > 0 ? i - 1 : (g->x_periodic ? ncx - 1 : 0);
+            int ir = i < ncx ? i + 1 : ncx;
+            double xl = i > 0 || g->x_periodic ? mesh_edge_x(g, il) : 0.0;
+            double xr = i < ncx ? mesh_edge_x(g, i) : 0.0;
+            size_t row = nx * (size_t)jn;
+            double aw = i > 0 || g->x_periodic ? a[(size_t)il + row] : a[k];
+            double ae = a[(size_t)ir + row];
+            double dadx = xl + xr > 0 ? (ae - aw) / (xl + xr) : 0.0;
+            fx += i_node[k] * dadx;
+            fy += i_node[k] * node_dady(g, a, i, jn);
+        }
+    double sgn = v > 0 ? 1.0 : (v < 0 ? -1.0 : 0.0);
+    f->speed = v;
+    f->force_x = f->lorentz_x = fx;
+    f->force_y = f->lorentz_y = fy;
+    f->drag = -fx * sgn;
+    f->loss = loss;
+    f->low_speed_drag = f->drag_per_speed = NAN;
+    f->drag_error = f->force_y_error = f->loss_error = NAN;
+    f->magnetic_reynolds = f->magnetic_reynolds_wave = NAN;
+    f->heating_rate = f->rpm = f->torque = f->power = f->drag_end_corrected = NAN;
+    stress_and_method(g, a, sgn, f);
+    if (!isfinite(fx) || !isfinite(fy) || !isfinite(loss))
+        return EDDY_RAISE(err, EDDY_ERR_NUMERIC, "non-finite force or loss in a pass step");
+    return EDDY_OK;
 }

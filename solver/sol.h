@@ -425,6 +425,67 @@ void sol_stepper_start(sol_stepper *t, double t0, const double *a0);
 eddy_status sol_stepper_advance(sol_stepper *t, double dt, int order, const double *sigma_cells,
                                 double *a, sol_info *info, eddy_error *err);
 
+/*
+ * The cells during one step of a pass (sol_stepper_advance_frame): the
+ * conductors at rest in the grid's frame and the moving ones, displaced by
+ * whole cell columns (the locked step: a uniform x spacing over the band
+ * they travel in, mesh_grid.pb0..pb1, so that moving and fixed cells stay
+ * conforming).
+ */
+typedef struct {
+    const double *sigma;          /* ncx*ncy, S/m: conductivity at the end of the step */
+    const unsigned char *moving;  /* ncx*ncy: 1 in moving cells at the end of the step;
+                                   * NULL: none move */
+    const double *nu;             /* ncx*ncy, m/H: reluctivity at the end of the step;
+                                   * NULL: the grid's nu */
+    int shift;                    /* >= 0: cell columns the moving cells travelled
+                                   * during this step */
+} sol_step_frame;
+
+/*
+ * One implicit step with moving conductors.  The time derivative of A is
+ * taken in each conductor's own frame (Lagrangian): at a node of the moving
+ * conductors' mass, x_n is read `shift` columns upstream (x_n-1 the previous
+ * step's shift further), at a node of the fixed conductors' mass where it
+ * is; a node touching both carries both parts of its lumped mass.  Columns
+ * upstream of the left side repeat the side's value (A = 0 on a zero side);
+ * periodic sides wrap around.  In steady motion at speed v = shift h / dt
+ * the step is the upwind difference v dA/dx of first (Euler) or second
+ * (BDF2) order along the band, so the scheme stays stable at any cell
+ * Peclet number.  When the matrix of a step equals the previous one (same
+ * dt, same cells), its numeric factorisation is reused.
+ * Arguments as sol_stepper_advance; fr the cells (not NULL).  Returns as
+ * sol_stepper_advance, and EDDY_ERR_INPUT for a negative shift.
+ */
+eddy_status sol_stepper_advance_frame(sol_stepper *t, double dt, int order,
+                                      const sol_step_frame *fr, double *a, sol_info *info,
+                                      eddy_error *err);
+
+/*
+ * After a successful step: the induced current of every node's dual cell,
+ * I = -M dA/dt with the step's own BDF derivative in each conductor's frame
+ * (A per metre of depth, nx*ny node arrays; the periodic copy node holds
+ * node 0's value), split into the part in moving conductors (i_moving) and
+ * in fixed ones (i_fixed); either may be NULL.  Returns the Joule power of
+ * the step's currents, W/m: sum over nodes of M (dA/dt)^2 for the moving
+ * part into *p_moving and the fixed part into *p_fixed (either may be NULL).
+ * All zero before the first step.
+ */
+void sol_stepper_currents(const sol_stepper *t, double *i_moving, double *i_fixed,
+                          double *p_moving, double *p_fixed);
+
+/*
+ * The discrete magnetic energy of the node values a (nx*ny) on system s,
+ * J/m: (1/2) a^T K a - f^T a with K and f the v = 0 box-integration matrix
+ * and sources (nu the grid's, or nu_cells when not NULL).  For fixed sources
+ * its change between two fields is the change of the stored energy
+ * (1/2) integral nu |B - B_r|^2 (a constant apart), the term of the energy
+ * balance  work = heat + change of magnetic energy.  Uses the stepper's
+ * workspace.  Returns EDDY_OK, EDDY_ERR_NOMEM.
+ */
+eddy_status sol_stepper_energy(sol_stepper *t, const double *a, const double *nu_cells,
+                               double *energy, eddy_error *err);
+
 /* Time of the current state, s (t0 plus the steps taken); 0 for NULL. */
 double sol_stepper_time(const sol_stepper *t);
 
