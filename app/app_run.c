@@ -433,18 +433,21 @@ static eddy_status grow_points(app_report *r, const double *add, int na, eddy_er
     return EDDY_OK;
 }
 
-/* The ordering of the LU, from the measurements of make bench (README,
- * Speed; 2026-12-03): the fill of each ordering against SuperLU's least
- * (scipy splu, best of its orderings) on the same matrix was, at 56k, 0.23M
- * and 1.06M unknowns, METIS 1.11, 0.70, 1.05; AMD 1.23, 1.14, 1.24; the
- * grid's nested dissection 1.69, 1.01, 1.54; COLAMD 1.98, 1.31, 2.25.  Only
- * METIS stays within 1.2 of SuperLU at every size, so it is taken for any
- * number of speeds, though its analysis is the slowest (6.0 s against 2.0 s
- * for the grid's at 1.06M unknowns; it then factorises in 3.9 s against
- * 5.8 s). */
-static sol_ordering pick_ordering(void)
+/* The ordering for a system factorised nfact times (make bench, README):
+ * METIS gives the least fill and the fastest numeric factorisations but the
+ * slowest analysis; the grid's own nested dissection analyses fastest.
+ * METIS pays off from about four factorisations (the static field and three
+ * speeds) on.  It is also the only ordering within 1.2 of SuperLU's least
+ * fill at every size (make bench, 2026-12-03: METIS 1.11 / 0.70 / 1.05 at
+ * 56k / 0.23M / 1.06M unknowns, grid-nd 1.69 / 1.01 / 1.54, AMD 1.23 /
+ * 1.14 / 1.24), but METIS through UMFPACK leaks CHOLMOD workspace when an
+ * allocation fails inside it (tests/test_batch_alloc.c under LeakSanitizer),
+ * so one- and two-speed cases keep the grid's ordering until METIS's
+ * permutation is computed here and given to UMFPACK (issue 16, left). */
+static sol_ordering pick_ordering(const app_report *r)
 {
-    return SOL_ORDER_METIS;
+    return r->npoint >= 3 || r->c->speed_mode == MESH_SPEEDS_AUTO ? SOL_ORDER_METIS
+                                                                   : SOL_ORDER_GRID_ND;
 }
 
 /* The system of grid g (the run's memory limit and the given ordering), a
@@ -508,7 +511,7 @@ static eddy_status coarse_pass(app_report *r, const app_run_opts *o, double limi
                                : mesh_grid_build_coarse(r->c, level, limit, &gc, err);
     sol_info info = {0};
     if (s == EDDY_OK)
-        s = grid_system(gc, limit, pick_ordering(), 0, &sc, &ac, &info, err);
+        s = grid_system(gc, limit, pick_ordering(r), 0, &sc, &ac, &info, err);
     size_t nn = gc != NULL ? (size_t)gc->nx * (size_t)gc->ny : 0;
     if (sc != NULL)
         r->coarse_unknowns += sol_unknowns(sc);
@@ -582,7 +585,7 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
     double *a = NULL;
     size_t nn = (size_t)r->g->nx * (size_t)r->g->ny;
     sol_info info = {0};
-    s = grid_system(r->g, limit, pick_ordering(), 0, &sys, &a, &info, err);
+    s = grid_system(r->g, limit, pick_ordering(r), 0, &sys, &a, &info, err);
     if (sys != NULL) {
         r->unknowns = sol_unknowns(sys);
         r->static_cholesky = sol_uses_cholesky(sys);
