@@ -54,6 +54,8 @@ typedef struct {
     const char *method;         /* static text: how the forces were computed */
     long unknowns;              /* 0 for a reference-only run */
     double t_mesh, t_analyse;   /* s */
+    double t_static;            /* s, the static field of the fine grid(s) (and the
+                                 * reference's mu_r = 1 offset where it is computed) */
     /* error estimate (mesh.error_estimate, on by default): the coarse grid of
      * the family, solved at every speed after the sweep */
     int estimated;              /* 1 if every point has its *_error fields */
@@ -84,7 +86,10 @@ typedef struct {
                                  * not computed */
     const char *ordering;       /* fill-reducing ordering used (static text) */
     double factor_bytes;        /* UMFPACK's estimated peak memory of one factorisation */
-    int threads;                /* speeds solved at once */
+    int threads;                /* speeds solved at once (the most of any sweep) */
+    int blas_threads;           /* BLAS threads per factorisation (the most used) */
+    int static_cholesky;        /* 1: the static field by Cholesky (CHOLMOD), 0: LU */
+    char blas[256];             /* the BLAS as detected (sol_blas_name) */
     /* brake design (app_design.c) */
     int has_peak;
     double peak_drag, peak_speed; /* N/m, m/s (interpolated when peak_refined) */

@@ -242,6 +242,8 @@ eddy_status app_pass_run(const mesh_case *c, const app_pass_opts *o, app_pass_re
     const mesh_grid *g = w.g;
     size_t nn = (size_t)g->nx * (size_t)g->ny, nc = (size_t)g->ncx * (size_t)g->ncy;
     s = sol_system_alloc(g, &w.sys, err);
+    if (s == EDDY_OK) /* the steps' LU (a static start alone would analyse for Cholesky only) */
+        s = sol_analyse(w.sys, NULL, err);
     if (s == EDDY_OK)
         s = sol_stepper_alloc(w.sys, &w.st, err);
     if (s == EDDY_OK && o->images && o->outdir != NULL)

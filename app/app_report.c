@@ -496,10 +496,16 @@ static void add_mesh(cJSON *root, const app_report *r)
     J(cJSON_AddStringToObject(solver, "scheme",
                             "box integration, exponentially fitted convection (Scharfetter-Gummel)"));
     J(cJSON_AddStringToObject(solver, "linear_solver", "UMFPACK (symbolic once, numeric per speed)"));
+    J(cJSON_AddStringToObject(solver, "static_solver",
+                              r->static_cholesky
+                                  ? "CHOLMOD supernodal Cholesky (symbolic once, grid-nd ordering)"
+                                  : "UMFPACK (as the speeds)"));
     add_num(solver, "mesh_seconds", r->t_mesh);
     add_num(solver, "analyse_seconds", r->t_analyse);
     J(cJSON_AddStringToObject(solver, "ordering", r->ordering != NULL ? r->ordering : ""));
-    J(cJSON_AddNumberToObject(solver, "threads", r->threads));
+    J(cJSON_AddNumberToObject(solver, "speed_workers", r->threads));
+    J(cJSON_AddStringToObject(solver, "blas", r->blas));
+    J(cJSON_AddNumberToObject(solver, "blas_threads", r->blas_threads));
     add_num(solver, "factor_memory_estimate_bytes", r->factor_bytes);
 }
 

@@ -142,7 +142,8 @@ static eddy_status add_reference(app_report *r, int fill_forces, eddy_error *err
  * magnets have another recoil permeability, the offset that brings is
  * measured on the grid itself: the low-speed drag of the static field with
  * every magnet cell at mu_r = 1, over the real one (r->ref_mu1_offset; the
- * same symbolic analysis, one more numeric factorisation).  a is overwritten
+ * same symbolic analysis, one more numeric factorisation), only when the
+ * reference fits the case approximately.  a is overwritten
  * and restored to the real static field. */
 static eddy_status unit_mu_magnets_offset(app_report *r, sol_system *sys, double *a,
                                           double slope, eddy_error *err)
@@ -151,6 +152,18 @@ static eddy_status unit_mu_magnets_offset(app_report *r, sol_system *sys, double
     size_t nc = (size_t)g->ncx * (size_t)g->ncy;
     double nu0 = 1.0 / EDDY_MU0;
     r->ref_mu1_offset = NAN;
+    /* only where the reference fits, approximately: otherwise nobody reads
+     * it (the bench case, whose iron the reference does not model, paid two
+     * factorisations for it at every run) */
+    sol_ref_problem p;
+    sol_ref_source *src = NULL;
+    int nsrc = 0, approx = 0;
+    eddy_status fit = sol_ref_from_case(r->c, &p, &src, &nsrc, &approx, NULL, 0, err);
+    free(src);
+    if (fit == EDDY_ERR_NOT_APPLICABLE || (fit == EDDY_OK && !approx))
+        return EDDY_OK;
+    if (fit != EDDY_OK)
+        return fit;
     long nmag = 0;
     for (size_t k = 0; k < nc; k++)
         nmag += (g->brx[k] != 0.0 || g->bry[k] != 0.0) && g->nu[k] != nu0;
@@ -190,6 +203,7 @@ static eddy_status prepare(const char *case_path, const app_run_opts **o,
     if (r == NULL)
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
     r->ref_mu1_offset = NAN;
+    sol_blas_name(r->blas, sizeof r->blas);
     r->damping = r->linear_speed = r->terminal_speed = r->terminal_linear = NAN;
     eddy_status s = mesh_case_load(case_path, &r->c, err);
     if (s != EDDY_OK) {
@@ -310,14 +324,21 @@ static void *sweep_worker(void *arg)
     return NULL;
 }
 
-/* How many speeds to solve at once: the request (0: the cores), at most the
- * number of speeds, and only as many numeric factorisations as fit in the
- * run's memory limit by the solver's estimate. */
+/* The cores this run may use: the request (a batch case's share, or
+ * --threads), else the machine's. */
+static int core_budget(const app_run_opts *o)
+{
+    long cores = sysconf(_SC_NPROCESSORS_ONLN);
+    return o->threads > 0 ? o->threads : (int)(cores > 0 ? cores : 1);
+}
+
+/* How many speeds to solve at once: the cores, at most the number of
+ * speeds, and only as many numeric factorisations as fit in the run's
+ * memory limit by the solver's estimate. */
 static int sweep_threads(const app_run_opts *o, int npoint, double factor_bytes,
                          double field_bytes)
 {
-    long cores = sysconf(_SC_NPROCESSORS_ONLN);
-    int n = o->threads > 0 ? o->threads : (int)(cores > 0 ? cores : 1);
+    int n = core_budget(o);
     if (!sol_concurrency_safe())
         return 1; /* a BLAS that is not safe for concurrent factorisations */
     if (n > npoint)
@@ -327,6 +348,32 @@ static int sweep_threads(const app_run_opts *o, int npoint, double factor_bytes,
     if (per > 0 && n > 1 && n * per > avail)
         n = (int)(avail / per);
     return n < 1 ? 1 : n;
+}
+
+/* A numeric factorisation of this many unknowns or more runs faster on all the cores inside a threaded BLAS
+ * when it is the only one running (measured with OpenBLAS 0.3.21 pthread on
+ * 2 cores, make bench: 42.6 Gflop at 1.06M unknowns 6.66 s on one thread,
+ * 4.98 s on two; 14.4 Gflop at 0.51M unknowns 1.71 s on one, 2.26 s on two;
+ * 3.9 Gflop at 0.23M unknowns 0.83 s on one, 0.92 s on two; medians of 3).
+ * Two or more factorisations at once always run one BLAS thread each: two
+ * speeds at once took 3.6 s per speed at 1.06M unknowns, against 4.98 s one
+ * at a time on two BLAS threads.  (UMFPACK's flop estimate is no guide:
+ * 6.0e9 against 8.9e7 counted for cases/sled_fin.json.) */
+#define APP_BLAS_THREADED_UNKNOWNS 800000
+
+/* Set the BLAS threads of each of `workers` concurrent factorisations of
+ * sys (the cores left over, or one when small) and note them in r. */
+static void set_blas_threads(app_report *r, const app_run_opts *o, const sol_system *sys,
+                             int workers)
+{
+    int bt = 1; /* any other BLAS: one thread of its own */
+    if (sol_blas_threaded()) {
+        if (workers <= 1 && sol_unknowns(sys) >= APP_BLAS_THREADED_UNKNOWNS)
+            bt = core_budget(o);
+        sol_blas_threads(bt);
+    }
+    if (bt > r->blas_threads)
+        r->blas_threads = bt;
 }
 
 /* Solve the speeds from index k0 to the report's npoint, on as many threads
@@ -341,8 +388,7 @@ static eddy_status run_sweep(sweep *sw, int k0, size_t nn, eddy_error *err)
     sw->next = k0;
     sw->done = k0;
     pthread_mutex_init(&sw->lock, NULL);
-    if (nt > 1)
-        sol_blas_threads(1);
+    set_blas_threads(r, sw->o, sw->sys, nt);
     int started = 0;
     for (int t = 1; t < nt; t++)
         if (pthread_create(&tid[started], NULL, sweep_worker, sw) == 0)
@@ -391,7 +437,13 @@ static eddy_status grow_points(app_report *r, const double *add, int na, eddy_er
  * METIS gives the least fill and the fastest numeric factorisations but the
  * slowest analysis; the grid's own nested dissection analyses fastest.
  * METIS pays off from about four factorisations (the static field and three
- * speeds) on. */
+ * speeds) on.  It is also the only ordering within 1.2 of SuperLU's least
+ * fill at every size (make bench, 2026-12-03: METIS 1.11 / 0.70 / 1.05 at
+ * 56k / 0.23M / 1.06M unknowns, grid-nd 1.69 / 1.01 / 1.54, AMD 1.23 /
+ * 1.14 / 1.24), but METIS through UMFPACK leaks CHOLMOD workspace when an
+ * allocation fails inside it (tests/test_batch_alloc.c under LeakSanitizer),
+ * so one- and two-speed cases keep the grid's ordering until METIS's
+ * permutation is computed here and given to UMFPACK (issue 16, left). */
 static sol_ordering pick_ordering(const app_report *r)
 {
     return r->npoint >= 3 || r->c->speed_mode == MESH_SPEEDS_AUTO ? SOL_ORDER_METIS
@@ -399,9 +451,12 @@ static sol_ordering pick_ordering(const app_report *r)
 }
 
 /* The system of grid g (the run's memory limit and the given ordering), a
- * field buffer of nx*ny into *a, and its symbolic analysis into *info. */
+ * field buffer of nx*ny into *a, and its symbolic analysis into *info: the
+ * LU's, or with static_only the static field's alone (Cholesky where it
+ * applies: a system solved only at v = 0 needs no LU analysis). */
 static eddy_status grid_system(const mesh_grid *g, double limit, sol_ordering ordering,
-                               sol_system **sys, double **a, sol_info *info, eddy_error *err)
+                               int static_only, sol_system **sys, double **a, sol_info *info,
+                               eddy_error *err)
 {
     *a = NULL;
     eddy_status s = sol_system_alloc(g, sys, err);
@@ -414,17 +469,19 @@ static eddy_status grid_system(const mesh_grid *g, double limit, sol_ordering or
             s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the field");
     }
     if (s == EDDY_OK)
-        s = sol_analyse(*sys, info, err);
+        s = static_only && sol_uses_cholesky(*sys) ? sol_analyse_static(*sys, info, err)
+                                                   : sol_analyse(*sys, info, err);
     return s;
 }
 
 /* The static field of sys on g into a (Newton for saturable materials) and
  * the damping coefficient from it into *slope. */
-static eddy_status static_field(sol_system *sys, const mesh_grid *g, const app_run_opts *o,
-                                double *a, double *slope, eddy_error *err)
+static eddy_status static_field(app_report *r, sol_system *sys, const mesh_grid *g,
+                                const app_run_opts *o, double *a, double *slope, eddy_error *err)
 {
     sol_info info = {0};
     eddy_status s;
+    set_blas_threads(r, o, sys, 1);
     if (sol_is_nonlinear(sys)) {
         sol_work *w0 = NULL;
         s = sol_work_alloc(sys, &w0, err);
@@ -454,7 +511,7 @@ static eddy_status coarse_pass(app_report *r, const app_run_opts *o, double limi
                                : mesh_grid_build_coarse(r->c, level, limit, &gc, err);
     sol_info info = {0};
     if (s == EDDY_OK)
-        s = grid_system(gc, limit, pick_ordering(r), &sc, &ac, &info, err);
+        s = grid_system(gc, limit, pick_ordering(r), 0, &sc, &ac, &info, err);
     size_t nn = gc != NULL ? (size_t)gc->nx * (size_t)gc->ny : 0;
     if (sc != NULL)
         r->coarse_unknowns += sol_unknowns(sc);
@@ -462,7 +519,7 @@ static eddy_status coarse_pass(app_report *r, const app_run_opts *o, double limi
                 .status = EDDY_OK};
     if (s == EDDY_OK) {
         sw.factor_bytes = sol_factor_bytes(sc);
-        s = static_field(sc, gc, o, ac, &sw.slope, err);
+        s = static_field(r, sc, gc, o, ac, &sw.slope, err);
         sw.a_static = sol_is_nonlinear(sc) ? ac : NULL;
     }
     if (s == EDDY_OK)
@@ -497,10 +554,10 @@ static eddy_status box_truncation(app_report *r, const app_run_opts *o, double l
     double *a = NULL, slope = NAN;
     eddy_status s = mesh_grid_build(&co, limit, &g, NULL, err);
     sol_info info = {0};
-    if (s == EDDY_OK) /* one factorisation: the grid's own ordering */
-        s = grid_system(g, limit, SOL_ORDER_GRID_ND, &sys, &a, &info, err);
+    if (s == EDDY_OK) /* the static field only */
+        s = grid_system(g, limit, SOL_ORDER_GRID_ND, 1, &sys, &a, &info, err);
     if (s == EDDY_OK)
-        s = static_field(sys, g, o, a, &slope, err);
+        s = static_field(r, sys, g, o, a, &slope, err);
     if (s == EDDY_OK && slope > 0)
         r->box_truncation = fabs(r->damping / slope - 1.0);
     free(a);
@@ -528,9 +585,11 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
     double *a = NULL;
     size_t nn = (size_t)r->g->nx * (size_t)r->g->ny;
     sol_info info = {0};
-    s = grid_system(r->g, limit, pick_ordering(r), &sys, &a, &info, err);
-    if (sys != NULL)
+    s = grid_system(r->g, limit, pick_ordering(r), 0, &sys, &a, &info, err);
+    if (sys != NULL) {
         r->unknowns = sol_unknowns(sys);
+        r->static_cholesky = sol_uses_cholesky(sys);
+    }
     r->t_analyse += info.t_analyse;
     r->ordering = info.ordering;
     r->factor_bytes = sol_factor_bytes(sys);
@@ -538,13 +597,15 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
         s = app_out_open_dir(r, lock, err);
     sweep sw = {.r = r, .o = o, .sys = sys, .g = r->g, .f = r->f, .info = r->info,
                 .outputs = 1, .factor_bytes = r->factor_bytes, .status = EDDY_OK};
+    double t_static = eddy_now();
     if (s == EDDY_OK) {
-        s = static_field(sys, r->g, o, a, &sw.slope, err);
+        s = static_field(r, sys, r->g, o, a, &sw.slope, err);
         if (sol_is_nonlinear(sys))
             sw.a_static = a; /* the sweep's starting point */
         else if (s == EDDY_OK && o->reference)
             s = unit_mu_magnets_offset(r, sys, a, sw.slope, err);
     }
+    r->t_static += eddy_now() - t_static;
     if (s == EDDY_OK)
         r->damping = sw.slope; /* the damping coefficient, N s/m^2 */
     if (s == EDDY_OK)

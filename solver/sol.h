@@ -36,7 +36,9 @@ typedef struct sol_work sol_work;
 typedef enum {
     SOL_ORDER_AMD = 0,   /* UMFPACK's AMD on A + A' */
     SOL_ORDER_METIS,     /* METIS nested dissection (through UMFPACK) */
-    SOL_ORDER_GRID_ND    /* geometric nested dissection of the tensor grid (sol_pattern.c) */
+    SOL_ORDER_GRID_ND,   /* geometric nested dissection of the tensor grid (sol_pattern.c) */
+    SOL_ORDER_COLAMD     /* COLAMD on A'A with UMFPACK's unsymmetric strategy (for
+                          * comparison: make bench measured it slowest) */
 } sol_ordering;
 
 /* The default of a new system (cheapest analysis); the runner (app_run.c)
@@ -57,6 +59,8 @@ typedef struct {
     double peak_bytes;   /* UMFPACK's peak memory of the numeric phase, bytes */
     double est_peak_bytes; /* its estimate from the symbolic analysis, bytes */
     const char *ordering;  /* name of the fill-reducing ordering (static) */
+    int cholesky;        /* 1: the static field by Cholesky (CHOLMOD; lnz its L, unz 0),
+                          * 0: LU (UMFPACK) */
 } sol_info;
 
 /* ------------------------------------------------------------------------ */
@@ -107,7 +111,7 @@ void sol_work_free(sol_work *w);
  * discards an earlier symbolic factorisation). */
 void sol_set_ordering(sol_system *s, sol_ordering o);
 
-/* Name of an ordering ("amd", "metis", "grid-nd"; "unknown" for another
+/* Name of an ordering ("amd", "metis", "grid-nd", "colamd"; "unknown" for another
  * value); static storage, not to be freed. */
 const char *sol_ordering_name(sol_ordering o);
 
@@ -133,15 +137,69 @@ eddy_status sol_analyse(sol_system *s, sol_info *info, eddy_error *err);
  * AMD Cholesky analysis of A + A' instead.  0 for s = NULL. */
 double sol_factor_bytes(const sol_system *s);
 
+/* The BLAS under UMFPACK and CHOLMOD is the library that defines dgemm_ in
+ * this process (on Debian the libblas.so.3 alternative), found at run time
+ * (dladdr) and asked through its own exported symbols; nothing links to a
+ * particular BLAS.  The functions below are thread-safe. */
+
 /* 1 if several numeric factorisations may run at once in this process: the
- * BLAS under UMFPACK is reentrant (not a sequential OpenBLAS build, which is
- * detected at run time); else 0. */
+ * BLAS is reentrant (not a sequential OpenBLAS build, which gave wrong
+ * numbers for concurrent callers); else 0. */
 int sol_concurrency_safe(void);
 
-/* Ask a threaded OpenBLAS for n >= 1 threads per call (no effect on other
- * BLAS, nor for n < 1); used so that concurrent speeds do not oversubscribe
- * the cores. */
+/* 1 if the BLAS is a threaded OpenBLAS, whose threads per call
+ * sol_blas_threads sets; else 0. */
+int sol_blas_threaded(void);
+
+/* Ask a threaded OpenBLAS for n >= 1 threads per call (process-wide; no
+ * effect on other BLAS, nor for n < 1); the runner sets it so that the
+ * speeds solved at once times the BLAS threads never exceed the cores. */
 void sol_blas_threads(int n);
+
+/* Threads per call the BLAS uses now: openblas_get_num_threads of a
+ * threaded OpenBLAS, else 1. */
+int sol_blas_get_threads(void);
+
+/* The BLAS as detected, for reports: "OpenBLAS <version and build
+ * configuration> (<file>)", "BLIS <version> (<file>)", "ATLAS (<file>)",
+ * "reference BLAS (<file>)" (Debian's netlib build, recognised by its
+ * folder) or "BLAS (<file>)"; <file> is the resolved path of the library of
+ * dgemm_.  Written into buf (size bytes, truncated, NUL-terminated; nothing
+ * for size 0 or buf NULL). */
+void sol_blas_name(char *buf, size_t size);
+
+/* ------------------------------------------------------------------------ */
+/* The static field by Cholesky with CHOLMOD (sol_chol.c)                    */
+/* ------------------------------------------------------------------------ */
+
+/* At v = 0 the matrix of a linear system is symmetric positive definite:
+ * sol_solve and sol_solve_work then factorise it by supernodal Cholesky
+ * (CHOLMOD) with a symbolic analysis of its own, once per system, always in
+ * the grid's nested-dissection ordering (given as a permutation: the
+ * fastest analysis and factorisation measured, sol_chol.c), whatever
+ * sol_set_ordering chose for the LU.  Speeds v != 0 and saturable systems (Newton)
+ * keep UMFPACK's LU. */
+
+/* Choose Cholesky (on != 0, the default of a new system) or LU (0) for the
+ * static field of s. */
+void sol_set_cholesky(sol_system *s, int on);
+
+/* 1 if the static field of s is solved by Cholesky: on, and no saturable
+ * cells; 0 otherwise and for s = NULL. */
+int sol_uses_cholesky(const sol_system *s);
+
+/*
+ * CHOLMOD's symbolic analysis of the v = 0 matrix of s (once; a second call
+ * only fills info).  sol_solve at v = 0 calls it; call it before
+ * sol_solve_work at v = 0 to get Cholesky there (without it sol_solve_work
+ * uses the LU analysis).
+ *   info: optional; receives n, nnz, t_analyse (the Cholesky analysis),
+ *         est_peak_bytes (mesh_factor_bytes of L's entries), ordering
+ *         ("grid-nd"), cholesky = 1.
+ * Returns EDDY_OK, EDDY_ERR_NOMEM, EDDY_ERR_SOLVER, EDDY_ERR_TOO_LARGE (above
+ * the limit of sol_set_memory_limit), EDDY_ERR_INTERNAL (!sol_uses_cholesky).
+ */
+eddy_status sol_analyse_static(sol_system *s, sol_info *info, eddy_error *err);
 
 /*
  * Solve at speed v (m/s; moving regions move at +v along x) with the
@@ -152,6 +210,8 @@ void sol_blas_threads(int n);
  *         the boundary nodes (0 on zero boundaries; the periodic copy at
  *         i = nx-1 equals i = 0).  Caller-owned.
  *   info: optional statistics (NULL).
+ * At v = 0 with sol_uses_cholesky(s), by Cholesky (sol_analyse_static; the
+ * LU analysis is then not made), else by LU (sol_analyse).
  * Not thread-safe on one system (it uses the system's own workspace; see
  * sol_work_alloc and sol_solve_work for concurrent speeds).
  * Returns EDDY_OK, EDDY_ERR_INPUT (a non-finite speed), EDDY_ERR_NOMEM,
@@ -162,7 +222,8 @@ eddy_status sol_solve(sol_system *s, double v, double *a, sol_info *info, eddy_e
 
 /*
  * As sol_solve, with the caller's workspace w (sol_work_alloc on s); s must
- * be analysed already (sol_analyse), and is only read.  Thread-safe for
+ * be analysed already (sol_analyse; at v = 0 sol_analyse_static instead
+ * gives Cholesky), and is only read.  Thread-safe for
  * distinct workspaces.  a, info as sol_solve.
  * Returns as sol_solve, and EDDY_ERR_INTERNAL when s is not analysed.
  */

@@ -20,6 +20,7 @@
 
 #include "solver/sol.h"
 
+#include <cholmod.h>
 #include <umfpack.h>
 
 /* The five-point neighbours of an unknown, by direction: itself (centre),
@@ -58,6 +59,12 @@ struct sol_system {
     double t_analyse;
     double est_peak_bytes, est_flops, est_lu;  /* from the symbolic analysis */
     double memory_limit;                       /* bytes; <= 0: no limit */
+    /* the static field by Cholesky (sol_chol.c) */
+    int cholesky;                  /* 1: v = 0 of a linear system by CHOLMOD (default) */
+    cholmod_factor *chol_symbolic; /* CHOLMOD's symbolic analysis, or NULL */
+    double chol_lnz, chol_flops;   /* entries of L, flops of LL' (from the analysis) */
+    double chol_bytes;             /* estimated memory of one Cholesky factorisation */
+    double t_chol_analyse;         /* s */
 };
 
 /* ------------------------------------------------------------------------ */
@@ -135,6 +142,25 @@ eddy_status sol_umf_factor_solve(const sol_system *s, sol_work *w, const double 
                                  const char *what_factor, const char *what_solve,
                                  sol_info *info, double *t_factor, double *t_solve,
                                  eddy_error *err);
+
+/*
+ * Cholesky factorisation of the v = 0 matrix w->Ax (s analysed by
+ * sol_analyse_static; only its lower triangle is read) and the solve
+ * A x = b (b, x: s->n entries, x may not alias b), freeing the factor; the
+ * system's symbolic analysis is copied, so distinct workspaces may call this
+ * at once.
+ *   info:  optional; receives lnz (entries of L), unz = 0, flops, rcond,
+ *          peak_bytes (CHOLMOD's peak of the call) and cholesky = 1.
+ *   t_factor, t_solve: receive the two times (s).
+ * Returns EDDY_OK, EDDY_ERR_SINGULAR (not positive definite),
+ * EDDY_ERR_NOMEM, EDDY_ERR_SOLVER.
+ */
+eddy_status sol_chol_factor_solve(const sol_system *s, sol_work *w, const double *b, double *x,
+                                  sol_info *info, double *t_factor, double *t_solve,
+                                  eddy_error *err);
+
+/* Free the Cholesky analysis of s (none: nothing). */
+void sol_chol_free(sol_system *s);
 
 /* The statistics of one numeric factorisation and solve of s into info
  * (may be NULL): sizes, the analysis time of s, the given assembly, factor

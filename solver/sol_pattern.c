@@ -77,6 +77,7 @@ void sol_system_free(sol_system *s)
         return;
     if (s->symbolic != NULL)
         umfpack_dl_free_symbolic(&s->symbolic);
+    sol_chol_free(s);
     free(s->unk);
     free(s->Ap);
     free(s->Ai);
@@ -270,6 +271,7 @@ eddy_status sol_system_alloc(const mesh_grid *g, sol_system **out, eddy_error *e
     if (st == EDDY_OK) {
         sol_umf_defaults(s);
         s->ordering = SOL_ORDER_DEFAULT;
+        s->cholesky = 1;
         st = sol_work_alloc(s, &s->work, err);
     }
     if (st != EDDY_OK) {

@@ -9,6 +9,8 @@
 #include "solver/sol_int.h"
 
 #include <dlfcn.h>
+#include <limits.h>
+#include <pthread.h>
 
 #include <math.h>
 #include <stdio.h>
@@ -52,32 +54,112 @@ void sol_umf_defaults(sol_system *s)
 /* Concurrent factorisations and the BLAS underneath UMFPACK                 */
 /* ------------------------------------------------------------------------ */
 
-/* UMFPACK calls the system's BLAS.  The reference BLAS is reentrant; a
- * sequential ("serial") OpenBLAS build is not safe for concurrent callers
- * (measured here: two speeds factorised at once on Debian's
- * libopenblas0-serial gave drag values off by up to 1.6 %), and a threaded
- * OpenBLAS would oversubscribe the cores.  OpenBLAS is recognised at run
- * time by its exported symbols, without linking to it. */
+/* UMFPACK calls the system's BLAS, whichever library the libblas.so.3 of
+ * the machine is (Debian's alternatives, or LD_LIBRARY_PATH).  The library
+ * is found at run time as the one that defines dgemm_ (dladdr), and asked
+ * by its own exported symbols, without linking to it:
+ *   - OpenBLAS (openblas_get_config): a threaded ("pthread") build is safe
+ *     for concurrent callers and takes openblas_set_num_threads; a
+ *     sequential ("serial") build is not safe for concurrent callers
+ *     (measured here: two speeds factorised at once on Debian's
+ *     libopenblas0-serial 0.3.21 gave node values off by 22 %, and drag
+ *     values off by up to 1.6 % in an earlier run);
+ *   - BLIS (bli_info_get_version_str), ATLAS (ATL_xerbla) and the reference
+ *     BLAS: reentrant, no threads of their own here (Debian's BLIS reads
+ *     BLIS_NUM_THREADS, default 1). */
 typedef int (*blas_get_fn)(void);
 typedef void (*blas_set_fn)(int);
+typedef const char *(*blas_str_fn)(void);
+
+static struct {
+    pthread_once_t once;
+    void *handle;           /* the library of dgemm_, or RTLD_DEFAULT */
+    char path[PATH_MAX];    /* its file, resolved ("" if not found) */
+    blas_set_fn set_threads;
+    blas_get_fn get_threads, get_parallel;
+    blas_str_fn config, blis_version;
+    int atlas;
+} blas = {.once = PTHREAD_ONCE_INIT};
+
+/* A symbol of h or its dependencies (NULL if absent); the callers memcpy
+ * it into a function pointer (C has no conversion from void *). */
+static void *blas_sym(void *h, const char *name) { return dlsym(h, name); }
+
+static void blas_find(void)
+{
+    blas.handle = RTLD_DEFAULT;
+    void *dgemm = dlsym(RTLD_DEFAULT, "dgemm_");
+    Dl_info dl;
+    if (dgemm != NULL && dladdr(dgemm, &dl) != 0 && dl.dli_fname != NULL) {
+        if (realpath(dl.dli_fname, blas.path) == NULL)
+            snprintf(blas.path, sizeof blas.path, "%s", dl.dli_fname);
+        /* already loaded: a reference to it, kept for the process's life */
+        void *h = dlopen(dl.dli_fname, RTLD_LAZY | RTLD_NOLOAD);
+        if (h != NULL)
+            blas.handle = h;
+    }
+    void *p;
+    p = blas_sym(blas.handle, "openblas_set_num_threads");
+    memcpy(&blas.set_threads, &p, sizeof p);
+    p = blas_sym(blas.handle, "openblas_get_num_threads");
+    memcpy(&blas.get_threads, &p, sizeof p);
+    p = blas_sym(blas.handle, "openblas_get_parallel");
+    memcpy(&blas.get_parallel, &p, sizeof p);
+    p = blas_sym(blas.handle, "openblas_get_config");
+    memcpy(&blas.config, &p, sizeof p);
+    p = blas_sym(blas.handle, "bli_info_get_version_str");
+    memcpy(&blas.blis_version, &p, sizeof p);
+    blas.atlas = blas_sym(blas.handle, "ATL_xerbla") != NULL;
+}
+
+static void blas_init(void) { pthread_once(&blas.once, blas_find); }
 
 int sol_concurrency_safe(void)
 {
-    blas_get_fn get_parallel = NULL;
-    void *sym = dlsym(RTLD_DEFAULT, "openblas_get_parallel");
-    memcpy(&get_parallel, &sym, sizeof get_parallel);
-    if (get_parallel == NULL)
-        return 1;                /* not OpenBLAS */
-    return get_parallel() != 0; /* 0: sequential build */
+    blas_init();
+    if (blas.get_parallel == NULL)
+        return 1;                     /* not OpenBLAS */
+    return blas.get_parallel() != 0; /* 0: sequential build */
 }
 
 void sol_blas_threads(int n)
 {
-    blas_set_fn set_threads = NULL;
-    void *sym = dlsym(RTLD_DEFAULT, "openblas_set_num_threads");
-    memcpy(&set_threads, &sym, sizeof set_threads);
-    if (set_threads != NULL && n >= 1)
-        set_threads(n);
+    blas_init();
+    if (blas.set_threads != NULL && n >= 1)
+        blas.set_threads(n);
+}
+
+int sol_blas_get_threads(void)
+{
+    blas_init();
+    if (blas.get_threads == NULL || blas.get_parallel == NULL || blas.get_parallel() == 0)
+        return 1;
+    int n = blas.get_threads();
+    return n >= 1 ? n : 1;
+}
+
+int sol_blas_threaded(void)
+{
+    blas_init();
+    return blas.set_threads != NULL && blas.get_parallel != NULL && blas.get_parallel() != 0;
+}
+
+void sol_blas_name(char *buf, size_t size)
+{
+    blas_init();
+    if (buf == NULL || size == 0)
+        return;
+    const char *file = blas.path[0] != '\0' ? blas.path : "not found";
+    if (blas.config != NULL)
+        snprintf(buf, size, "%s (%s)", blas.config(), file);
+    else if (blas.blis_version != NULL)
+        snprintf(buf, size, "BLIS %s (%s)", blas.blis_version(), file);
+    else if (blas.atlas)
+        snprintf(buf, size, "ATLAS (%s)", file);
+    else if (strstr(file, "/blas/libblas") != NULL)
+        snprintf(buf, size, "reference BLAS (%s)", file);
+    else
+        snprintf(buf, size, "BLAS (%s)", file);
 }
 
 /* ------------------------------------------------------------------------ */
@@ -90,6 +172,7 @@ const char *sol_ordering_name(sol_ordering o)
     case SOL_ORDER_AMD: return "amd";
     case SOL_ORDER_METIS: return "metis";
     case SOL_ORDER_GRID_ND: return "grid-nd";
+    case SOL_ORDER_COLAMD: return "colamd";
     }
     return "unknown";
 }
@@ -108,6 +191,9 @@ void sol_set_memory_limit(sol_system *s, double bytes) { s->memory_limit = bytes
  * given ordering cannot be allocated (no factorisation then). */
 static eddy_status symbolic(sol_system *s, double *uinfo, long *st, eddy_error *err)
 {
+    /* COLAMD is UMFPACK's ordering of the unsymmetric strategy */
+    s->control[UMFPACK_STRATEGY] = s->ordering == SOL_ORDER_COLAMD ? UMFPACK_STRATEGY_UNSYMMETRIC
+                                                                   : UMFPACK_STRATEGY_SYMMETRIC;
     if (s->ordering == SOL_ORDER_GRID_ND) {
         long *perm = malloc((size_t)s->n * sizeof *perm);
         if (perm == NULL)
@@ -257,6 +343,7 @@ void sol_fill_info(const sol_system *s, sol_info *info, double t_asm, double t_f
     info->t_solve = t_sol;
     info->est_peak_bytes = s->est_peak_bytes;
     info->ordering = sol_ordering_name(s->ordering);
+    info->cholesky = 0;
 }
 
 eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a,
@@ -264,14 +351,22 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
 {
     if (!isfinite(v))
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "speed must be finite");
-    if (s->symbolic == NULL)
+    int chol = v == 0.0 && sol_uses_cholesky(s) && s->chol_symbolic != NULL;
+    if (s->symbolic == NULL && !chol)
         return EDDY_RAISE(err, EDDY_ERR_INTERNAL, "sol_solve_work before sol_analyse");
     double t0 = eddy_now();
     sol_assemble(s, w, v, s->g->nu);
     double t_asm = eddy_now() - t0, t_fac = 0.0, t_sol = 0.0;
-    eddy_status st = sol_umf_factor_solve(s, w, w->rhs, w->sol, "numeric factorisation", "solve",
-                                          info, &t_fac, &t_sol, err);
+    eddy_status st = chol ? sol_chol_factor_solve(s, w, w->rhs, w->sol, info, &t_fac, &t_sol, err)
+                          : sol_umf_factor_solve(s, w, w->rhs, w->sol, "numeric factorisation",
+                                                 "solve", info, &t_fac, &t_sol, err);
     sol_fill_info(s, info, t_asm, t_fac, t_sol);
+    if (info != NULL && chol) {
+        info->ordering = sol_ordering_name(SOL_ORDER_GRID_ND);
+        info->t_analyse = s->t_chol_analyse;
+        info->est_peak_bytes = s->chol_bytes;
+        info->cholesky = 1;
+    }
     if (st != EDDY_OK)
         return st;
     return sol_scatter_solution(s, w->sol, a, err);
@@ -279,7 +374,8 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
 
 eddy_status sol_solve(sol_system *s, double v, double *a, sol_info *info, eddy_error *err)
 {
-    eddy_status st = sol_analyse(s, info, err);
+    eddy_status st = v == 0.0 && sol_uses_cholesky(s) ? sol_analyse_static(s, info, err)
+                                                       : sol_analyse(s, info, err);
     if (st != EDDY_OK)
         return st;
     return sol_solve_work(s, s->work, v, a, info, err);

@@ -29,7 +29,7 @@ find solve reference batch -type f | LC_ALL=C sort | while read -r f; do
     case $f in
     *.png|*.vtr) sum=$(sha256sum < "$f" | cut -c1-16) ;;
     */summary.csv) sum=$(sed 's/,[0-9.]*$//' "$f" | sha256sum | cut -c1-16) ;;
-    *) sum=$(grep -v -E 'seconds|"threads"|"tool"|"written"|eddy2d [0-9]+\.[0-9]+' "$f" |
+    *) sum=$(grep -v -E 'seconds|"speed_workers"|"blas"|"blas_threads"|"tool"|"written"|eddy2d [0-9]+\.[0-9]+' "$f" |
              sed -e "s|$W|WORK|g" -e 's|<td class="num">[0-9.]*</td><td class="err">|<td class="err">|' |
              sha256sum | cut -c1-16) ;;
     esac

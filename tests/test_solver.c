@@ -19,6 +19,7 @@
 #define TOL_STRESS 0.01          /* issue 2: Lorentz vs stress-tensor drag, 1 % */
 #define TOL_SYMMETRY 1e-6        /* reversal symmetry on a mirror-symmetric grid */
 #define TOL_LINEAR 1e-9          /* linearity of the discrete problem */
+#define TOL_CHOL_LU 1e-10        /* issue 16: Cholesky and LU static fields, relative */
 
 /* ---------------------------------------------------------------------- */
 /* Closed-form field of a uniformly magnetised rectangle (Br along +y,     */
@@ -315,9 +316,114 @@ static void test_bernoulli(void)
           "Bernoulli function underflows gracefully", "B(800) = %g", sol_bernoulli(800.0));
 }
 
+/* ---------------------------------------------------------------------- */
+/* The static (v = 0) matrix is symmetric positive definite, so Cholesky   */
+/* applies (issue 16): the assembled values, written by sol_export at      */
+/* %.17g (which a double survives exactly), must be exactly symmetric with */
+/* a positive diagonal and nonpositive off-diagonals (an M-matrix:         */
+/* symmetric, diagonally dominant, positive definite with one zero node;   */
+/* Varga, "Matrix Iterative Analysis", 1962, ch. 3, from memory).  Then    */
+/* CHOLMOD's Cholesky and UMFPACK's LU give the same field to roundoff.    */
+/* ---------------------------------------------------------------------- */
+static const char *open_case =
+    "{\"name\":\"chol_open\",\"length_unit\":\"mm\","
+    "\"domain\":{\"x\":[-40,40],\"y\":[-30,30],\"x_boundary\":\"open\",\"y_boundary\":\"open\"},"
+    "\"regions\":[{\"material\":\"copper_annealed\",\"box\":[-40,-12,40,-10],\"moving\":true},"
+    "{\"material\":\"soft_iron_linear\",\"box\":[-20,10,20,14]},"
+    "{\"material\":\"ndfeb_42\",\"box\":[-10,0,10,8],\"magnetization_angle\":90}],"
+    "\"speeds\":[5]}";
+
+static void test_static_cholesky(const char *label, const char *json)
+{
+    pipe_run p;
+    char name[200];
+    if (pipe_open(&p, json) != 0) {
+        snprintf(name, sizeof name, "%s: pipeline", label);
+        check(0, name, "failed");
+        return;
+    }
+    const char *mtx = "test_solver_static.mtx", *rhs = "test_solver_static_rhs.mtx";
+    eddy_status st = sol_export(p.sys, 0.0, mtx, rhs, NULL);
+    long n = 0, nz = 0, asym = 0, bad_sign = 0;
+    FILE *f = st == EDDY_OK ? fopen(mtx, "r") : NULL;
+    long *ri = NULL, *ci = NULL;
+    double *vx = NULL;
+    if (f != NULL) {
+        char line[256];
+        while (fgets(line, sizeof line, f) != NULL && line[0] == '%')
+            ;
+        long m = 0;
+        if (sscanf(line, "%ld %ld %ld", &n, &m, &nz) == 3 && nz > 0) {
+            ri = malloc((size_t)nz * sizeof *ri);
+            ci = malloc((size_t)nz * sizeof *ci);
+            vx = malloc((size_t)nz * sizeof *vx);
+        }
+        for (long k = 0; ri != NULL && ci != NULL && vx != NULL && k < nz; k++)
+            if (fscanf(f, "%ld %ld %lf", &ri[k], &ci[k], &vx[k]) != 3)
+                nz = k;
+        fclose(f);
+    }
+    /* the entries come column by column, rows sorted: find (c, r) for each
+     * (r, c) by bisection in column r */
+    long *cp = ri != NULL ? calloc((size_t)n + 2, sizeof *cp) : NULL;
+    for (long k = 0; cp != NULL && k < nz; k++)
+        cp[ci[k] + 1] = k + 1;
+    for (long c = 1; cp != NULL && c <= n + 1; c++)
+        if (cp[c] < cp[c - 1])
+            cp[c] = cp[c - 1];
+    for (long k = 0; cp != NULL && k < nz; k++) {
+        long r = ri[k], c = ci[k], lo = cp[r], hi = cp[r + 1] - 1, found = -1;
+        while (lo <= hi) {
+            long mid = (lo + hi) / 2;
+            if (ri[mid] == c) {
+                found = mid;
+                break;
+            }
+            if (ri[mid] < c)
+                lo = mid + 1;
+            else
+                hi = mid - 1;
+        }
+        asym += found < 0 ? vx[k] != 0.0 : vx[found] != vx[k];
+        bad_sign += r == c ? !(vx[k] > 0.0) : vx[k] > 0.0;
+    }
+    remove(mtx);
+    remove(rhs);
+    snprintf(name, sizeof name, "%s: the v = 0 matrix is exactly symmetric, an M-matrix", label);
+    check(cp != NULL && nz > n && asym == 0 && bad_sign == 0, name,
+          "%ld unknowns, %ld entries: %ld unequal to their transpose, %ld of the wrong sign", n, nz,
+          asym, bad_sign);
+    free(ri);
+    free(ci);
+    free(vx);
+    free(cp);
+    size_t nn = (size_t)p.g->nx * (size_t)p.g->ny;
+    double *a_lu = malloc(nn * sizeof *a_lu);
+    sol_info ic = {0}, il = {0};
+    sol_set_cholesky(p.sys, 1);
+    eddy_status s1 = sol_solve(p.sys, 0.0, p.a, &ic, NULL);
+    sol_set_cholesky(p.sys, 0);
+    eddy_status s2 = a_lu != NULL ? sol_solve(p.sys, 0.0, a_lu, &il, NULL) : EDDY_ERR_NOMEM;
+    double worst = 0.0, amax = 0.0;
+    for (size_t k = 0; s1 == EDDY_OK && s2 == EDDY_OK && k < nn; k++) {
+        worst = fmax(worst, fabs(p.a[k] - a_lu[k]));
+        amax = fmax(amax, fabs(a_lu[k]));
+    }
+    snprintf(name, sizeof name, "%s: Cholesky (CHOLMOD) and LU (UMFPACK) give the same static field",
+             label);
+    check(s1 == EDDY_OK && s2 == EDDY_OK && ic.cholesky == 1 && il.cholesky == 0 && amax > 0 &&
+              worst <= TOL_CHOL_LU * amax,
+          name, "largest difference %.2g of max |A| %.3g Wb/m (L %.3g entries, LU %.3g)",
+          worst / amax, amax, ic.lnz, il.lnz + il.unz);
+    free(a_lu);
+    pipe_free(&p);
+}
+
 int main(void)
 {
     test_bernoulli();
+    test_static_cholesky("periodic array on back iron", periodic_case);
+    test_static_cholesky("open sides, iron and a magnet", open_case);
     test_static_magnet();
     test_low_speed_line_current();
     const double iso_speeds[] = {0.05, 0.5, 2, 5, 20, 50, 100, 300};

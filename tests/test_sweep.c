@@ -4,6 +4,7 @@
  * solution, the memory guard refuses before factorising, and the Matrix
  * Market export is the system that was solved (A x = b for the solution).
  */
+#include <cJSON.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -68,6 +69,40 @@ static void test_threads(void)
     }
     app_report_free(r1);
     app_report_free(r2);
+}
+
+/* The solver block of a run's result.json: the BLAS as detected, its
+ * threads and the speed workers; their product never exceeds the cores the
+ * run was given (one BLAS thread per worker when two speeds run at once;
+ * the policy of app_run.c, which measured it). */
+static void check_solver_block(int threads)
+{
+    char path[400];
+    snprintf(path, sizeof path, "%s/out_%d_0/result.json", dir, threads);
+    char *text = NULL;
+    cJSON *root = NULL;
+    if (eddy_read_file(path, 1L << 26, &text, NULL, NULL) == EDDY_OK)
+        root = cJSON_Parse(text);
+    free(text);
+    const cJSON *sv = cJSON_GetObjectItemCaseSensitive(root, "solver");
+    const cJSON *blas = cJSON_GetObjectItemCaseSensitive(sv, "blas");
+    const cJSON *bt = cJSON_GetObjectItemCaseSensitive(sv, "blas_threads");
+    const cJSON *sw = cJSON_GetObjectItemCaseSensitive(sv, "speed_workers");
+    char expect[256];
+    sol_blas_name(expect, sizeof expect);
+    int want_workers = threads > 1 && sol_concurrency_safe() ? threads : 1;
+    char name[120];
+    snprintf(name, sizeof name, "result.json names the BLAS and its threads (--threads %d)",
+             threads);
+    check(cJSON_IsString(blas) && strcmp(blas->valuestring, expect) == 0 &&
+              strstr(expect, "(/") != NULL && cJSON_IsNumber(bt) && cJSON_IsNumber(sw) &&
+              sw->valueint == want_workers && bt->valueint == 1 &&
+              sw->valueint * bt->valueint <= threads,
+          name, "blas \"%s\" (detected \"%s\"), blas_threads %d, speed_workers %d (want %d)",
+          cJSON_IsString(blas) ? blas->valuestring : "(missing)", expect,
+          cJSON_IsNumber(bt) ? bt->valueint : -1, cJSON_IsNumber(sw) ? sw->valueint : -1,
+          want_workers);
+    cJSON_Delete(root);
 }
 
 static void test_memory_guard(void)
@@ -165,6 +200,8 @@ int main(void)
     if (pipe_write_case(casefile, case_text) != 0)
         return 1;
     test_threads();
+    check_solver_block(1);
+    check_solver_block(2);
     test_memory_guard();
     test_orderings_and_export();
     char cmd[400];
