@@ -131,6 +131,16 @@ void sol_umf_defaults(sol_system *s);
 eddy_status sol_umf_status(long st, const char *what, eddy_error *err);
 
 /*
+ * Numeric factorisation of the matrix w->Ax (s analysed) into *numeric
+ * (UMFPACK's, freed by the caller with umfpack_dl_free_numeric; NULL on
+ * error).  what names the step in messages; info (may be NULL) receives
+ * lnz, unz, flops, rcond and peak_bytes; *t_factor the time (s).
+ * Returns EDDY_OK or the status of sol_umf_status.
+ */
+eddy_status sol_umf_numeric(const sol_system *s, sol_work *w, void **numeric, const char *what,
+                            sol_info *info, double *t_factor, eddy_error *err);
+
+/*
  * Numeric factorisation of the matrix w->Ax (s analysed) and the solve
  * A x = b (b, x: s->n entries; x may not alias b), freeing the factors.
  *   what_factor, what_solve: the steps' names in messages.

@@ -238,37 +238,20 @@ eddy_status sol_stepper_advance_frame(sol_stepper *t, double dt, int order,
     long nnz = s->Ap[n];
     eddy_status st = EDDY_OK;
     if (t->numeric != NULL && memcmp(t->ax_last, w->Ax, (size_t)nnz * sizeof *w->Ax) == 0) {
-        /* the same matrix as the last step: its factors */
-        double t1 = eddy_now(), uinfo[UMFPACK_INFO];
-        long ust = umfpack_dl_wsolve(UMFPACK_A, s->Ap, s->Ai, w->Ax, w->sol, t->b, t->numeric,
-                                     s->control, uinfo, w->Wi, w->W);
-        st = sol_umf_status(ust, "solve of a time step", err);
-        t_sol = eddy_now() - t1;
-        t->reused++;
+        t->reused++; /* the same matrix as the last step: its factors */
     } else {
         if (t->numeric != NULL)
             umfpack_dl_free_numeric(&t->numeric);
-        double t1 = eddy_now(), uinfo[UMFPACK_INFO];
-        long ust = umfpack_dl_numeric(s->Ap, s->Ai, w->Ax, s->symbolic, &t->numeric, s->control,
-                                      uinfo);
-        double t2 = eddy_now();
-        t_fac = t2 - t1;
-        if (info != NULL) {
-            info->lnz = uinfo[UMFPACK_LNZ];
-            info->unz = uinfo[UMFPACK_UNZ];
-            info->flops = uinfo[UMFPACK_FLOPS];
-            info->rcond = uinfo[UMFPACK_RCOND];
-            info->peak_bytes = uinfo[UMFPACK_PEAK_MEMORY] * uinfo[UMFPACK_SIZE_OF_UNIT];
-        }
-        st = sol_umf_status(ust, "numeric factorisation of a time step", err);
-        if (st == EDDY_OK) {
+        st = sol_umf_numeric(s, w, &t->numeric, "numeric factorisation of a time step", info,
+                             &t_fac, err);
+        if (st == EDDY_OK)
             memcpy(t->ax_last, w->Ax, (size_t)nnz * sizeof *w->Ax);
-            ust = umfpack_dl_wsolve(UMFPACK_A, s->Ap, s->Ai, w->Ax, w->sol, t->b, t->numeric,
-                                    s->control, uinfo, w->Wi, w->W);
-            st = sol_umf_status(ust, "solve of a time step", err);
-        } else if (t->numeric != NULL) {
-            umfpack_dl_free_numeric(&t->numeric);
-        }
+    }
+    if (st == EDDY_OK) {
+        double t2 = eddy_now(), uinfo[UMFPACK_INFO];
+        long ust = umfpack_dl_wsolve(UMFPACK_A, s->Ap, s->Ai, w->Ax, w->sol, t->b, t->numeric,
+                                     s->control, uinfo, w->Wi, w->W);
+        st = sol_umf_status(ust, "solve of a time step", err);
         t_sol = eddy_now() - t2;
     }
     sol_fill_info(s, info, t_asm, t_fac, t_sol);

@@ -288,16 +288,13 @@ double sol_factor_bytes(const sol_system *s) { return s != NULL ? s->est_peak_by
 /* Numeric factorisation and solve                                           */
 /* ------------------------------------------------------------------------ */
 
-eddy_status sol_umf_factor_solve(const sol_system *s, sol_work *w, const double *b, double *x,
-                                 const char *what_factor, const char *what_solve,
-                                 sol_info *info, double *t_factor, double *t_solve,
-                                 eddy_error *err)
+eddy_status sol_umf_numeric(const sol_system *s, sol_work *w, void **numeric, const char *what,
+                            sol_info *info, double *t_factor, eddy_error *err)
 {
     double t1 = eddy_now(), uinfo[UMFPACK_INFO];
-    void *numeric = NULL;
-    long ust = umfpack_dl_numeric(s->Ap, s->Ai, w->Ax, s->symbolic, &numeric, s->control, uinfo);
-    double t2 = eddy_now();
-    *t_factor = t2 - t1;
+    *numeric = NULL;
+    long ust = umfpack_dl_numeric(s->Ap, s->Ai, w->Ax, s->symbolic, numeric, s->control, uinfo);
+    *t_factor = eddy_now() - t1;
     if (info != NULL) {
         info->lnz = uinfo[UMFPACK_LNZ];
         info->unz = uinfo[UMFPACK_UNZ];
@@ -305,7 +302,21 @@ eddy_status sol_umf_factor_solve(const sol_system *s, sol_work *w, const double 
         info->rcond = uinfo[UMFPACK_RCOND];
         info->peak_bytes = uinfo[UMFPACK_PEAK_MEMORY] * uinfo[UMFPACK_SIZE_OF_UNIT];
     }
-    eddy_status st = sol_umf_status(ust, what_factor, err);
+    eddy_status st = sol_umf_status(ust, what, err);
+    if (st != EDDY_OK && *numeric != NULL)
+        umfpack_dl_free_numeric(numeric);
+    return st;
+}
+
+eddy_status sol_umf_factor_solve(const sol_system *s, sol_work *w, const double *b, double *x,
+                                 const char *what_factor, const char *what_solve,
+                                 sol_info *info, double *t_factor, double *t_solve,
+                                 eddy_error *err)
+{
+    void *numeric = NULL;
+    eddy_status st = sol_umf_numeric(s, w, &numeric, what_factor, info, t_factor, err);
+    double t2 = eddy_now(), uinfo[UMFPACK_INFO];
+    long ust;
     if (st == EDDY_OK) {
         ust = umfpack_dl_wsolve(UMFPACK_A, s->Ap, s->Ai, w->Ax, x, b, numeric, s->control, uinfo,
                                 w->Wi, w->W);
