@@ -135,6 +135,13 @@ static eddy_status encode(const char *path, int w, int h, int ch, png_bytep *row
         return EDDY_RAISE(err, EDDY_ERR_IO, "%s: PNG write failed: %s", path, ctx.msg);
     }
     png_init_io(png, f);
+    /* zlib level 4, no row filter: the field maps are flat runs of a few
+     * hundred colours, which the filters only blur.  On make bench's
+     * 16-speed sweep (32 maps of 1200 x 1256) against libpng's defaults
+     * (level 6, adaptive filters): 2.47 s of pictures and forces instead of
+     * 4.30 s, 11.1 MB instead of 12.2 MB (2026-12-04) */
+    png_set_compression_level(png, 4);
+    png_set_filter(png, 0, PNG_FILTER_NONE);
     png_set_IHDR(png, info, (png_uint_32)w, (png_uint_32)h, 8,
                  ch == 3 ? PNG_COLOR_TYPE_RGB : PNG_COLOR_TYPE_RGB_ALPHA, PNG_INTERLACE_NONE,
                  PNG_COMPRESSION_TYPE_DEFAULT, PNG_FILTER_TYPE_DEFAULT);
