@@ -109,6 +109,10 @@ typedef struct {
     int no_error_estimate; /* 1: "error_estimate": false, skip the coarse-grid solve */
     double tolerance;    /* relative accuracy asked of drag and normal force (against the
                           * largest of their magnitudes over the sweep); 0 = none */
+    int layer_cells;     /* not read from the case: cells of each layer mapped to
+                          * infinity beyond an open side; 0 = the default, 48 x refine
+                          * (halved per coarse level; the box estimate of app/app_run.c
+                          * sets 48, refine 1's layer, under a refined inside) */
 } mesh_params;
 
 /* A line along which B and J are exported (a Hall-probe scan). */

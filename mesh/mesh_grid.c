@@ -632,7 +632,9 @@ static eddy_status build_axes(const mesh_case *c, int coarse, grid_plan *p, doub
     }
     /* the coarse grid's layer: half the cells over the same map (L is m times
      * the last inside cell, which doubles) */
-    int mcells = MAP_CELLS * (c->mesh.refine > 1 ? c->mesh.refine : 1) >> coarse;
+    int mcells = (c->mesh.layer_cells > 0 ? c->mesh.layer_cells
+                                          : MAP_CELLS * (c->mesh.refine > 1 ? c->mesh.refine : 1)) >>
+                 coarse;
     if (mcells < 6)
         mcells = 6;
     if (rx == 0 && ry == 0)
