@@ -88,6 +88,11 @@ typedef struct {
     double factor_bytes;        /* UMFPACK's estimated peak memory of one factorisation */
     int threads;                /* speeds solved at once (the most of any sweep) */
     int blas_threads;           /* BLAS threads per factorisation (the most used) */
+    int blas_cap;               /* > 0: the BLAS threads are held at this many (set
+                                 * once before work runs beside the fine pass) */
+    int overlapped;             /* 1 if the error estimate (and, for linear materials,
+                                 * the static field) ran beside the fine pass's LU on
+                                 * a thread of its own (one-speed cases) */
     int static_cholesky;        /* 1: the static field by Cholesky (CHOLMOD), 0: LU */
     char blas[256];             /* the BLAS as detected (sol_blas_name) */
     /* brake design (app_design.c) */

@@ -506,6 +506,8 @@ static void add_mesh(cJSON *root, const app_report *r)
     J(cJSON_AddNumberToObject(solver, "speed_workers", r->threads));
     J(cJSON_AddStringToObject(solver, "blas", r->blas));
     J(cJSON_AddNumberToObject(solver, "blas_threads", r->blas_threads));
+    /* one-speed cases: the estimate (and the static field) on a second thread */
+    J(cJSON_AddBoolToObject(solver, "estimate_beside_speed", r->overlapped == 1));
     add_num(solver, "factor_memory_estimate_bytes", r->factor_bytes);
 }
 

@@ -367,6 +367,8 @@ static void set_blas_threads(app_report *r, const app_run_opts *o, const sol_sys
                              int workers)
 {
     int bt = 1; /* any other BLAS: one thread of its own */
+    if (r->blas_cap > 0) /* work runs beside: the threads were set before it started */
+        return;
     if (sol_blas_threaded()) {
         if (workers <= 1 && sol_unknowns(sys) >= APP_BLAS_THREADED_UNKNOWNS)
             bt = core_budget(o);
@@ -451,12 +453,12 @@ static sol_ordering pick_ordering(const app_report *r)
 }
 
 /* The system of grid g (the run's memory limit and the given ordering), a
- * field buffer of nx*ny into *a, and its symbolic analysis into *info: the
- * LU's, or with static_only the static field's alone (Cholesky where it
- * applies: a system solved only at v = 0 needs no LU analysis). */
+ * field buffer of nx*ny into *a, and (analyse) its symbolic analysis into
+ * *info: the LU's, or with static_only the static field's alone (Cholesky
+ * where it applies: a system solved only at v = 0 needs no LU analysis). */
 static eddy_status grid_system(const mesh_grid *g, double limit, sol_ordering ordering,
-                               int static_only, sol_system **sys, double **a, sol_info *info,
-                               eddy_error *err)
+                               int static_only, int analyse, sol_system **sys, double **a,
+                               sol_info *info, eddy_error *err)
 {
     *a = NULL;
     eddy_status s = sol_system_alloc(g, sys, err);
@@ -468,7 +470,7 @@ static eddy_status grid_system(const mesh_grid *g, double limit, sol_ordering or
         if (*a == NULL)
             s = EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the field");
     }
-    if (s == EDDY_OK)
+    if (s == EDDY_OK && analyse)
         s = static_only && sol_uses_cholesky(*sys) ? sol_analyse_static(*sys, info, err)
                                                    : sol_analyse(*sys, info, err);
     return s;
@@ -511,7 +513,7 @@ static eddy_status coarse_pass(app_report *r, const app_run_opts *o, double limi
                                : mesh_grid_build_coarse(r->c, level, limit, &gc, err);
     sol_info info = {0};
     if (s == EDDY_OK)
-        s = grid_system(gc, limit, pick_ordering(r), 0, &sc, &ac, &info, err);
+        s = grid_system(gc, limit, pick_ordering(r), 0, 1, &sc, &ac, &info, err);
     size_t nn = gc != NULL ? (size_t)gc->nx * (size_t)gc->ny : 0;
     if (sc != NULL)
         r->coarse_unknowns += sol_unknowns(sc);
@@ -534,7 +536,17 @@ static eddy_status coarse_pass(app_report *r, const app_run_opts *o, double limi
 
 /* The box-truncation estimate of a case with zero (A = 0) sides: the
  * damping coefficient of the static field with those sides open (a layer
- * mapped to infinity) against the one with them zero, relative.  It is a
+ * mapped to infinity) against the one with them zero (r->damping),
+ * relative.  The inside is the fine grid, so that the grid's own error
+ * cancels in the ratio (on the 2h grid the estimate of tests/test_estimate.c's
+ * zero box is 4.53 % against 3.47 % on the fine grid, where the box changes
+ * the drag by 3.8 %; measured 2026-12-04).  The layers keep the cells of an
+ * unrefined grid (48): under mesh.refine r they would have 48 r, the
+ * costliest solve of a run (1.93M unknowns beside the grid's 1.06M in make
+ * bench's largest case, refine 13: 9.7 of the estimate's 13.7 s), for an
+ * estimate that moves by 3e-4 of itself (that zero box at refine 2: 2.9754 %
+ * against 2.9764 %, refine 4: 2.7372 % against 2.7388 %, in 1/4 and 1/5 of
+ * the time; measured 2026-12-04).  It is a
  * low-speed proxy of how much the box changes every force.  0 when no side
  * is zero or the geometry has no open sides. */
 static eddy_status box_truncation(app_report *r, const app_run_opts *o, double limit,
@@ -549,13 +561,14 @@ static eddy_status box_truncation(app_report *r, const app_run_opts *o, double l
     mesh_case co = *c; /* a shallow copy: the grid builder only reads it */
     co.x_open = !c->x_periodic;
     co.y_open = 1;
+    co.mesh.layer_cells = 48; /* an unrefined grid's layer (mesh/mesh_grid.c MAP_CELLS) */
     mesh_grid *g = NULL;
     sol_system *sys = NULL;
     double *a = NULL, slope = NAN;
     eddy_status s = mesh_grid_build(&co, limit, &g, NULL, err);
     sol_info info = {0};
     if (s == EDDY_OK) /* the static field only */
-        s = grid_system(g, limit, SOL_ORDER_GRID_ND, 1, &sys, &a, &info, err);
+        s = grid_system(g, limit, SOL_ORDER_GRID_ND, 1, 1, &sys, &a, &info, err);
     if (s == EDDY_OK)
         s = static_field(r, sys, g, o, a, &slope, err);
     if (s == EDDY_OK && slope > 0)
@@ -567,12 +580,155 @@ static eddy_status box_truncation(app_report *r, const app_run_opts *o, double l
     return s;
 }
 
+/* The error estimate's solves: the coarse passes at 2h and 4h into fc (2 x
+ * npoint entries) and the box truncation into r->box_truncation (after the
+ * fine static field: r->damping). */
+static eddy_status estimate_passes(app_report *r, const app_run_opts *o, double limit,
+                                   post_forces *fc, eddy_error *err)
+{
+    eddy_status s = coarse_pass(r, o, limit, 1, fc, err);
+    if (s == EDDY_OK)
+        s = coarse_pass(r, o, limit, 2, fc + r->npoint, err);
+    if (s == EDDY_OK)
+        s = box_truncation(r, o, limit, err);
+    return s;
+}
+
+/* Work beside the fine pass on a core that would idle (measured in make
+ * bench, README "Speed"): the static field of linear materials (Cholesky,
+ * which needs no LU analysis, runs while UMFPACK analyses; the fine pass
+ * waits for it before the speeds) and, in a one-speed case, the error
+ * estimate while the single factorisation runs.  The estimate works on a
+ * shallow copy of the report (its own timers, counts and box estimate),
+ * read back by side_join; the static part writes only the static field, the
+ * damping coefficient and ref_mu1_offset of the real report. */
+typedef struct {
+    app_report *r;
+    app_report shadow;       /* the estimate's report (a shallow copy of *r) */
+    const app_run_opts *o;
+    double limit;
+    post_forces *fc;         /* 2 x npoint coarse results */
+    int with_estimate;       /* 1: the estimate goes beside too (one speed) */
+    /* the static part (do_static): the fine system, its field buffer */
+    int do_static;
+    sol_system *sys;
+    double *a;
+    double slope, t_static;
+    eddy_status static_status, est_status;
+    eddy_error static_err, est_err;
+    int static_done, started, launched; /* launched: the estimate was started */
+    pthread_mutex_t lock;
+    pthread_cond_t cond;
+    pthread_t tid;
+} side_work;
+
+static void *side_main(void *arg)
+{
+    side_work *sd = arg;
+    if (sd->do_static) {
+        double t0 = eddy_now();
+        app_report *r = sd->r;
+        eddy_status s = static_field(r, sd->sys, r->g, sd->o, sd->a, &sd->slope, &sd->static_err);
+        if (s == EDDY_OK && sd->o->reference)
+            s = unit_mu_magnets_offset(r, sd->sys, sd->a, sd->slope, &sd->static_err);
+        sd->t_static = eddy_now() - t0;
+        pthread_mutex_lock(&sd->lock);
+        sd->static_status = s;
+        sd->static_done = 1;
+        pthread_cond_signal(&sd->cond);
+        pthread_mutex_unlock(&sd->lock);
+        if (s != EDDY_OK || !sd->with_estimate) /* the fine pass reports an error */
+            return NULL;
+        sd->shadow.damping = sd->slope; /* the box estimate's reference */
+    }
+    sd->est_status = estimate_passes(&sd->shadow, sd->o, sd->limit, sd->fc, &sd->est_err);
+    return NULL;
+}
+
+/* Start the side work (the static part when sys != NULL).  Returns 0 when
+ * no thread could be started: the caller then does the work itself. */
+static int side_start(side_work *sd, sol_system *sys, double *a)
+{
+    sd->do_static = sys != NULL;
+    sd->sys = sys;
+    sd->a = a;
+    sd->static_done = 0;
+    /* two threads factorise at once: one BLAS thread each, held until the
+     * side work is done with the BLAS */
+    sol_blas_threads(1);
+    sd->r->blas_cap = 1;
+    if (sd->r->blas_threads < 1)
+        sd->r->blas_threads = 1;
+    sd->shadow = *sd->r;
+    sd->started = pthread_create(&sd->tid, NULL, side_main, sd) == 0;
+    if (!sd->started)
+        sd->r->blas_cap = 0;
+    sd->launched |= sd->started && sd->with_estimate;
+    return sd->started;
+}
+
+/* Wait for the static part of the side work: its status (its error into
+ * *err), the damping coefficient into *slope. */
+static eddy_status side_wait_static(side_work *sd, double *slope, eddy_error *err)
+{
+    pthread_mutex_lock(&sd->lock);
+    while (!sd->static_done)
+        pthread_cond_wait(&sd->cond, &sd->lock);
+    pthread_mutex_unlock(&sd->lock);
+    *slope = sd->slope;
+    sd->r->t_static += sd->t_static;
+    if (sd->static_status != EDDY_OK && err != NULL)
+        *err = sd->static_err;
+    return sd->static_status;
+}
+
+/* Wait for the side work to end and take the estimate's results into the
+ * report.  Returns the estimate's status (its error into *err). */
+static eddy_status side_join(side_work *sd, eddy_error *err)
+{
+    if (!sd->started)
+        return EDDY_OK;
+    pthread_join(sd->tid, NULL);
+    sd->started = 0;
+    app_report *r = sd->r;
+    r->coarse_unknowns = sd->shadow.coarse_unknowns;
+    r->t_estimate = sd->shadow.t_estimate;
+    r->box_truncation = sd->shadow.box_truncation;
+    if (sd->shadow.threads > r->threads)
+        r->threads = sd->shadow.threads;
+    if (sd->est_status != EDDY_OK && err != NULL)
+        *err = sd->est_err;
+    return sd->est_status;
+}
+
+/* Whether work goes beside the fine pass: at least two cores and a BLAS
+ * safe for concurrent factorisations (then the static field of linear
+ * materials does).  *with_estimate: the estimate too, in a case of one
+ * speed (a sweep of two or more keeps every core busy by itself; the
+ * adaptive sweep adds speeds) with room in the memory limit for the coarse
+ * factorisations beside the fine one (a half more: the 2h grid has a
+ * quarter of the unknowns). */
+static int side_eligible(const app_report *r, const app_run_opts *o, double limit,
+                         int *with_estimate)
+{
+    *with_estimate = 0;
+    if (core_budget(o) < 2 || !sol_concurrency_safe())
+        return 0;
+    mesh_estimate est;
+    if (!r->c->mesh.no_error_estimate && r->c->speed_mode != MESH_SPEEDS_AUTO && r->npoint == 1 &&
+        mesh_grid_estimate(r->c, limit, &est, NULL) == EDDY_OK)
+        *with_estimate = !(limit > 0) || 1.5 * est.memory_bytes <= limit;
+    return 1;
+}
+
 /* One fine pass: the grid of the case (at its current mesh.refine) into
  * r->g, the system, the static field and the sweep with every output; with
  * adapt, the adaptive sweep adds speeds.  Opens the output folder (*lock)
- * on the first call. */
+ * on the first call.  With side (may be NULL) the error estimate, and for
+ * linear materials the static field, run beside on a thread of their own
+ * (joined by the caller with side_join). */
 static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit, int adapt,
-                             int *lock, eddy_error *err)
+                             int *lock, side_work *side, eddy_error *err)
 {
     double t0 = eddy_now();
     mesh_grid_free(r->g);
@@ -585,10 +741,17 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
     double *a = NULL;
     size_t nn = (size_t)r->g->nx * (size_t)r->g->ny;
     sol_info info = {0};
-    s = grid_system(r->g, limit, pick_ordering(r), 0, &sys, &a, &info, err);
+    s = grid_system(r->g, limit, pick_ordering(r), 0, side == NULL, &sys, &a, &info, err);
     if (sys != NULL) {
         r->unknowns = sol_unknowns(sys);
         r->static_cholesky = sol_uses_cholesky(sys);
+    }
+    int beside = 0; /* 1: the static field runs on the side thread */
+    if (s == EDDY_OK && side != NULL) {
+        /* the static field beside the LU analysis where it needs none */
+        int chol = !sol_is_nonlinear(sys) && sol_uses_cholesky(sys);
+        beside = chol && side_start(side, sys, a);
+        s = sol_analyse(sys, &info, err);
     }
     r->t_analyse += info.t_analyse;
     r->ordering = info.ordering;
@@ -598,16 +761,30 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
     sweep sw = {.r = r, .o = o, .sys = sys, .g = r->g, .f = r->f, .info = r->info,
                 .outputs = 1, .factor_bytes = r->factor_bytes, .status = EDDY_OK};
     double t_static = eddy_now();
-    if (s == EDDY_OK) {
+    if (beside) { /* always waited for: it uses sys */
+        eddy_error e2 = {0};
+        eddy_status s2 = side_wait_static(side, &sw.slope, &e2);
+        if (s == EDDY_OK && s2 != EDDY_OK) {
+            s = s2;
+            if (err != NULL)
+                *err = e2;
+        }
+    } else if (s == EDDY_OK) {
         s = static_field(r, sys, r->g, o, a, &sw.slope, err);
         if (sol_is_nonlinear(sys))
             sw.a_static = a; /* the sweep's starting point */
         else if (s == EDDY_OK && o->reference)
             s = unit_mu_magnets_offset(r, sys, a, sw.slope, err);
     }
-    r->t_static += eddy_now() - t_static;
+    if (!beside)
+        r->t_static += eddy_now() - t_static;
     if (s == EDDY_OK)
         r->damping = sw.slope; /* the damping coefficient, N s/m^2 */
+    if (s == EDDY_OK && side != NULL && !beside && side->with_estimate)
+        side_start(side, NULL, NULL); /* the estimate alone beside the sweep (if the
+                                        * thread does not start, it runs after) */
+    if (side != NULL && !side->launched)
+        r->blas_cap = 0; /* nothing beside the sweep uses the BLAS */
     if (s == EDDY_OK)
         s = run_sweep(&sw, 0, nn, err);
     /* adaptive sweep: add speeds where the curve is not yet resolved */
@@ -704,20 +881,48 @@ eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_repo
     int lock = -1;
     int base_refine = r->c->mesh.refine > 1 ? r->c->mesh.refine : 1;
     r->tol_refine = base_refine;
-    s = fine_pass(r, o, limit, 1, &lock, err);
+    post_forces *fc = NULL; /* the coarse results: 2h, then 4h */
+    /* the static field beside the fine LU analysis, and with one speed the
+     * estimate beside its factorisation (the number of speeds is then fixed:
+     * fc can be allocated before the sweep) */
+    side_work side = {.r = r, .o = o, .limit = limit};
+    int use_side = side_eligible(r, o, limit, &side.with_estimate);
+    if (use_side) {
+        pthread_mutex_init(&side.lock, NULL);
+        pthread_cond_init(&side.cond, NULL);
+        if (side.with_estimate) {
+            fc = calloc(2 * (size_t)r->npoint, sizeof *fc);
+            side.fc = fc;
+            side.with_estimate = fc != NULL; /* else it runs after, as it can */
+        }
+    }
+    if (s == EDDY_OK)
+        s = fine_pass(r, o, limit, 1, &lock, use_side ? &side : NULL, err);
+    if (use_side) {
+        eddy_error e2 = {0};
+        eddy_status s2 = side_join(&side, &e2);
+        r->blas_cap = 0;
+        pthread_mutex_destroy(&side.lock);
+        pthread_cond_destroy(&side.cond);
+        if (s == EDDY_OK && s2 != EDDY_OK) {
+            s = s2;
+            if (err != NULL)
+                *err = e2;
+        }
+    }
     if (s == EDDY_OK)
         s = app_out_renumber(r, err);
-    post_forces *fc = NULL;
     if (s == EDDY_OK && !r->c->mesh.no_error_estimate) {
-        fc = calloc(2 * (size_t)r->npoint, sizeof *fc); /* 2h, then 4h */
-        s = fc == NULL ? EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory")
-                       : coarse_pass(r, o, limit, 1, fc, err);
-        if (s == EDDY_OK)
-            s = coarse_pass(r, o, limit, 2, fc + r->npoint, err);
+        if (use_side && side.launched) {
+            r->overlapped = 1; /* done beside the fine pass */
+        } else {
+            free(fc);
+            fc = calloc(2 * (size_t)r->npoint, sizeof *fc);
+            s = fc == NULL ? EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory")
+                           : estimate_passes(r, o, limit, fc, err);
+        }
         for (int k = 0; s == EDDY_OK && k < r->npoint; k++)
             post_richardson(&r->f[k], &fc[k], &fc[r->npoint + k]);
-        if (s == EDDY_OK)
-            s = box_truncation(r, o, limit, err);
         r->estimated = s == EDDY_OK;
         r->tol_rounds = 1;
     }
@@ -749,7 +954,7 @@ eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_repo
             /* the old 2h results become the 4h ones, the old fine ones the 2h */
             memcpy(fc + r->npoint, fc, (size_t)r->npoint * sizeof *fc);
             memcpy(fc, r->f, (size_t)r->npoint * sizeof *fc);
-            s = fine_pass(r, o, limit, 0, &lock, err);
+            s = fine_pass(r, o, limit, 0, &lock, NULL, err);
             for (int k = 0; s == EDDY_OK && k < r->npoint; k++)
                 post_richardson(&r->f[k], &fc[k], &fc[r->npoint + k]);
             if (s == EDDY_OK) {

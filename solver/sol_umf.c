@@ -363,7 +363,9 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
     if (!isfinite(v))
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "speed must be finite");
     int chol = v == 0.0 && sol_uses_cholesky(s) && s->chol_symbolic != NULL;
-    if (s->symbolic == NULL && !chol)
+    /* the Cholesky path reads none of the LU's fields: the LU may be being
+     * analysed on another thread meanwhile (app/app_run.c, side work) */
+    if (!chol && s->symbolic == NULL)
         return EDDY_RAISE(err, EDDY_ERR_INTERNAL, "sol_solve_work before sol_analyse");
     double t0 = eddy_now();
     sol_assemble(s, w, v, s->g->nu);
@@ -371,8 +373,14 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
     eddy_status st = chol ? sol_chol_factor_solve(s, w, w->rhs, w->sol, info, &t_fac, &t_sol, err)
                           : sol_umf_factor_solve(s, w, w->rhs, w->sol, "numeric factorisation",
                                                  "solve", info, &t_fac, &t_sol, err);
-    sol_fill_info(s, info, t_asm, t_fac, t_sol);
-    if (info != NULL && chol) {
+    if (!chol) {
+        sol_fill_info(s, info, t_asm, t_fac, t_sol);
+    } else if (info != NULL) {
+        info->n = s->n;
+        info->nnz = s->Ap[s->n];
+        info->t_assemble = t_asm;
+        info->t_factor = t_fac;
+        info->t_solve = t_sol;
         info->ordering = sol_ordering_name(SOL_ORDER_GRID_ND);
         info->t_analyse = s->t_chol_analyse;
         info->est_peak_bytes = s->chol_bytes;

@@ -26,11 +26,13 @@ static const char *case_text =
 
 static char dir[256];
 
-static app_report *run(int threads, double max_memory, eddy_status *s, eddy_error *err)
+static app_report *run_case(const char *name, int threads, double max_memory, eddy_status *s,
+                            eddy_error *err)
 {
     char casefile[300], out[300];
-    snprintf(casefile, sizeof casefile, "%s/case.json", dir);
-    snprintf(out, sizeof out, "%s/out_%d_%g", dir, threads, max_memory);
+    snprintf(casefile, sizeof casefile, "%s/%s.json", dir, name);
+    snprintf(out, sizeof out, "%s/out_%s%d_%g", dir, strcmp(name, "case") ? name : "", threads,
+             max_memory);
     app_run_opts o;
     app_run_opts_defaults(&o);
     o.outdir = out;
@@ -40,6 +42,11 @@ static app_report *run(int threads, double max_memory, eddy_status *s, eddy_erro
     app_report *r = NULL;
     *s = app_run_solve(casefile, &o, &r, err);
     return r;
+}
+
+static app_report *run(int threads, double max_memory, eddy_status *s, eddy_error *err)
+{
+    return run_case("case", threads, max_memory, s, err);
 }
 
 static void test_threads(void)
@@ -66,6 +73,39 @@ static void test_threads(void)
               "two threads give the same numbers as one (to roundoff)",
               "%d points, %d threads, largest relative difference %.2g", r1->npoint,
               r2->threads, worst);
+    }
+    app_report_free(r1);
+    app_report_free(r2);
+}
+
+/* One speed: on two cores the static field runs beside the LU analysis and
+ * the error estimate (coarse grids, box truncation) beside the factorisation
+ * (app_run.c, side work).  The numbers must be those of the same run on one
+ * thread, where everything runs in sequence. */
+static void test_beside(void)
+{
+    eddy_error e1 = {0}, e2 = {0};
+    eddy_status s1, s2;
+    app_report *r1 = run_case("one", 1, 0, &s1, &e1), *r2 = run_case("one", 2, 0, &s2, &e2);
+    check(s1 == EDDY_OK && s2 == EDDY_OK, "one speed on one and on two threads", "%s %s", e1.msg,
+          e2.msg);
+    if (s1 == EDDY_OK && s2 == EDDY_OK) {
+        const post_forces *a = &r1->f[0], *b = &r2->f[0];
+        double v1[] = {a->drag, a->force_y, a->loss, a->drag_error, a->force_y_error,
+                       r1->damping, r1->box_truncation, (double)r1->coarse_unknowns};
+        double v2[] = {b->drag, b->force_y, b->loss, b->drag_error, b->force_y_error,
+                       r2->damping, r2->box_truncation, (double)r2->coarse_unknowns};
+        double worst = 0.0;
+        for (int k = 0; k < 8; k++)
+            worst = fmax(worst, fabs(v1[k] - v2[k]) / fmax(fabs(v1[k]), 1e-300));
+        int want = sol_concurrency_safe();
+        check(r1->overlapped == 0 && r2->overlapped == want && r2->estimated &&
+                  r1->box_truncation > 0 && worst < 1e-12,
+              "one speed: the static field and the estimate beside the speed give the numbers "
+              "of the run in sequence",
+              "beside %d (want %d), in sequence %d; box truncation %.4g; largest relative "
+              "difference of forces, estimates, damping, box, coarse unknowns %.2g",
+              r2->overlapped, want, r1->overlapped, r1->box_truncation, worst);
     }
     app_report_free(r1);
     app_report_free(r2);
@@ -199,7 +239,14 @@ int main(void)
     snprintf(casefile, sizeof casefile, "%s/case.json", dir);
     if (pipe_write_case(casefile, case_text) != 0)
         return 1;
+    /* the same case at one speed */
+    char one[1024], *sp = strstr(case_text, "\"speeds\"");
+    snprintf(one, sizeof one, "%.*s\"speeds\":[10]}", (int)(sp - case_text), case_text);
+    snprintf(casefile, sizeof casefile, "%s/one.json", dir);
+    if (pipe_write_case(casefile, one) != 0)
+        return 1;
     test_threads();
+    test_beside();
     check_solver_block(1);
     check_solver_block(2);
     test_memory_guard();
