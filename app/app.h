@@ -64,6 +64,8 @@ typedef struct {
     double box_truncation;      /* relative change of the damping coefficient when the zero
                                  * sides are made open (0: none zero), added to every
                                  * point's estimate times its value */
+    const char *box_grid;       /* the grid box_truncation came from: "h" (the case's),
+                                 * "2h" (negligible there), NULL (not computed) */
     /* mesh.tolerance: the refinement loop */
     int tol_refine;             /* the refine factor of the final grid (1 without it) */
     int tol_rounds;             /* grids solved */

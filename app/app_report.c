@@ -97,6 +97,8 @@ static void add_error_estimate(cJSON *root, const app_report *r)
                                     "by the outer zero sides (draw the box large)"));
     J(cJSON_AddNumberToObject(e, "coarse_unknowns", (double)r->coarse_unknowns));
     add_num(e, "box_truncation_relative", r->box_truncation);
+    if (r->box_grid != NULL) /* "h", or "2h" where the box is negligible there */
+        J(cJSON_AddStringToObject(e, "box_truncation_grid", r->box_grid));
     add_num(e, "seconds", r->t_estimate);
     if (r->c->mesh.tolerance > 0) {
         cJSON *t = J(cJSON_AddObjectToObject(root, "tolerance"));

@@ -143,12 +143,11 @@ static eddy_status add_reference(app_report *r, int fill_forces, eddy_error *err
  * measured on the grid itself: the low-speed drag of the static field with
  * every magnet cell at mu_r = 1, over the real one (r->ref_mu1_offset; the
  * same symbolic analysis, one more numeric factorisation), only when the
- * reference fits the case approximately.  a is overwritten
- * and restored to the real static field. */
-static eddy_status unit_mu_magnets_offset(app_report *r, sol_system *sys, double *a,
-                                          double slope, eddy_error *err)
+ * reference fits the case approximately.  The grid is only read. */
+static eddy_status unit_mu_magnets_offset(app_report *r, const sol_system *sys, double slope,
+                                          eddy_error *err)
 {
-    mesh_grid *g = r->g;
+    const mesh_grid *g = r->g;
     size_t nc = (size_t)g->ncx * (size_t)g->ncy;
     double nu0 = 1.0 / EDDY_MU0;
     r->ref_mu1_offset = NAN;
@@ -169,21 +168,30 @@ static eddy_status unit_mu_magnets_offset(app_report *r, sol_system *sys, double
         nmag += (g->brx[k] != 0.0 || g->bry[k] != 0.0) && g->nu[k] != nu0;
     if (nmag == 0 || !(slope > 0))
         return EDDY_OK;
+    /* the magnets at mu_r = 1 in a copy of the reluctivities and a field and
+     * workspace of its own: the grid and the static field a stay as they
+     * are (the speed may be assembled from them meanwhile on another
+     * thread: side work) */
     double *nu = malloc(nc * sizeof *nu);
-    if (nu == NULL)
-        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-    memcpy(nu, g->nu, nc * sizeof *nu);
-    for (size_t k = 0; k < nc; k++)
-        if (g->brx[k] != 0.0 || g->bry[k] != 0.0)
-            g->nu[k] = nu0;
-    eddy_status s = sol_solve(sys, 0.0, a, NULL, err);
-    double slope1 = s == EDDY_OK ? post_damping_coefficient(g, a, NULL) : NAN;
-    memcpy(g->nu, nu, nc * sizeof *nu);
+    double *a1 = malloc((size_t)g->nx * (size_t)g->ny * sizeof *a1);
+    sol_work *w = NULL;
+    eddy_status s = nu == NULL || a1 == NULL ? EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory")
+                                             : sol_work_alloc(sys, &w, err);
+    if (s == EDDY_OK) {
+        memcpy(nu, g->nu, nc * sizeof *nu);
+        for (size_t k = 0; k < nc; k++)
+            if (g->brx[k] != 0.0 || g->bry[k] != 0.0)
+                nu[k] = nu0;
+        s = sol_solve_work_nu(sys, w, 0.0, nu, a1, NULL, err);
+    }
+    if (s == EDDY_OK) {
+        mesh_grid g1 = *g; /* the grid with those reluctivities, read only */
+        g1.nu = nu;
+        r->ref_mu1_offset = post_damping_coefficient(&g1, a1, NULL) / slope - 1.0;
+    }
+    sol_work_free(w);
+    free(a1);
     free(nu);
-    if (s == EDDY_OK)
-        s = sol_solve(sys, 0.0, a, NULL, err); /* the real static field again */
-    if (s == EDDY_OK)
-        r->ref_mu1_offset = slope1 / slope - 1.0;
     return s;
 }
 
@@ -238,6 +246,9 @@ static eddy_status prepare(const char *case_path, const app_run_opts **o,
 }
 
 
+typedef struct side_work side_work;
+static eddy_status side_wait_static(side_work *sd, double *slope, eddy_error *err);
+
 /* The speed sweep, shared by the worker threads. */
 typedef struct {
     app_report *r;
@@ -249,6 +260,8 @@ typedef struct {
     int outputs;         /* 1: pictures, fields, profiles and progress of each point */
     double factor_bytes; /* one numeric factorisation of sys */
     double slope;
+    side_work *await;    /* non-NULL: the static field runs beside; wait for it (its
+                          * slope) before the first forces */
     const double *a_static; /* saturable materials: the static field, each worker's
                              * first starting point (NULL for a linear case) */
     pthread_mutex_t lock;
@@ -305,7 +318,16 @@ static void *sweep_worker(void *arg)
         if (s != EDDY_OK)
             continue;
         double tp = eddy_now();
-        s = post_forces_compute(&gsol, a, v, sw->slope, &sw->f[k], &err);
+        pthread_mutex_lock(&sw->lock);
+        if (sw->await != NULL) { /* the factorisation ran while the static field did */
+            s = side_wait_static(sw->await, &sw->slope, &err);
+            sw->await = NULL;
+        }
+        double slope = sw->slope;
+        pthread_mutex_unlock(&sw->lock);
+        if (s != EDDY_OK)
+            continue;
+        s = post_forces_compute(&gsol, a, v, slope, &sw->f[k], &err);
         if (s == EDDY_OK && sw->outputs && (sw->o->images || sw->o->vtk || r->c->nprofile > 0))
             s = app_out_fields(r, &gsol, sw->o, k, a, pf, &err);
         sw->info[k] = (app_point_info){info.t_assemble, info.t_factor, info.t_solve,
@@ -500,9 +522,10 @@ static eddy_status static_field(app_report *r, sol_system *sys, const mesh_grid 
 
 /* The coarse pass of the error estimate: the coarse grid of the family
  * (mesh_grid_build_coarse) solved at every speed of the report, without
- * outputs, into fc (npoint entries). */
+ * outputs, into fc (npoint entries); the damping coefficient of its static
+ * field into *slope (N s/m^2; may be NULL). */
 static eddy_status coarse_pass(app_report *r, const app_run_opts *o, double limit, int level,
-                               post_forces *fc, eddy_error *err)
+                               post_forces *fc, double *slope, eddy_error *err)
 {
     double t0 = eddy_now();
     mesh_grid *gc = NULL;
@@ -523,6 +546,8 @@ static eddy_status coarse_pass(app_report *r, const app_run_opts *o, double limi
         sw.factor_bytes = sol_factor_bytes(sc);
         s = static_field(r, sc, gc, o, ac, &sw.slope, err);
         sw.a_static = sol_is_nonlinear(sc) ? ac : NULL;
+        if (slope != NULL)
+            *slope = sw.slope;
     }
     if (s == EDDY_OK)
         s = run_sweep(&sw, 0, nn, err);
@@ -534,48 +559,86 @@ static eddy_status coarse_pass(app_report *r, const app_run_opts *o, double limi
     return s;
 }
 
-/* The box-truncation estimate of a case with zero (A = 0) sides: the
- * damping coefficient of the static field with those sides open (a layer
- * mapped to infinity) against the one with them zero (r->damping),
- * relative.  The inside is the fine grid, so that the grid's own error
- * cancels in the ratio (on the 2h grid the estimate of tests/test_estimate.c's
- * zero box is 4.53 % against 3.47 % on the fine grid, where the box changes
- * the drag by 3.8 %; measured 2026-12-04).  The layers keep the cells of an
- * unrefined grid (48): under mesh.refine r they would have 48 r, the
- * costliest solve of a run (1.93M unknowns beside the grid's 1.06M in make
- * bench's largest case, refine 13: 9.7 of the estimate's 13.7 s), for an
- * estimate that moves by 3e-4 of itself (that zero box at refine 2: 2.9754 %
- * against 2.9764 %, refine 4: 2.7372 % against 2.7388 %, in 1/4 and 1/5 of
- * the time; measured 2026-12-04).  It is a
- * low-speed proxy of how much the box changes every force.  0 when no side
- * is zero or the geometry has no open sides. */
-static eddy_status box_truncation(app_report *r, const app_run_opts *o, double limit,
+/* The damping coefficient of the static field of case c with its zero sides
+ * open (a layer of layer_cells mapped to infinity beyond each), on the grid
+ * of the family at level (0: the case's grid) into *slope. */
+static eddy_status open_box_slope(app_report *r, const app_run_opts *o, double limit,
+                                  const mesh_case *c, int level, double *slope,
                                   eddy_error *err)
 {
-    const mesh_case *c = r->c;
-    r->box_truncation = 0.0;
-    if (c->geometry != MESH_PLANAR || ((c->x_open || c->x_periodic) && c->y_open) ||
-        !(r->damping > 0))
-        return EDDY_OK;
-    double t0 = eddy_now();
     mesh_case co = *c; /* a shallow copy: the grid builder only reads it */
     co.x_open = !c->x_periodic;
     co.y_open = 1;
     co.mesh.layer_cells = 48; /* an unrefined grid's layer (mesh/mesh_grid.c MAP_CELLS) */
     mesh_grid *g = NULL;
     sol_system *sys = NULL;
-    double *a = NULL, slope = NAN;
-    eddy_status s = mesh_grid_build(&co, limit, &g, NULL, err);
+    double *a = NULL;
+    *slope = NAN;
+    eddy_status s = level == 0 ? mesh_grid_build(&co, limit, &g, NULL, err)
+                               : mesh_grid_build_coarse(&co, level, limit, &g, err);
     sol_info info = {0};
     if (s == EDDY_OK) /* the static field only */
         s = grid_system(g, limit, SOL_ORDER_GRID_ND, 1, 1, &sys, &a, &info, err);
     if (s == EDDY_OK)
-        s = static_field(r, sys, g, o, a, &slope, err);
-    if (s == EDDY_OK && slope > 0)
-        r->box_truncation = fabs(r->damping / slope - 1.0);
+        s = static_field(r, sys, g, o, a, slope, err);
     free(a);
     sol_system_free(sys);
     mesh_grid_free(g);
+    return s;
+}
+
+/* Below this relative change of the damping coefficient on the 2h grid, the
+ * box estimate is taken from there (a change of 1e-4 of every value is a
+ * twentieth of a mesh.tolerance of 0.002, the README's example; on the 2h
+ * grid the estimate came out 1.3 times the fine grid's where it is 3.5 %). */
+#define APP_BOX_NEGLIGIBLE 1e-4
+
+/* The box-truncation estimate of a case with zero (A = 0) sides: the
+ * damping coefficient of the static field with those sides open (a layer
+ * mapped to infinity) against the one with them zero, relative.  First on
+ * the 2h grid against its own zero box (zero_slope1, N s/m^2, from the
+ * coarse pass): a change below APP_BOX_NEGLIGIBLE (or a twentieth of
+ * mesh.tolerance) is the estimate.  Otherwise on the fine grid against
+ * r->damping, so that the grid's own error cancels in the ratio (on the 2h
+ * grid the estimate of tests/test_estimate.c's zero box is 4.53 % against
+ * 3.47 % on the fine grid, where the box changes the drag by 3.8 %; measured
+ * 2026-12-04).  The layers keep the cells of an unrefined grid (48): under
+ * mesh.refine r they would have 48 r, the costliest solve of a run (1.93M
+ * unknowns beside the grid's 1.06M in make bench's largest case, refine 13:
+ * 9.7 of the estimate's 13.7 s), for an estimate that moves by 3e-4 of
+ * itself (that zero box at refine 2: 2.9754 % against 2.9764 %, refine 4:
+ * 2.7372 % against 2.7388 %, in 1/4 and 1/5 of the time; measured
+ * 2026-12-04).  It is a low-speed proxy of how much the box changes every
+ * force.  0 when no side is zero or the geometry has no open sides. */
+static eddy_status box_truncation(app_report *r, const app_run_opts *o, double limit,
+                                  double zero_slope1, eddy_error *err)
+{
+    const mesh_case *c = r->c;
+    r->box_truncation = 0.0;
+    r->box_grid = NULL;
+    if (c->geometry != MESH_PLANAR || ((c->x_open || c->x_periodic) && c->y_open) ||
+        !(r->damping > 0))
+        return EDDY_OK;
+    double t0 = eddy_now(), slope = NAN;
+    double negligible = APP_BOX_NEGLIGIBLE;
+    if (c->mesh.tolerance > 0 && 0.05 * c->mesh.tolerance < negligible)
+        negligible = 0.05 * c->mesh.tolerance;
+    eddy_status s = EDDY_OK;
+    if (zero_slope1 > 0) {
+        s = open_box_slope(r, o, limit, c, 1, &slope, err);
+        if (s == EDDY_OK && slope > 0 && fabs(zero_slope1 / slope - 1.0) < negligible) {
+            r->box_truncation = fabs(zero_slope1 / slope - 1.0);
+            r->box_grid = "2h";
+            r->t_estimate += eddy_now() - t0;
+            return EDDY_OK;
+        }
+    }
+    if (s == EDDY_OK)
+        s = open_box_slope(r, o, limit, c, 0, &slope, err);
+    if (s == EDDY_OK && slope > 0) {
+        r->box_truncation = fabs(r->damping / slope - 1.0);
+        r->box_grid = "h";
+    }
     r->t_estimate += eddy_now() - t0;
     return s;
 }
@@ -586,11 +649,12 @@ static eddy_status box_truncation(app_report *r, const app_run_opts *o, double l
 static eddy_status estimate_passes(app_report *r, const app_run_opts *o, double limit,
                                    post_forces *fc, eddy_error *err)
 {
-    eddy_status s = coarse_pass(r, o, limit, 1, fc, err);
+    double slope1 = NAN; /* the 2h grid's damping coefficient, for the box */
+    eddy_status s = coarse_pass(r, o, limit, 1, fc, &slope1, err);
     if (s == EDDY_OK)
-        s = coarse_pass(r, o, limit, 2, fc + r->npoint, err);
+        s = coarse_pass(r, o, limit, 2, fc + r->npoint, NULL, err);
     if (s == EDDY_OK)
-        s = box_truncation(r, o, limit, err);
+        s = box_truncation(r, o, limit, slope1, err);
     return s;
 }
 
@@ -602,7 +666,7 @@ static eddy_status estimate_passes(app_report *r, const app_run_opts *o, double 
  * shallow copy of the report (its own timers, counts and box estimate),
  * read back by side_join; the static part writes only the static field, the
  * damping coefficient and ref_mu1_offset of the real report. */
-typedef struct {
+struct side_work {
     app_report *r;
     app_report shadow;       /* the estimate's report (a shallow copy of *r) */
     const app_run_opts *o;
@@ -617,10 +681,11 @@ typedef struct {
     eddy_status static_status, est_status;
     eddy_error static_err, est_err;
     int static_done, started, launched; /* launched: the estimate was started */
+    int waited;              /* side_wait_static has taken the static part */
     pthread_mutex_t lock;
     pthread_cond_t cond;
     pthread_t tid;
-} side_work;
+};
 
 static void *side_main(void *arg)
 {
@@ -630,7 +695,7 @@ static void *side_main(void *arg)
         app_report *r = sd->r;
         eddy_status s = static_field(r, sd->sys, r->g, sd->o, sd->a, &sd->slope, &sd->static_err);
         if (s == EDDY_OK && sd->o->reference)
-            s = unit_mu_magnets_offset(r, sd->sys, sd->a, sd->slope, &sd->static_err);
+            s = unit_mu_magnets_offset(r, sd->sys, sd->slope, &sd->static_err);
         sd->t_static = eddy_now() - t0;
         pthread_mutex_lock(&sd->lock);
         sd->static_status = s;
@@ -674,9 +739,12 @@ static eddy_status side_wait_static(side_work *sd, double *slope, eddy_error *er
     pthread_mutex_lock(&sd->lock);
     while (!sd->static_done)
         pthread_cond_wait(&sd->cond, &sd->lock);
+    int first = !sd->waited;
+    sd->waited = 1;
     pthread_mutex_unlock(&sd->lock);
     *slope = sd->slope;
-    sd->r->t_static += sd->t_static;
+    if (first)
+        sd->r->t_static += sd->t_static;
     if (sd->static_status != EDDY_OK && err != NULL)
         *err = sd->static_err;
     return sd->static_status;
@@ -694,6 +762,7 @@ static eddy_status side_join(side_work *sd, eddy_error *err)
     r->coarse_unknowns = sd->shadow.coarse_unknowns;
     r->t_estimate = sd->shadow.t_estimate;
     r->box_truncation = sd->shadow.box_truncation;
+    r->box_grid = sd->shadow.box_grid;
     if (sd->shadow.threads > r->threads)
         r->threads = sd->shadow.threads;
     if (sd->est_status != EDDY_OK && err != NULL)
@@ -761,7 +830,11 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
     sweep sw = {.r = r, .o = o, .sys = sys, .g = r->g, .f = r->f, .info = r->info,
                 .outputs = 1, .factor_bytes = r->factor_bytes, .status = EDDY_OK};
     double t_static = eddy_now();
-    if (beside) { /* always waited for: it uses sys */
+    /* one speed: its factorisation runs while the static field does, and
+     * waits for it only before the forces (sweep.await); a sweep of more
+     * speeds waits here (its workers take every core) */
+    int overlap = beside && side->with_estimate;
+    if (beside && !overlap) { /* always waited for: it uses sys */
         eddy_error e2 = {0};
         eddy_status s2 = side_wait_static(side, &sw.slope, &e2);
         if (s == EDDY_OK && s2 != EDDY_OK) {
@@ -769,17 +842,19 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
             if (err != NULL)
                 *err = e2;
         }
-    } else if (s == EDDY_OK) {
+    } else if (!beside && s == EDDY_OK) {
         s = static_field(r, sys, r->g, o, a, &sw.slope, err);
         if (sol_is_nonlinear(sys))
             sw.a_static = a; /* the sweep's starting point */
         else if (s == EDDY_OK && o->reference)
-            s = unit_mu_magnets_offset(r, sys, a, sw.slope, err);
+            s = unit_mu_magnets_offset(r, sys, sw.slope, err);
     }
     if (!beside)
         r->t_static += eddy_now() - t_static;
-    if (s == EDDY_OK)
+    if (s == EDDY_OK && !overlap)
         r->damping = sw.slope; /* the damping coefficient, N s/m^2 */
+    if (overlap)
+        sw.await = side;
     if (s == EDDY_OK && side != NULL && !beside && side->with_estimate)
         side_start(side, NULL, NULL); /* the estimate alone beside the sweep (if the
                                         * thread does not start, it runs after) */
@@ -787,6 +862,20 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
         r->blas_cap = 0; /* nothing beside the sweep uses the BLAS */
     if (s == EDDY_OK)
         s = run_sweep(&sw, 0, nn, err);
+    if (overlap) {
+        if (sw.await != NULL) { /* the sweep stopped before its forces: the static
+                                 * part still uses sys */
+            eddy_error e2 = {0};
+            eddy_status s2 = side_wait_static(side, &sw.slope, &e2);
+            if (s == EDDY_OK && s2 != EDDY_OK) {
+                s = s2;
+                if (err != NULL)
+                    *err = e2;
+            }
+        }
+        if (s == EDDY_OK)
+            r->damping = sw.slope;
+    }
     /* adaptive sweep: add speeds where the curve is not yet resolved */
     while (adapt && s == EDDY_OK && r->c->speed_mode == MESH_SPEEDS_AUTO &&
            r->npoint < r->c->max_points && r->adapt_rounds < 12) {

@@ -231,6 +231,17 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
                            sol_info *info, eddy_error *err);
 
 /*
+ * As sol_solve_work, with the cell reluctivities nu (ncx*ncy, m/H;
+ * caller-owned, read only) in place of the grid's: a what-if solve of a
+ * linear system that leaves the shared grid alone (for example magnets at
+ * mu_r = 1 while another thread assembles the real system).  The pattern is
+ * the system's, so nu may change values, not which cells are saturable.
+ * Returns as sol_solve_work.
+ */
+eddy_status sol_solve_work_nu(const sol_system *s, sol_work *w, double v, const double *nu,
+                              double *a, sol_info *info, eddy_error *err);
+
+/*
  * Write the system matrix and right-hand side of s at speed v (m/s) in
  * Matrix Market format (coordinate real general; array real general), so
  * the solve can be checked with another library.  Uses a temporary

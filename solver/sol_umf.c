@@ -360,6 +360,12 @@ void sol_fill_info(const sol_system *s, sol_info *info, double t_asm, double t_f
 eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a,
                            sol_info *info, eddy_error *err)
 {
+    return sol_solve_work_nu(s, w, v, s->g->nu, a, info, err);
+}
+
+eddy_status sol_solve_work_nu(const sol_system *s, sol_work *w, double v, const double *nu,
+                              double *a, sol_info *info, eddy_error *err)
+{
     if (!isfinite(v))
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "speed must be finite");
     int chol = v == 0.0 && sol_uses_cholesky(s) && s->chol_symbolic != NULL;
@@ -368,7 +374,7 @@ eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a
     if (!chol && s->symbolic == NULL)
         return EDDY_RAISE(err, EDDY_ERR_INTERNAL, "sol_solve_work before sol_analyse");
     double t0 = eddy_now();
-    sol_assemble(s, w, v, s->g->nu);
+    sol_assemble(s, w, v, nu);
     double t_asm = eddy_now() - t0, t_fac = 0.0, t_sol = 0.0;
     eddy_status st = chol ? sol_chol_factor_solve(s, w, w->rhs, w->sol, info, &t_fac, &t_sol, err)
                           : sol_umf_factor_solve(s, w, w->rhs, w->sol, "numeric factorisation",
