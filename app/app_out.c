@@ -148,6 +148,75 @@ void app_view_window(const mesh_case *c, int full, double view[4])
     view[3] = fmin(y1, c->y1);
 }
 
+eddy_status app_out_maps(const mesh_case *c, const mesh_grid *g, const char *dir,
+                         const char *stem, const double *a, const double *jz,
+                         const double *bmag, int moving_only, double shift_x, double v,
+                         const char *when, int full_domain, eddy_error *err)
+{
+    size_t nc = (size_t)g->ncx * (size_t)g->ncy;
+    unsigned char *mask = malloc(nc);
+    double *boxes = malloc((size_t)(c->nreg > 0 ? c->nreg : 1) * 4 * sizeof *boxes);
+    if (mask == NULL || boxes == NULL) {
+        free(mask);
+        free(boxes);
+        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
+    }
+    for (size_t q = 0; q < nc; q++)
+        mask[q] = (!moving_only || g->moving[q]) && g->sigma[q] > 0.0;
+    int nb = 0;
+    for (int q = 0; q < c->nreg; q++) {
+        const mesh_region *rg = &c->regions[q];
+        if (rg->material < 0 && rg->jz == 0.0)
+            continue;
+        memcpy(&boxes[4 * nb], rg->box, 4 * sizeof *boxes);
+        if (rg->moving) { /* where it is now */
+            boxes[4 * nb] += shift_x;
+            boxes[4 * nb + 2] += shift_x;
+        }
+        nb++;
+    }
+    post_map_opts mo;
+    post_map_opts_defaults(&mo);
+    char title[320], path[4400];
+    mo.title = title;
+    mo.length_unit = c->length_unit;
+    mo.length_scale = 1.0 / c->length_scale;
+    app_view_window(c, full_domain, mo.view);
+    int rz = c->geometry == MESH_AXISYMMETRIC;
+    if (rz) { /* z horizontal, r up; a holds psi = r A_phi, whose contours are
+               * the field lines */
+        mo.x_name = "z";
+        mo.y_name = "r";
+    }
+    mo.n_flux_lines = 24;
+    mo.outlines = boxes;
+    mo.n_outlines = nb;
+    mo.case_name = c->name;
+    mo.speed = v;
+    mo.version = EDDY_VERSION;
+    /* induced current density, diverging map symmetric about zero */
+    snprintf(title, sizeof title, "%s: induced current density %s", c->name, when);
+    mo.quantity = rz ? "J_phi" : "J_z";
+    mo.unit_label = "MA/m^2";
+    mo.value_scale = 1e-6;
+    mo.diverging = 1;
+    snprintf(path, sizeof path, "%s/jz_%s.png", dir, stem);
+    eddy_status s = post_map_png(path, g->nx, g->ny, g->x, g->y, jz, mask, a, &mo, err);
+    /* flux density magnitude, sequential map */
+    if (s == EDDY_OK) {
+        snprintf(title, sizeof title, "%s: flux density %s", c->name, when);
+        mo.quantity = "|B|";
+        mo.unit_label = "T";
+        mo.value_scale = 1.0;
+        mo.diverging = 0;
+        snprintf(path, sizeof path, "%s/b_%s.png", dir, stem);
+        s = post_map_png(path, g->nx, g->ny, g->x, g->y, bmag, NULL, a, &mo, err);
+    }
+    free(mask);
+    free(boxes);
+    return s;
+}
+
 /* g: the report's grid, or its copy with the converged reluctivities of a
  * saturable case. */
 eddy_status app_out_fields(app_report *r, const mesh_grid *g, const app_run_opts *o, int k,
@@ -161,61 +230,10 @@ eddy_status app_out_fields(app_report *r, const mesh_grid *g, const app_run_opts
     char path[4400], stem[64];
     snprintf(stem, sizeof stem, "%02d_%.6gmps", k, v);
     if (o->images) {
-        size_t nc = (size_t)g->ncx * (size_t)g->ncy;
-        unsigned char *mask = malloc(nc);
-        double *boxes = malloc((size_t)(c->nreg > 0 ? c->nreg : 1) * 4 * sizeof *boxes);
-        if (mask == NULL || boxes == NULL) {
-            free(mask);
-            free(boxes);
-            return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-        }
-        for (size_t q = 0; q < nc; q++)
-            mask[q] = g->moving[q] && g->sigma[q] > 0.0;
-        int nb = 0;
-        for (int q = 0; q < c->nreg; q++) {
-            if (c->regions[q].material < 0 && c->regions[q].jz == 0.0)
-                continue;
-            memcpy(&boxes[4 * nb++], c->regions[q].box, 4 * sizeof *boxes);
-        }
-        post_map_opts mo;
-        post_map_opts_defaults(&mo);
-        char title[200];
-        mo.title = title;
-        mo.length_unit = c->length_unit;
-        mo.length_scale = 1.0 / c->length_scale;
-        app_view_window(c, o->full_domain, mo.view);
-        int rz = c->geometry == MESH_AXISYMMETRIC;
-        if (rz) { /* z horizontal, r up; a holds psi = r A_phi, whose contours
-                   * are the field lines */
-            mo.x_name = "z";
-            mo.y_name = "r";
-        }
-        mo.n_flux_lines = 24;
-        mo.outlines = boxes;
-        mo.n_outlines = nb;
-        mo.case_name = c->name;
-        mo.speed = v;
-        mo.version = EDDY_VERSION;
-        /* induced current density, diverging map symmetric about zero */
-        snprintf(title, sizeof title, "%s: induced current density at %.4g m/s", c->name, v);
-        mo.quantity = rz ? "J_phi" : "J_z";
-        mo.unit_label = "MA/m^2";
-        mo.value_scale = 1e-6;
-        mo.diverging = 1;
-        snprintf(path, sizeof path, "%s/jz_%s.png", r->outdir, stem);
-        s = post_map_png(path, g->nx, g->ny, g->x, g->y, pf->jz, mask, a, &mo, err);
-        /* flux density magnitude, sequential map */
-        if (s == EDDY_OK) {
-            snprintf(title, sizeof title, "%s: flux density at %.4g m/s", c->name, v);
-            mo.quantity = "|B|";
-            mo.unit_label = "T";
-            mo.value_scale = 1.0;
-            mo.diverging = 0;
-            snprintf(path, sizeof path, "%s/b_%s.png", r->outdir, stem);
-            s = post_map_png(path, g->nx, g->ny, g->x, g->y, pf->bmag, NULL, a, &mo, err);
-        }
-        free(mask);
-        free(boxes);
+        char when[64];
+        snprintf(when, sizeof when, "at %.4g m/s", v);
+        s = app_out_maps(c, g, r->outdir, stem, a, pf->jz, pf->bmag, 1, 0.0, v, when,
+                         o->full_domain, err);
         if (s != EDDY_OK)
             return s;
     }

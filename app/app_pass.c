@@ -6,6 +6,7 @@
  * |B| pictures during the pass, the "pass" object of result.json).
  */
 #include "app/app.h"
+#include "app/app_out.h"
 
 #include <cjson/cJSON.h>
 #include <math.h>
@@ -136,64 +137,12 @@ static eddy_status pass_pictures(const mesh_case *c, const app_pass_opts *o,
     eddy_status s = post_fields_compute(gv, a, 0.0, pf, err);
     if (s != EDDY_OK)
         return s;
-    size_t nc = (size_t)gv->ncx * (size_t)gv->ncy;
-    unsigned char *mask = malloc(nc);
-    double *boxes = malloc((size_t)(c->nreg > 0 ? c->nreg : 1) * 4 * sizeof *boxes);
-    if (mask == NULL || boxes == NULL) {
-        free(mask);
-        free(boxes);
-        return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory");
-    }
-    for (size_t q = 0; q < nc; q++)
-        mask[q] = gv->sigma[q] > 0.0;
-    int nb = 0;
-    for (int q = 0; q < c->nreg; q++) {
-        const mesh_region *rg = &c->regions[q];
-        if (rg->material < 0 && rg->jz == 0.0)
-            continue;
-        memcpy(&boxes[4 * nb], rg->box, 4 * sizeof *boxes);
-        if (rg->moving) { /* where it is now */
-            boxes[4 * nb] += x;
-            boxes[4 * nb + 2] += x;
-        }
-        nb++;
-    }
-    post_map_opts mo;
-    post_map_opts_defaults(&mo);
-    char title[256], path[4400], stem[96];
+    char stem[96], when[160];
     double xu = x / c->length_scale;
     snprintf(stem, sizeof stem, "pass_%03d_%.6g%s", index, xu, c->length_unit);
-    mo.title = title;
-    mo.length_unit = c->length_unit;
-    mo.length_scale = 1.0 / c->length_scale;
-    app_view_window(c, o->full_domain, mo.view);
-    mo.n_flux_lines = 24;
-    mo.outlines = boxes;
-    mo.n_outlines = nb;
-    mo.case_name = c->name;
-    mo.speed = v;
-    mo.version = EDDY_VERSION;
-    snprintf(title, sizeof title, "%s: induced current density after %.4g %s at %.4g m/s",
-             c->name, xu, c->length_unit, v);
-    mo.quantity = "J_z";
-    mo.unit_label = "MA/m^2";
-    mo.value_scale = 1e-6;
-    mo.diverging = 1;
-    snprintf(path, sizeof path, "%s/jz_%s.png", o->outdir, stem);
-    s = post_map_png(path, gv->nx, gv->ny, gv->x, gv->y, jz, mask, a, &mo, err);
-    if (s == EDDY_OK) {
-        snprintf(title, sizeof title, "%s: flux density after %.4g %s at %.4g m/s", c->name, xu,
-                 c->length_unit, v);
-        mo.quantity = "|B|";
-        mo.unit_label = "T";
-        mo.value_scale = 1.0;
-        mo.diverging = 0;
-        snprintf(path, sizeof path, "%s/b_%s.png", o->outdir, stem);
-        s = post_map_png(path, gv->nx, gv->ny, gv->x, gv->y, pf->bmag, NULL, a, &mo, err);
-    }
-    free(mask);
-    free(boxes);
-    return s;
+    snprintf(when, sizeof when, "after %.4g %s at %.4g m/s", xu, c->length_unit, v);
+    return app_out_maps(c, gv, o->outdir, stem, a, jz, pf->bmag, 0, x, v, when, o->full_domain,
+                        err);
 }
 
 /* Everything a pass allocates, freed in one place. */
