@@ -141,6 +141,16 @@ eddy_status sol_umf_numeric(const sol_system *s, sol_work *w, void **numeric, co
                             sol_info *info, double *t_factor, eddy_error *err);
 
 /*
+ * The solve A x = b (b, x: s->n entries; x may not alias b) with the factors
+ * numeric of w->Ax: one solve, and one step of iterative refinement where
+ * the normwise backward error exceeds SOL_BACKWARD_TOL (sol_umf.c).  Uses
+ * w->W and w->Wi.  what names the step in messages.
+ * Returns EDDY_OK or the status of sol_umf_status.
+ */
+eddy_status sol_umf_solve(const sol_system *s, sol_work *w, void *numeric, const double *b,
+                          double *x, const char *what, eddy_error *err);
+
+/*
  * Numeric factorisation of the matrix w->Ax (s analysed) and the solve
  * A x = b (b, x: s->n entries; x may not alias b), freeing the factors.
  *   what_factor, what_solve: the steps' names in messages.

@@ -248,10 +248,8 @@ eddy_status sol_stepper_advance_frame(sol_stepper *t, double dt, int order,
             memcpy(t->ax_last, w->Ax, (size_t)nnz * sizeof *w->Ax);
     }
     if (st == EDDY_OK) {
-        double t2 = eddy_now(), uinfo[UMFPACK_INFO];
-        long ust = umfpack_dl_wsolve(UMFPACK_A, s->Ap, s->Ai, w->Ax, w->sol, t->b, t->numeric,
-                                     s->control, uinfo, w->Wi, w->W);
-        st = sol_umf_status(ust, "solve of a time step", err);
+        double t2 = eddy_now();
+        st = sol_umf_solve(s, w, t->numeric, t->b, w->sol, "solve of a time step", err);
         t_sol = eddy_now() - t2;
     }
     sol_fill_info(s, info, t_asm, t_fac, t_sol);
