@@ -670,9 +670,10 @@ static eddy_status estimate_passes(app_report *r, const app_run_opts *o, double 
 
 /* Work beside the fine pass on a core that would idle (measured in make
  * bench, README "Speed"): the static field of linear materials (Cholesky,
- * which needs no LU analysis, runs while UMFPACK analyses; the fine pass
- * waits for it before the speeds) and, in a one-speed case, the error
- * estimate while the single factorisation runs.  The estimate works on a
+ * which needs no LU analysis, runs while UMFPACK analyses; a sweep of two
+ * or more speeds waits for it before its speeds, a single speed only before
+ * its forces) and, in a one-speed case, the error estimate while the single
+ * factorisation runs.  The estimate works on a
  * shallow copy of the report (its own timers, counts and box estimate),
  * read back by side_join; the static part writes only the static field, the
  * damping coefficient and ref_mu1_offset of the real report. */
@@ -784,9 +785,10 @@ static eddy_status side_join(side_work *sd, eddy_error *err)
  * safe for concurrent factorisations (then the static field of linear
  * materials does).  *with_estimate: the estimate too, in a case of one
  * speed (a sweep of two or more keeps every core busy by itself; the
- * adaptive sweep adds speeds) with room in the memory limit for the coarse
- * factorisations beside the fine one (a half more: the 2h grid has a
- * quarter of the unknowns). */
+ * adaptive sweep adds speeds) with room in the memory limit for the
+ * Cholesky factor and the coarse factorisations beside the fine LU: a half
+ * more than one solve's estimate (make bench, 1.06M unknowns: 2344 MiB
+ * peak beside an estimate of 2575 MiB for one solve). */
 static int side_eligible(const app_report *r, const app_run_opts *o, double limit,
                          int *with_estimate)
 {
