@@ -247,7 +247,8 @@ static eddy_status prepare(const char *case_path, const app_run_opts **o,
 
 
 typedef struct side_work side_work;
-static eddy_status side_wait_static(side_work *sd, double *slope, eddy_error *err);
+static eddy_status side_wait_static(side_work *sd, double *slope, eddy_status s,
+                                    eddy_error *err);
 
 /* The speed sweep, shared by the worker threads. */
 typedef struct {
@@ -320,7 +321,7 @@ static void *sweep_worker(void *arg)
         double tp = eddy_now();
         pthread_mutex_lock(&sw->lock);
         if (sw->await != NULL) { /* the factorisation ran while the static field did */
-            s = side_wait_static(sw->await, &sw->slope, &err);
+            s = side_wait_static(sw->await, &sw->slope, s, &err);
             sw->await = NULL;
         }
         double slope = sw->slope;
@@ -743,9 +744,11 @@ static int side_start(side_work *sd, sol_system *sys, double *a)
     return sd->started;
 }
 
-/* Wait for the static part of the side work: its status (its error into
- * *err), the damping coefficient into *slope. */
-static eddy_status side_wait_static(side_work *sd, double *slope, eddy_error *err)
+/* Wait for the static part of the side work, the damping coefficient into
+ * *slope.  Returns s, or where s is EDDY_OK the static part's status (its
+ * error into *err): the first error wins. */
+static eddy_status side_wait_static(side_work *sd, double *slope, eddy_status s,
+                                    eddy_error *err)
 {
     pthread_mutex_lock(&sd->lock);
     while (!sd->static_done)
@@ -756,17 +759,20 @@ static eddy_status side_wait_static(side_work *sd, double *slope, eddy_error *er
     *slope = sd->slope;
     if (first)
         sd->r->t_static += sd->t_static;
-    if (sd->static_status != EDDY_OK && err != NULL)
+    if (s != EDDY_OK || sd->static_status == EDDY_OK)
+        return s;
+    if (err != NULL)
         *err = sd->static_err;
     return sd->static_status;
 }
 
 /* Wait for the side work to end and take the estimate's results into the
- * report.  Returns the estimate's status (its error into *err). */
-static eddy_status side_join(side_work *sd, eddy_error *err)
+ * report.  Returns s, or where s is EDDY_OK the estimate's status (its error
+ * into *err). */
+static eddy_status side_join(side_work *sd, eddy_status s, eddy_error *err)
 {
     if (!sd->started)
-        return EDDY_OK;
+        return s;
     pthread_join(sd->tid, NULL);
     sd->started = 0;
     app_report *r = sd->r;
@@ -776,7 +782,9 @@ static eddy_status side_join(side_work *sd, eddy_error *err)
     r->box_grid = sd->shadow.box_grid;
     if (sd->shadow.threads > r->threads)
         r->threads = sd->shadow.threads;
-    if (sd->est_status != EDDY_OK && err != NULL)
+    if (s != EDDY_OK || sd->est_status == EDDY_OK)
+        return s;
+    if (err != NULL)
         *err = sd->est_err;
     return sd->est_status;
 }
@@ -847,13 +855,7 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
      * speeds waits here (its workers take every core) */
     int overlap = beside && side->with_estimate;
     if (beside && !overlap) { /* always waited for: it uses sys */
-        eddy_error e2 = {0};
-        eddy_status s2 = side_wait_static(side, &sw.slope, &e2);
-        if (s == EDDY_OK && s2 != EDDY_OK) {
-            s = s2;
-            if (err != NULL)
-                *err = e2;
-        }
+        s = side_wait_static(side, &sw.slope, s, err);
     } else if (!beside && s == EDDY_OK) {
         s = static_field(r, sys, r->g, o, a, &sw.slope, err);
         if (sol_is_nonlinear(sys))
@@ -874,20 +876,11 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
         r->blas_cap = 0; /* nothing beside the sweep uses the BLAS */
     if (s == EDDY_OK)
         s = run_sweep(&sw, 0, nn, err);
-    if (overlap) {
-        if (sw.await != NULL) { /* the sweep stopped before its forces: the static
-                                 * part still uses sys */
-            eddy_error e2 = {0};
-            eddy_status s2 = side_wait_static(side, &sw.slope, &e2);
-            if (s == EDDY_OK && s2 != EDDY_OK) {
-                s = s2;
-                if (err != NULL)
-                    *err = e2;
-            }
-        }
-        if (s == EDDY_OK)
-            r->damping = sw.slope;
-    }
+    if (sw.await != NULL) /* the sweep stopped before its forces: the static part
+                           * still uses sys */
+        s = side_wait_static(side, &sw.slope, s, err);
+    if (overlap && s == EDDY_OK)
+        r->damping = sw.slope;
     /* adaptive sweep: add speeds where the curve is not yet resolved */
     while (adapt && s == EDDY_OK && r->c->speed_mode == MESH_SPEEDS_AUTO &&
            r->npoint < r->c->max_points && r->adapt_rounds < 12) {
@@ -1000,16 +993,10 @@ eddy_status app_run_solve(const char *case_path, const app_run_opts *o, app_repo
     if (s == EDDY_OK)
         s = fine_pass(r, o, limit, 1, &lock, use_side ? &side : NULL, err);
     if (use_side) {
-        eddy_error e2 = {0};
-        eddy_status s2 = side_join(&side, &e2);
+        s = side_join(&side, s, err);
         r->blas_cap = 0;
         pthread_mutex_destroy(&side.lock);
         pthread_cond_destroy(&side.cond);
-        if (s == EDDY_OK && s2 != EDDY_OK) {
-            s = s2;
-            if (err != NULL)
-                *err = e2;
-        }
     }
     if (s == EDDY_OK)
         s = app_out_renumber(r, err);

@@ -183,9 +183,11 @@ eddy_status sol_chol_factor_solve(const sol_system *s, sol_work *w, const double
 void sol_chol_free(sol_system *s);
 
 /* The statistics of one numeric factorisation and solve of s into info
- * (may be NULL): sizes, the analysis time of s, the given assembly, factor
- * and solve times (s), the memory estimate and the ordering's name. */
-void sol_fill_info(const sol_system *s, sol_info *info, double t_asm, double t_fac, double t_sol);
+ * (may be NULL): sizes, the analysis time, memory estimate and ordering of
+ * the factorisation that ran (chol: the static field's Cholesky, else the
+ * LU), the given assembly, factor and solve times (s). */
+void sol_fill_info(const sol_system *s, sol_info *info, int chol, double t_asm, double t_fac,
+                   double t_sol);
 
 /* The node values a (nx*ny) from the unknowns x (s->n): 0 on the fixed
  * nodes.  Returns EDDY_OK, or EDDY_ERR_NUMERIC for a non-finite value. */

@@ -252,7 +252,7 @@ eddy_status sol_stepper_advance_frame(sol_stepper *t, double dt, int order,
         st = sol_umf_solve(s, w, t->numeric, t->b, w->sol, "solve of a time step", err);
         t_sol = eddy_now() - t2;
     }
-    sol_fill_info(s, info, t_asm, t_fac, t_sol);
+    sol_fill_info(s, info, 0, t_asm, t_fac, t_sol);
     if (st == EDDY_OK)
         st = sol_scatter_solution(s, w->sol, a, err);
     if (st != EDDY_OK)

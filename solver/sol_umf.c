@@ -387,19 +387,22 @@ eddy_status sol_scatter_solution(const sol_system *s, const double *x, double *a
     return EDDY_OK;
 }
 
-void sol_fill_info(const sol_system *s, sol_info *info, double t_asm, double t_fac, double t_sol)
+void sol_fill_info(const sol_system *s, sol_info *info, int chol, double t_asm, double t_fac,
+                   double t_sol)
 {
     if (info == NULL)
         return;
     info->n = s->n;
     info->nnz = s->Ap[s->n];
-    info->t_analyse = s->t_analyse;
+    /* the Cholesky path reads none of the LU's fields: the LU may be being
+     * analysed on another thread meanwhile (app/app_run.c, side work) */
+    info->t_analyse = chol ? s->t_chol_analyse : s->t_analyse;
     info->t_assemble = t_asm;
     info->t_factor = t_fac;
     info->t_solve = t_sol;
-    info->est_peak_bytes = s->est_peak_bytes;
-    info->ordering = sol_ordering_name(s->ordering);
-    info->cholesky = 0;
+    info->est_peak_bytes = chol ? s->chol_bytes : s->est_peak_bytes;
+    info->ordering = sol_ordering_name(chol ? SOL_ORDER_GRID_ND : s->ordering);
+    info->cholesky = chol;
 }
 
 eddy_status sol_solve_work(const sol_system *s, sol_work *w, double v, double *a,
@@ -414,9 +417,7 @@ eddy_status sol_solve_work_nu(const sol_system *s, sol_work *w, double v, const 
     if (!isfinite(v))
         return EDDY_RAISE(err, EDDY_ERR_INPUT, "speed must be finite");
     int chol = v == 0.0 && sol_uses_cholesky(s) && s->chol_symbolic != NULL;
-    /* the Cholesky path reads none of the LU's fields: the LU may be being
-     * analysed on another thread meanwhile (app/app_run.c, side work) */
-    if (!chol && s->symbolic == NULL)
+    if (!chol && s->symbolic == NULL) /* (the Cholesky path reads no LU field) */
         return EDDY_RAISE(err, EDDY_ERR_INTERNAL, "sol_solve_work before sol_analyse");
     double t0 = eddy_now();
     sol_assemble(s, w, v, nu);
@@ -424,19 +425,7 @@ eddy_status sol_solve_work_nu(const sol_system *s, sol_work *w, double v, const 
     eddy_status st = chol ? sol_chol_factor_solve(s, w, w->rhs, w->sol, info, &t_fac, &t_sol, err)
                           : sol_umf_factor_solve(s, w, w->rhs, w->sol, "numeric factorisation",
                                                  "solve", info, &t_fac, &t_sol, err);
-    if (!chol) {
-        sol_fill_info(s, info, t_asm, t_fac, t_sol);
-    } else if (info != NULL) {
-        info->n = s->n;
-        info->nnz = s->Ap[s->n];
-        info->t_assemble = t_asm;
-        info->t_factor = t_fac;
-        info->t_solve = t_sol;
-        info->ordering = sol_ordering_name(SOL_ORDER_GRID_ND);
-        info->t_analyse = s->t_chol_analyse;
-        info->est_peak_bytes = s->chol_bytes;
-        info->cholesky = 1;
-    }
+    sol_fill_info(s, info, chol, t_asm, t_fac, t_sol);
     if (st != EDDY_OK)
         return st;
     return sol_scatter_solution(s, w->sol, a, err);
