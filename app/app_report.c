@@ -63,10 +63,22 @@ static void json_push(cJSON *a, cJSON *item)
 /* Add a number, or null where it is not finite. */
 static void add_num(cJSON *o, const char *key, double v)
 {
-    if (isfinite(v))
-        J(cJSON_AddNumberToObject(o, key, v == 0.0 ? 0.0 : v)); /* never "-0" */
-    else
+    if (!isfinite(v)) {
         J(cJSON_AddNullToObject(o, key));
+        return;
+    }
+    /* the shortest of 15, 16 or 17 significant digits that reads back as v
+     * exactly (cJSON 1.7.15 keeps 15 digits whenever they read back within
+     * DBL_EPSILON of the value, one unit of roundoff off) */
+    char text[32];
+    if (v == 0.0)
+        v = 0.0; /* never "-0" */
+    for (int digits = 15; digits <= 17; digits++) {
+        snprintf(text, sizeof text, "%.*g", digits, v);
+        if (strtod(text, NULL) == v)
+            break;
+    }
+    J(cJSON_AddRawToObject(o, key, text));
 }
 
 /* result.json "error_estimate" and, with mesh.tolerance, "tolerance". */

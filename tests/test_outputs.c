@@ -6,7 +6,6 @@
  * the numbers must agree exactly).
  */
 #include <cJSON.h>
-#include <float.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -252,16 +251,6 @@ static double json_num(const cJSON *o, const char *key)
  * it and forces.png marks it (text chunks read back exactly), or none of
  * the three has a peak.  want_interpolated: 1 or 0 as the sweep should
  * give, -1 no peak at all (a reference-only run). */
-
-/* The same number to within the last bit: cJSON (1.7.15, print_number)
- * writes 15 significant digits whenever they read back within DBL_EPSILON of
- * the value, so a number in result.json may be one unit of roundoff from the
- * report's. */
-static int same_number(double a, double b)
-{
-    return fabs(a - b) <= 2.0 * DBL_EPSILON * fmax(fabs(a), fabs(b));
-}
-
 static void check_one_peak(const char *what, const app_report *r, const char *outdir,
                            int want_interpolated)
 {
@@ -298,7 +287,7 @@ static void check_one_peak(const char *what, const app_report *r, const char *ou
     double jv = json_num(pk, "speed"), jf = json_num(pk, "drag_force");
     snprintf(name, sizeof name, "%s: result.json reports the report's peak", what);
     if (has)
-        check(pk != NULL && same_number(jv, r->peak_speed) && same_number(jf, r->peak_drag), name,
+        check(pk != NULL && jv == r->peak_speed && jf == r->peak_drag, name,
               "%.17g m/s %.17g N/m", jv, jf);
     else
         check(root != NULL && pk == NULL, name, "no \"peak\" in %s", path);
@@ -314,9 +303,7 @@ static void check_one_peak(const char *what, const app_report *r, const char *ou
     const char *tf = text_of(&im, "eddy2d:peak_drag_N_per_m");
     snprintf(name, sizeof name, "%s: forces.png marks result.json's peak", what);
     if (has)
-        check(tv != NULL && tf != NULL && same_number(strtod(tv, NULL), jv) &&
-                  same_number(strtod(tf, NULL), jf),
-              name,
+        check(tv != NULL && tf != NULL && strtod(tv, NULL) == jv && strtod(tf, NULL) == jf, name,
               "plot %s m/s %s N/m, result.json %.17g m/s %.17g N/m", tv ? tv : "(none)",
               tf ? tf : "(none)", jv, jf);
     else
