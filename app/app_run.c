@@ -458,23 +458,6 @@ static eddy_status grow_points(app_report *r, const double *add, int na, eddy_er
     return EDDY_OK;
 }
 
-/* The ordering for a system factorised nfact times (make bench, README):
- * METIS gives the least fill and the fastest numeric factorisations but the
- * slowest analysis; the grid's own nested dissection analyses fastest.
- * METIS pays off from about four factorisations (the static field and three
- * speeds) on.  It is also the only ordering within 1.2 of SuperLU's least
- * fill at every size (make bench, 2026-12-03: METIS 1.11 / 0.70 / 1.05 at
- * 56k / 0.23M / 1.06M unknowns, grid-nd 1.69 / 1.01 / 1.54, AMD 1.23 /
- * 1.14 / 1.24), but METIS through UMFPACK leaks CHOLMOD workspace when an
- * allocation fails inside it (tests/test_batch_alloc.c under LeakSanitizer),
- * so one- and two-speed cases keep the grid's ordering until METIS's
- * permutation is computed here and given to UMFPACK (issue 16, left). */
-static sol_ordering pick_ordering(const app_report *r)
-{
-    return r->npoint >= 3 || r->c->speed_mode == MESH_SPEEDS_AUTO ? SOL_ORDER_METIS
-                                                                   : SOL_ORDER_GRID_ND;
-}
-
 /* The system of grid g (the run's memory limit and the given ordering), a
  * field buffer of nx*ny into *a, and (analyse) its symbolic analysis into
  * *info: the LU's, or with static_only the static field's alone (Cholesky
@@ -540,7 +523,7 @@ static eddy_status coarse_pass(app_report *r, const app_run_opts *o, double limi
                                : mesh_grid_build_coarse(r->c, level, limit, &gc, err);
     sol_info info = {0};
     if (s == EDDY_OK)
-        s = grid_system(gc, limit, pick_ordering(r), 0, 1, &sc, &ac, &info, err);
+        s = grid_system(gc, limit, SOL_ORDER_DEFAULT, 0, 1, &sc, &ac, &info, err);
     size_t nn = gc != NULL ? (size_t)gc->nx * (size_t)gc->ny : 0;
     if (sc != NULL)
         r->coarse_unknowns += sol_unknowns(sc);
@@ -830,7 +813,7 @@ static eddy_status fine_pass(app_report *r, const app_run_opts *o, double limit,
     double *a = NULL;
     size_t nn = (size_t)r->g->nx * (size_t)r->g->ny;
     sol_info info = {0};
-    s = grid_system(r->g, limit, pick_ordering(r), 0, side == NULL, &sys, &a, &info, err);
+    s = grid_system(r->g, limit, SOL_ORDER_DEFAULT, 0, side == NULL, &sys, &a, &info, err);
     if (sys != NULL) {
         r->unknowns = sol_unknowns(sys);
         r->static_cholesky = sol_uses_cholesky(sys);

@@ -96,7 +96,12 @@ eddy_status sol_analyse_static(sol_system *s, sol_info *info, eddy_error *err)
             cholmod_l_finish(&cc);
             return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the ordering");
         }
-        sol_grid_nd_order(s, perm);
+        eddy_status ost = sol_grid_nd_order(s, perm, err);
+        if (ost != EDDY_OK) {
+            free(perm);
+            cholmod_l_finish(&cc);
+            return ost;
+        }
         cholmod_factor *l = cholmod_l_analyze_p(&a, perm, NULL, 0, &cc);
         free(perm);
         eddy_status st = l == NULL ? chol_status(&cc, "Cholesky analysis", err) : EDDY_OK;

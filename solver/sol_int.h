@@ -116,9 +116,11 @@ void sol_mass(const sol_system *s, const double *sigma_cells, double *mass);
 /* Pattern (sol_pattern.c) and UMFPACK (sol_umf.c)                           */
 /* ------------------------------------------------------------------------ */
 
-/* The geometric nested-dissection order of the unknowns into perm[s->n]
- * (perm[k] = the unknown eliminated k-th). */
-void sol_grid_nd_order(const sol_system *s, long *perm);
+/* The grid's nested-dissection order of the unknowns (along the grid's
+ * diagonals, sol_pattern.c) into perm[s->n] (perm[k] = the unknown
+ * eliminated k-th).  Returns EDDY_OK, or EDDY_ERR_NOMEM for its scratch
+ * (about 9 bytes per unknown); perm is then undefined. */
+eddy_status sol_grid_nd_order(const sol_system *s, long *perm, eddy_error *err);
 
 /* The UMFPACK control parameters of a new system into s->control (after
  * s->n is set). */

@@ -198,7 +198,11 @@ static eddy_status symbolic(sol_system *s, double *uinfo, long *st, eddy_error *
         long *perm = malloc((size_t)s->n * sizeof *perm);
         if (perm == NULL)
             return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the ordering");
-        sol_grid_nd_order(s, perm);
+        eddy_status es = sol_grid_nd_order(s, perm, err);
+        if (es != EDDY_OK) {
+            free(perm);
+            return es;
+        }
         s->control[UMFPACK_ORDERING] = UMFPACK_ORDERING_GIVEN;
         *st = umfpack_dl_qsymbolic(s->n, s->n, s->Ap, s->Ai, NULL, perm, &s->symbolic,
                                    s->control, uinfo);
