@@ -395,8 +395,9 @@ eddy_status mesh_grid_build(const mesh_case *c, double memory_limit, mesh_grid *
  * A coarser grid of the same family as mesh_grid_build's: every other grid
  * line of it (level 1: every interval between region edges has an even
  * number of cells, so every region edge stays a line), or every other line
- * of that again where an interval's count is still even (level 2), and 1/2
- * or 1/4 of the cells in each open side's layer over the same map.
+ * of that again (level 2; an interval whose count is odd there, under an
+ * odd mesh.refine, merges its cells in pairs but one near its middle), and
+ * 1/2 or 1/4 of the cells in each open side's layer over the same map.
  * Their results against the grid's give the error estimate of each point
  * (post_richardson).  Arguments and returns as mesh_grid_build (no estimate);
  * EDDY_ERR_INPUT for another level.
