@@ -324,9 +324,103 @@ static void test_rz_case(void)
     mesh_case_free(c);
 }
 
+/* Is v a node of x[0..n-1] (to 1e-9 of the span)? */
+static int has_node(const double *x, int n, double v)
+{
+    double tol = 1e-9 * (x[n - 1] - x[0]);
+    for (int i = 0; i < n; i++)
+        if (fabs(x[i] - v) <= tol)
+            return 1;
+    return 0;
+}
+
+/* One axis of the coarse family: every node of the coarser axis c is a node
+ * of the finer f, every breakpoint bp is kept, and between two breakpoints
+ * the coarser axis has ceil(cells / 2) cells of the finer's.  Returns the
+ * number of intervals that break one of these; *cells_f, *cells_c count the
+ * cells inside the breakpoints. */
+static int check_coarsening(const double *f, int nf, const double *c, int nc, const double *bp,
+                            int nbp, int *cells_f, int *cells_c)
+{
+    int bad = 0;
+    *cells_f = *cells_c = 0;
+    for (int i = 0; i < nc; i++)
+        bad += !has_node(f, nf, c[i]);
+    for (int k = 0; k + 1 < nbp; k++) {
+        if (!has_node(c, nc, bp[k]) || !has_node(c, nc, bp[k + 1])) {
+            bad++;
+            continue;
+        }
+        int a = 0, b = 0;
+        for (int i = 0; i + 1 < nf; i++)
+            a += f[i] >= bp[k] - 1e-12 && f[i + 1] <= bp[k + 1] + 1e-12;
+        for (int i = 0; i + 1 < nc; i++)
+            b += c[i] >= bp[k] - 1e-12 && c[i + 1] <= bp[k + 1] + 1e-12;
+        bad += b != (a + 1) / 2;
+        *cells_f += a;
+        *cells_c += b;
+    }
+    return bad;
+}
+
+/* mesh_grid_build_coarse: level 1 keeps every other line and level 2 every
+ * other line of that, region edges always kept; under an odd mesh.refine the
+ * intervals of level 1 may have odd counts, which level 2 must still halve
+ * (ceil(c / 2) cells; it kept them whole before, so that at refine 13 the 4h
+ * grid had 0.83 of the 2h grid's unknowns).  The property the Richardson
+ * estimate assumes (post_richardson): each level doubles the cell size. */
+static void test_coarse_family(void)
+{
+    for (int refine = 1; refine <= 3; refine += 2) {
+        char json[1024];
+        snprintf(json, sizeof json,
+                 "{\"name\":\"c\",\"length_unit\":\"mm\"," DOM ",\"regions\":[" PLATE "," MAG
+                 "],\"speeds\":[5],\"mesh\":{\"refine\":%d}}",
+                 refine);
+        mesh_case *c = NULL;
+        mesh_grid *g[3] = {NULL, NULL, NULL};
+        eddy_error err = {0};
+        eddy_status s = mesh_case_parse(json, "coarse", &c, &err);
+        if (s == EDDY_OK)
+            s = mesh_grid_build(c, 0.0, &g[0], NULL, &err);
+        for (int l = 1; l <= 2 && s == EDDY_OK; l++)
+            s = mesh_grid_build_coarse(c, l, 0.0, &g[l], &err);
+        char name[200];
+        snprintf(name, sizeof name, "coarse family at mesh.refine %d: the grids build", refine);
+        check(s == EDDY_OK, name, "%s", err.msg);
+        if (s == EDDY_OK) {
+            /* breakpoints: the domain's sides and the regions' edges, mm */
+            double bx[] = {0, 2, 8, 10}, by[] = {-5, -2, 0, 1, 2, 5};
+            for (int k = 0; k < 4; k++)
+                bx[k] *= 1e-3;
+            for (int k = 0; k < 6; k++)
+                by[k] *= 1e-3;
+            int bad = 0, fx = 0, cx = 0, fy = 0, cy = 0;
+            double ratio[2];
+            for (int l = 1; l <= 2; l++) {
+                bad += check_coarsening(g[l - 1]->x, g[l - 1]->nx, g[l]->x, g[l]->nx, bx, 4, &fx,
+                                        &cx);
+                bad += check_coarsening(g[l - 1]->y, g[l - 1]->ny, g[l]->y, g[l]->ny, by, 6, &fy,
+                                        &cy);
+                ratio[l - 1] = (double)(cx * cy) / (double)(fx * fy);
+            }
+            snprintf(name, sizeof name,
+                     "coarse family at mesh.refine %d: each level halves every interval's cells "
+                     "(ceil), keeps the region edges, nests in the finer grid",
+                     refine);
+            check(bad == 0 && ratio[0] <= 0.3 && ratio[1] <= 0.3, name,
+                  "%d intervals wrong; cells 2h/h %.3f, 4h/2h %.3f", bad, ratio[0], ratio[1]);
+        }
+        for (int l = 0; l < 3; l++)
+            mesh_grid_free(g[l]);
+        mesh_case_free(c);
+    }
+}
+
 int main(void)
 {
     test_good_case();
+    test_coarse_family();
     test_rz_case();
     test_bad_inputs();
     return check_summary();
