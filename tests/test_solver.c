@@ -334,15 +334,23 @@ static const char *open_case =
     "{\"material\":\"ndfeb_42\",\"box\":[-10,0,10,8],\"magnetization_angle\":90}],"
     "\"speeds\":[5]}";
 
+/* pipe_open, or a failed check named after label; returns 0 on success. */
+static int open_or_fail(pipe_run *p, const char *label, const char *json)
+{
+    if (pipe_open(p, json) == 0)
+        return 0;
+    char name[300];
+    snprintf(name, sizeof name, "%s: pipeline", label);
+    check(0, name, "failed");
+    return -1;
+}
+
 static void test_static_cholesky(const char *label, const char *json)
 {
     pipe_run p;
     char name[200];
-    if (pipe_open(&p, json) != 0) {
-        snprintf(name, sizeof name, "%s: pipeline", label);
-        check(0, name, "failed");
+    if (open_or_fail(&p, label, json) != 0)
         return;
-    }
     const char *mtx = "test_solver_static.mtx", *rhs = "test_solver_static_rhs.mtx";
     eddy_status st = sol_export(p.sys, 0.0, mtx, rhs, NULL);
     long n = 0, nz = 0, asym = 0, bad_sign = 0;
@@ -434,11 +442,8 @@ static void test_grid_ordering(const char *label, const char *json, double v)
 {
     pipe_run p;
     char name[300];
-    if (pipe_open(&p, json) != 0) {
-        snprintf(name, sizeof name, "%s: ordering pipeline", label);
-        check(0, name, "failed");
+    if (open_or_fail(&p, label, json) != 0)
         return;
-    }
     const sol_ordering ords[3] = {SOL_ORDER_AMD, SOL_ORDER_METIS, SOL_ORDER_GRID_ND};
     double lu[3] = {0, 0, 0}, drag[3] = {0, 0, 0};
     int ok = 1;
