@@ -497,7 +497,17 @@ static eddy_status static_field(app_report *r, sol_system *sys, const mesh_grid 
             s = sol_solve_newton(sys, w0, 0.0, a, 0, NULL, o->max_newton, NULL, &info, err);
         sol_work_free(w0);
     } else {
-        s = sol_solve(sys, 0.0, a, &info, err);
+        /* a workspace of its own, freed at once: the system's (sol_solve)
+         * would stay alive beside the speeds' workspaces and LU (110 MB at
+         * 1.06M unknowns) */
+        s = sol_uses_cholesky(sys) ? sol_analyse_static(sys, &info, err)
+                                   : sol_analyse(sys, &info, err);
+        sol_work *w0 = NULL;
+        if (s == EDDY_OK)
+            s = sol_work_alloc(sys, &w0, err);
+        if (s == EDDY_OK)
+            s = sol_solve_work(sys, w0, 0.0, a, &info, err);
+        sol_work_free(w0);
     }
     if (s == EDDY_OK)
         *slope = post_damping_coefficient(g, a, NULL);

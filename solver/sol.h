@@ -73,8 +73,10 @@ typedef struct {
 
 /*
  * Build the unknown numbering and the fixed CSC sparsity pattern for a grid,
- * with the interpolants of its B-H curves, and the system's own workspace
- * (for sol_solve).  The ordering is SOL_ORDER_DEFAULT, without memory limit.
+ * with the interpolants of its B-H curves (the system's own workspace, for
+ * sol_solve, comes with the first sol_solve: a program that solves with its
+ * own workspaces never holds it).  The ordering is SOL_ORDER_DEFAULT,
+ * without memory limit.
  *   g:   the grid; borrowed, must outlive the system.
  *   out: receives the system, owned by the caller (free with
  *        sol_system_free); NULL on error.
@@ -216,8 +218,9 @@ eddy_status sol_analyse_static(sol_system *s, sol_info *info, eddy_error *err);
  *   info: optional statistics (NULL).
  * At v = 0 with sol_uses_cholesky(s), by Cholesky (sol_analyse_static; the
  * LU analysis is then not made), else by LU (sol_analyse).
- * Not thread-safe on one system (it uses the system's own workspace; see
- * sol_work_alloc and sol_solve_work for concurrent speeds).
+ * Not thread-safe on one system (it uses the system's own workspace,
+ * allocated on the first call; see sol_work_alloc and sol_solve_work for
+ * concurrent speeds).
  * Returns EDDY_OK, EDDY_ERR_INPUT (a non-finite speed), EDDY_ERR_NOMEM,
  * EDDY_ERR_SINGULAR, EDDY_ERR_SOLVER, EDDY_ERR_NUMERIC (non-finite values in
  * the solution), and the errors of sol_analyse.

@@ -276,8 +276,7 @@ eddy_status sol_system_alloc(const mesh_grid *g, sol_system **out, eddy_error *e
     if (st == EDDY_OK) {
         sol_umf_defaults(s);
         s->ordering = SOL_ORDER_DEFAULT;
-        s->cholesky = 1;
-        st = sol_work_alloc(s, &s->work, err);
+        s->cholesky = 1; /* s->work: allocated by the first sol_solve */
     }
     if (st != EDDY_OK) {
         sol_system_free(s);

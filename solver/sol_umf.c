@@ -441,6 +441,11 @@ eddy_status sol_solve(sol_system *s, double v, double *a, sol_info *info, eddy_e
                                                        : sol_analyse(s, info, err);
     if (st != EDDY_OK)
         return st;
+    if (s->work == NULL) { /* the system's own workspace, on first use */
+        st = sol_work_alloc(s, &s->work, err);
+        if (st != EDDY_OK)
+            return st;
+    }
     return sol_solve_work(s, s->work, v, a, info, err);
 }
 
