@@ -33,7 +33,8 @@ enum { DG_SW = 0, DG_SE, DG_NW, DG_NE, NDIAG };
 struct sol_work {
     double *Ax;      /* matrix values in the system's fixed CSC pattern */
     double *rhs, *sol;
-    long *Wi;        /* UMFPACK solve workspaces */
+    long *Wi;        /* UMFPACK solve workspaces: n of Wi; 3n of W (wsolve without
+                      * refinement uses n, sol_umf_solve's residual and row sums 2n) */
     double *W;
     /* Newton-Raphson (systems with saturable cells only, else NULL): the
      * iterate, the step, the residual, a trial iterate (n each), and per

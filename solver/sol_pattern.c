@@ -52,7 +52,7 @@ eddy_status sol_work_alloc(const sol_system *s, sol_work **out, eddy_error *err)
     w->rhs = malloc((size_t)n * sizeof *w->rhs);
     w->sol = malloc((size_t)n * sizeof *w->sol);
     w->Wi = malloc((size_t)n * sizeof *w->Wi);
-    w->W = malloc((size_t)n * 5 * sizeof *w->W);
+    w->W = malloc((size_t)n * 3 * sizeof *w->W);
     if (!w->Ax || !w->rhs || !w->sol || !w->Wi || !w->W) {
         sol_work_free(w);
         return EDDY_RAISE(err, EDDY_ERR_NOMEM, "out of memory for the workspace of %ld unknowns",

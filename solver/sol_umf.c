@@ -332,7 +332,7 @@ eddy_status sol_umf_solve(const sol_system *s, sol_work *w, void *numeric, const
     if (st != EDDY_OK)
         return st;
     long n = s->n;
-    double *r = w->W + n, *rowsum = w->W + 2 * n; /* W holds 5n */
+    double *r = w->W + n, *rowsum = w->W + 2 * n; /* W holds 3n */
     for (long i = 0; i < n; i++) {
         r[i] = b[i];
         rowsum[i] = 0.0;
