@@ -500,8 +500,7 @@ static eddy_status static_field(app_report *r, sol_system *sys, const mesh_grid 
         /* a workspace of its own, freed at once: the system's (sol_solve)
          * would stay alive beside the speeds' workspaces and LU (110 MB at
          * 1.06M unknowns) */
-        s = sol_uses_cholesky(sys) ? sol_analyse_static(sys, &info, err)
-                                   : sol_analyse(sys, &info, err);
+        s = sol_analyse_for_speed(sys, 0.0, &info, err);
         sol_work *w0 = NULL;
         if (s == EDDY_OK)
             s = sol_work_alloc(sys, &w0, err);

@@ -207,6 +207,12 @@ int sol_uses_cholesky(const sol_system *s);
  */
 eddy_status sol_analyse_static(sol_system *s, sol_info *info, eddy_error *err);
 
+/* The analysis a solve of s at speed v (m/s) uses: sol_analyse_static at
+ * v = 0 when sol_uses_cholesky(s), sol_analyse otherwise (what sol_solve
+ * runs first; call it before sol_solve_work with a workspace of one's own).
+ * info and returns as those two. */
+eddy_status sol_analyse_for_speed(sol_system *s, double v, sol_info *info, eddy_error *err);
+
 /*
  * Solve at speed v (m/s; moving regions move at +v along x) with the
  * reluctivities of the grid (the initial permeability of saturable cells:

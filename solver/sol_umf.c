@@ -435,10 +435,15 @@ eddy_status sol_solve_work_nu(const sol_system *s, sol_work *w, double v, const 
     return sol_scatter_solution(s, w->sol, a, err);
 }
 
+eddy_status sol_analyse_for_speed(sol_system *s, double v, sol_info *info, eddy_error *err)
+{
+    return v == 0.0 && sol_uses_cholesky(s) ? sol_analyse_static(s, info, err)
+                                            : sol_analyse(s, info, err);
+}
+
 eddy_status sol_solve(sol_system *s, double v, double *a, sol_info *info, eddy_error *err)
 {
-    eddy_status st = v == 0.0 && sol_uses_cholesky(s) ? sol_analyse_static(s, info, err)
-                                                       : sol_analyse(s, info, err);
+    eddy_status st = sol_analyse_for_speed(s, v, info, err);
     if (st != EDDY_OK)
         return st;
     if (s->work == NULL) { /* the system's own workspace, on first use */
