@@ -372,6 +372,15 @@ static void ink_flux_lines(unsigned char *data, int stride, int pw, int ph, cons
     }
 }
 
+/* The node field f (nx per row) interpolated bilinearly in cell (i, j) at
+ * the fractions tx, ty of its width and height. */
+static double bilinear(const double *f, int nx, int i, int j, double tx, double ty)
+{
+    size_t k = (size_t)i + (size_t)nx * j;
+    return (1.0 - ty) * ((1.0 - tx) * f[k] + tx * f[k + 1]) +
+           ty * ((1.0 - tx) * f[k + nx] + tx * f[k + nx + 1]);
+}
+
 /* Sample t = (A - amin) / dA at the pixel centres (cells ix, iy and
  * fractions fx, fy of paint_field; NAN outside the grid) and ink the n
  * lines into the map's pixels. */
@@ -403,11 +412,7 @@ static eddy_status flux_lines(const map_layout *L, int nx, int ny, const double 
                 *out = NAN;
                 continue;
             }
-            size_t k = (size_t)i + (size_t)nx * j;
-            double tx = fx[c];
-            double v = (1.0 - ty) * ((1.0 - tx) * a[k] + tx * a[k + 1]) +
-                       ty * ((1.0 - tx) * a[k + nx] + tx * a[k + nx + 1]);
-            *out = (float)((v - amin) / da);
+            *out = (float)((bilinear(a, nx, i, j, fx[c], ty) - amin) / da);
         }
     }
     ink_flux_lines(data, stride, pw, ph, t, n, fmax(1.0, 0.9 * L->s));
@@ -467,10 +472,7 @@ static eddy_status paint_field(cairo_t *cr, const map_layout *L, int nx, int ny,
             }
             double v = 0.0;
             if (mask == NULL || mask[i + (size_t)(nx - 1) * j] != 0) {
-                size_t k = (size_t)i + (size_t)nx * j;
-                double tx = fx[c];
-                v = (1.0 - ty) * ((1.0 - tx) * field[k] + tx * field[k + 1]) +
-                    ty * ((1.0 - tx) * field[k + nx] + tx * field[k + nx + 1]);
+                v = bilinear(field, nx, i, j, fx[c], ty);
             }
             row[c] = post_cmap_lut_pick(lut, (v - lo) / span);
         }
