@@ -319,7 +319,6 @@ eddy_status post_map_geometry(int nx, int ny, const double *x, const double *y,
     return st;
 }
 
-/* Paint the resampled field into a pw x ph surface. */
 /*
  * Flux lines: the contours A = amin + k (amax - amin) / (n + 1), k = 1..n,
  * drawn into the map's pixels.  With t = (A - amin) / dA sampled at every
@@ -420,8 +419,8 @@ static eddy_status flux_lines(const map_layout *L, int nx, int ny, const double 
     return EDDY_OK;
 }
 
-/* The field's colours, and with a_nodes the flux lines (n_lines of them,
- * ink_flux_lines), into the plot area. */
+/* Paint the resampled field into a pw x ph surface placed on the plot
+ * area, with a_nodes the flux lines too (n_lines of them, ink_flux_lines). */
 static eddy_status paint_field(cairo_t *cr, const map_layout *L, int nx, int ny, const double *x,
                                const double *y, const double *field, const unsigned char *mask,
                                int diverging, const double *a_nodes, int n_lines,
