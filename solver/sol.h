@@ -42,11 +42,11 @@ typedef enum {
 } sol_ordering;
 
 /* The default of a new system, and the runner's (app_run.c) for one speed
- * and for sweeps: on this project's matrices the grid's ordering fills about
- * as little as METIS, the least of UMFPACK's orderings, and analyses 2.5
- * times faster (make bench, README: LU entries 1.07 / 0.98 / 0.97 of
- * METIS's at 56k / 0.23M / 1.06M unknowns, 1.02 of SuperLU's least at
- * 1.06M; analysis 2.2 s against 5.5 s there). */
+ * and for sweeps: on this project's matrices the grid's ordering fills
+ * within 1.2 of SuperLU's least fill and less than METIS from 0.23M unknowns
+ * on, and analyses 3 to 6 times faster than METIS (make bench, README: LU
+ * entries 1.14 / 0.66 / 0.98 of SuperLU's least at 56k / 0.23M / 1.06M
+ * unknowns; analysis 1.92 s against METIS's 5.50 s at 1.06M). */
 #define SOL_ORDER_DEFAULT SOL_ORDER_GRID_ND
 
 /* Statistics of the last call (all times in seconds, wall clock). */
